@@ -1,0 +1,179 @@
+/**
+ * Shared shapes of the pure reader layer: every reader turns the bytes of one file into named
+ * tensors over typed arrays. Nothing here touches the file system or an editor API.
+ */
+
+/** Element type as written in the file. Reported to the user as-is. */
+export type DType =
+  | 'bool'
+  | 'int8' | 'int16' | 'int32' | 'int64'
+  | 'uint8' | 'uint16' | 'uint32' | 'uint64'
+  | 'float16' | 'bfloat16' | 'float32' | 'float64'
+  | 'bytes' | 'str';
+
+/**
+ * In-memory element storage. Readers normalise what the file holds:
+ * - bool → Uint8Array (0/1)
+ * - int64/uint64 → Int32Array when every value fits in int32, otherwise Float64Array
+ *   (exact up to 2^53; larger values are far beyond any node count anyway)
+ * - float16/bfloat16 → Float32Array
+ * - big-endian data is byte-swapped into native order
+ */
+export type TensorData =
+  | Uint8Array | Int8Array | Int16Array | Uint16Array | Int32Array | Uint32Array
+  | Float32Array | Float64Array;
+
+export type Role =
+  | 'edge-index' | 'adjacency' | 'features' | 'labels' | 'mask'
+  | 'edge-weight' | 'edge-features' | 'unknown';
+
+/** Maps a flat element index of a tensor back to where its text sits in the file (1-based). */
+export interface TextLocator {
+  locate(flatIndex: number): TextSpan | undefined;
+}
+
+export interface TextSpan {
+  line: number;     // 1-based
+  column: number;   // 1-based, in characters of the line
+  length: number;   // characters
+}
+
+export interface DenseTensor {
+  kind: 'dense';
+  name: string;
+  dtype: DType;
+  shape: number[];
+  /** C (row-major) order, whatever order the file used. */
+  data: TensorData;
+  /** For 'bytes'/'str' dtypes: the decoded strings, C order. `data` is then empty. */
+  strings?: string[];
+  /** Present for text formats. */
+  locator?: TextLocator;
+  /** Role stated by the container (e.g. the Matrix Market banner); otherwise inferred later. */
+  declaredRole?: Role;
+}
+
+/**
+ * A sparse matrix in coordinate form (Matrix Market, scipy.sparse .npz). Entries are 0-based,
+ * already expanded when the file stores one triangle only. Explicitly stored zeros stay here;
+ * the graph layer decides what they mean.
+ */
+export interface SparseTensor {
+  kind: 'sparse';
+  name: string;
+  dtype: DType;
+  shape: [number, number];
+  row: Int32Array;
+  col: Int32Array;
+  /** Absent for pattern matrices (every stored entry is 1). */
+  values?: Float64Array | Float32Array | Int32Array;
+  /** Storage layout the file used (csr, csc, coo, bsr, dia, coordinate, array). */
+  layout: string;
+  locator?: TextLocator;
+  declaredRole?: Role;
+}
+
+export type Tensor = DenseTensor | SparseTensor;
+
+export type Format = 'npy' | 'npz' | 'sparse-npz' | 'pt' | 'safetensors' | 'edgelist' | 'mtx' | 'json';
+
+export type Severity = 'error' | 'warning' | 'info';
+
+export type ProblemCode =
+  | 'unreadable'
+  | 'edge-shape'
+  | 'transposed-edge-index'
+  | 'non-integer-index'
+  | 'index-out-of-range'
+  | 'one-based-index'
+  | 'feature-rows-mismatch'
+  | 'label-length-mismatch'
+  | 'mask-length-mismatch'
+  | 'edge-features-rows-mismatch'
+  | 'not-square'
+  | 'asymmetric-adjacency'
+  | 'self-loops'
+  | 'duplicate-edges'
+  | 'isolated-nodes'
+  | 'non-finite-features'
+  | 'mask-overlap'
+  | 'label-range'
+  | 'empty-graph';
+
+/** One place a problem shows up. Text formats fill line/column; binary ones tensor/index. */
+export interface ProblemLocation {
+  line?: number;
+  column?: number;
+  length?: number;
+  tensor?: string;
+  /** Flat (C-order) element index in `tensor`. */
+  index?: number;
+  /** A short phrase about this occurrence, e.g. "edge 17: 3 → 40". */
+  detail?: string;
+}
+
+export interface Problem {
+  code: ProblemCode;
+  severity: Severity;
+  message: string;
+  tensor?: string;
+  /** How many offending items there are in all. */
+  count: number;
+  /** First offending place (text formats), 1-based. */
+  line?: number;
+  column?: number;
+  /** The first few offending places (at most MAX_LOCATIONS). */
+  locations?: ProblemLocation[];
+}
+
+export const MAX_LOCATIONS = 200;
+
+/** Facts a container states about the graph it holds (e.g. the Matrix Market size line). */
+export interface GraphHints {
+  nodes?: number;
+  directed?: boolean;
+  indexBase?: 0 | 1;
+}
+
+export interface ReadResult {
+  format: Format;
+  tensors: Tensor[];
+  /** Problems found while reading that are about the data, not about readability (e.g. a non-integer id). */
+  problems: Problem[];
+  hints?: GraphHints;
+}
+
+/** Limits every reader honours, so a hostile header cannot make us allocate without bound. */
+export interface ReadLimits {
+  /** Largest total size of decompressed members or streams, bytes. */
+  maxDecompressedBytes: number;
+  /** Largest JSON/text header a binary format may declare, bytes. */
+  maxHeaderBytes: number;
+}
+
+export const DEFAULT_LIMITS: ReadLimits = {
+  maxDecompressedBytes: 4 * 1024 ** 3,
+  maxHeaderBytes: 100 * 1024 * 1024,
+};
+
+/**
+ * The only error a reader may throw for bad input. It becomes an `unreadable` problem.
+ * `offset` is a byte offset, `line` a 1-based line, when they are known.
+ */
+export class UnreadableError extends Error {
+  override readonly name = 'UnreadableError';
+  constructor(
+    message: string,
+    readonly offset?: number,
+    readonly line?: number,
+  ) {
+    super(message);
+  }
+}
+
+/** Element count of a shape; () has one element. */
+export function numel(shape: readonly number[]): number {
+  let n = 1;
+  for (const d of shape) n *= d;
+  return n;
+}
