@@ -1,0 +1,29 @@
+// Bundles the four entry points into dist/: extension host (cjs), language server (cjs),
+// command line (cjs with a shebang) and webview (browser iife). Type checking is `npm run typecheck`.
+import * as esbuild from 'esbuild';
+import { existsSync } from 'node:fs';
+
+const production = process.argv.includes('--production');
+const watch = process.argv.includes('--watch');
+
+const common = {
+  bundle: true,
+  sourcemap: !production,
+  minify: production,
+  logLevel: 'warning',
+  target: 'node20',
+};
+
+const entries = [
+  { ...common, entryPoints: ['extension/src/extension.ts'], outfile: 'dist/extension.js', platform: 'node', format: 'cjs', external: ['vscode'] },
+  { ...common, entryPoints: ['server/src/lsp/server.ts'], outfile: 'dist/server.js', platform: 'node', format: 'cjs' },
+  { ...common, entryPoints: ['server/src/node/worker.ts'], outfile: 'dist/worker.js', platform: 'node', format: 'cjs' },
+  { ...common, entryPoints: ['server/src/cli.ts'], outfile: 'dist/cli.js', platform: 'node', format: 'cjs', banner: { js: '#!/usr/bin/env node' } },
+  { ...common, entryPoints: ['webview/src/viewer.ts'], outfile: 'dist/webview/viewer.js', platform: 'browser', format: 'iife', target: 'es2022' },
+].filter((e) => existsSync(e.entryPoints[0]));
+
+if (watch) {
+  for (const e of entries) (await esbuild.context(e)).watch();
+} else {
+  await Promise.all(entries.map((e) => esbuild.build(e)));
+}

@@ -1,0 +1,285 @@
+/**
+ * Checks a set of already-read files: forms graphs (manifest graphs, containers, sibling files in
+ * one folder), runs the graph checks, and returns one report per file. Pure: paths are plain
+ * strings, reading happens in server/src/node.
+ */
+import type { Format, Problem, ProblemCode, ReadResult, Severity, Tensor } from '../formats/types';
+import { CODES } from './codes';
+import { checkGraph, type GraphCheck, type GraphFigures, type GraphOptions, type GraphPart } from './graph-check';
+import type { Manifest, SeverityOverrides } from './manifest';
+import { guessRole, type RoleGuess } from './roles';
+import { tensorStats } from './stats';
+import { timed } from '../timing';
+
+export interface LoadedFile {
+  path: string;
+  format: Format;
+  result?: ReadResult;
+  /** Why the file could not be read. */
+  error?: { message: string; line?: number; offset?: number };
+}
+
+export interface LoadedManifest {
+  path: string;
+  manifest?: Manifest;
+  error?: string;
+}
+
+export interface TensorReport {
+  name: string;
+  dtype: string;
+  shape: number[];
+  role: string;
+  min: number | null;
+  max: number | null;
+  sum: number | null;
+  nonFinite: number;
+}
+
+export interface FileReport {
+  path: string;
+  format: Format;
+  tensors: TensorReport[];
+  graph: GraphFigures | null;
+  problems: Problem[];
+}
+
+export interface CheckSetResult {
+  files: FileReport[];
+  /** Every graph checked, with the files it was made of (for hovers, panels and analyses). */
+  graphs: Array<{ name: string; files: string[]; check: GraphCheck }>;
+  /** Problems in manifests themselves (shown on the manifest file). */
+  manifestProblems: Array<{ path: string; problem: Problem }>;
+}
+
+export interface CheckSetOptions extends GraphOptions {
+  severity?: SeverityOverrides;
+}
+
+export function dirOf(p: string): string {
+  const i = Math.max(p.lastIndexOf('/'), p.lastIndexOf('\\'));
+  return i < 0 ? '.' : i === 0 ? p.slice(0, 1) : p.slice(0, i);
+}
+
+export function baseOf(p: string): string {
+  return p.slice(Math.max(p.lastIndexOf('/'), p.lastIndexOf('\\')) + 1);
+}
+
+/** Joins a manifest-relative path to the manifest's folder, normalising `.` and `..`. */
+export function resolveRelative(dir: string, rel: string): string {
+  if (rel.startsWith('/') || /^[A-Za-z]:[\\/]/.test(rel)) return normalise(rel);
+  return normalise(`${dir}/${rel}`);
+}
+
+export function normalise(p: string): string {
+  const abs = p.startsWith('/');
+  const out: string[] = [];
+  for (const seg of p.replace(/\\/g, '/').split('/')) {
+    if (seg === '' || seg === '.') continue;
+    if (seg === '..' && out.length && out[out.length - 1] !== '..') out.pop();
+    else out.push(seg);
+  }
+  const s = out.join('/');
+  return abs ? `/${s}` : s || '.';
+}
+
+function isUnder(path: string, dir: string): boolean {
+  const d = normalise(dir);
+  return d === '.' ? !path.startsWith('/') && !path.startsWith('..') : normalise(path).startsWith(d.endsWith('/') ? d : d + '/');
+}
+
+/** Stem used to group sibling files: `docks_edge_index.npy` and `docks_x.npy` share `docks_`. */
+function stemPrefix(file: string, tensorName: string): string {
+  const stem = baseOf(file).replace(/\.[^.]*(\.gz)?$/, '').toLowerCase();
+  const seg = tensorName.toLowerCase();
+  return stem.endsWith(seg) ? stem.slice(0, stem.length - seg.length) : '';
+}
+
+export function checkSet(files: LoadedFile[], manifests: LoadedManifest[], cli: CheckSetOptions = {}): CheckSetResult {
+  const byPath = new Map(files.map((f) => [normalise(f.path), f]));
+  const reports = new Map<string, FileReport>();
+  const guesses = new Map<Tensor, RoleGuess>();
+  const guess = (t: Tensor) => {
+    let g = guesses.get(t);
+    if (!g) { g = guessRole(t); guesses.set(t, g); }
+    return g;
+  };
+
+  for (const f of files) {
+    const r: FileReport = { path: f.path, format: f.result?.format ?? f.format, tensors: [], graph: null, problems: [] };
+    if (f.error) {
+      r.problems.push({
+        code: 'unreadable', severity: 'error', count: 1,
+        message: `Cannot read ${baseOf(f.path)}: ${f.error.message}`,
+        ...(f.error.line !== undefined ? { line: f.error.line, column: 1 } : {}),
+      });
+    }
+    reports.set(normalise(f.path), r);
+  }
+
+  const manifestProblems: CheckSetResult['manifestProblems'] = [];
+  const claimed = new Set<string>();
+  const graphs: CheckSetResult['graphs'] = [];
+  const roleOverride = new Map<Tensor, RoleGuess>();
+
+  // Manifests closer to a file win: sort by depth, deepest first, when looking up defaults.
+  const goodManifests = manifests
+    .filter((m): m is LoadedManifest & { manifest: Manifest } => {
+      if (m.error) {
+        manifestProblems.push({ path: m.path, problem: { code: 'unreadable', severity: 'error', count: 1, message: m.error } });
+        return false;
+      }
+      return m.manifest !== undefined;
+    })
+    .sort((a, b) => normalise(b.path).split('/').length - normalise(a.path).split('/').length);
+  const defaultsFor = (path: string): { options: GraphOptions; severity: SeverityOverrides } => {
+    const options: GraphOptions = {};
+    const severity: SeverityOverrides = {};
+    for (const m of [...goodManifests].reverse()) { // shallow first, deeper ones override
+      if (isUnder(path, dirOf(m.path))) {
+        Object.assign(options, m.manifest.defaults);
+        Object.assign(severity, m.manifest.severity);
+      }
+    }
+    return { options, severity };
+  };
+
+  const run = (name: string, parts: GraphPart[], options: GraphOptions, severity: SeverityOverrides) => {
+    const merged: GraphOptions = { ...options, ...definedOnly(cli) };
+    const check = timed('checks', () => checkGraph(parts, merged));
+    const fileSet = [...new Set(parts.map((p) => p.file))];
+    graphs.push({ name, files: fileSet, check });
+    const sev = { ...severity, ...(cli.severity ?? {}) };
+    for (const { file, problem } of check.problems) {
+      const r = reports.get(normalise(file));
+      const p = applySeverity(problem, sev);
+      if (r && p) r.problems.push(p);
+    }
+    if (check.structureFile && check.figures) {
+      const r = reports.get(normalise(check.structureFile));
+      if (r && !r.graph) r.graph = check.figures;
+    }
+  };
+
+  // 1. Graphs declared in manifests.
+  for (const m of goodManifests) {
+    const dir = dirOf(m.path);
+    for (const g of m.manifest.graphs) {
+      const parts: GraphPart[] = [];
+      let missing = false;
+      for (const ref of g.parts) {
+        const path = resolveRelative(dir, ref.file);
+        const f = byPath.get(path);
+        if (!f) {
+          manifestProblems.push({ path: m.path, problem: { code: 'unreadable', severity: 'error', count: 1,
+            message: `Graph "${g.name}": ${ref.file} was not found or is not a supported graph file.` } });
+          missing = true;
+          continue;
+        }
+        if (!f.result) { missing = true; continue; }
+        const tensors = ref.tensor === undefined ? f.result.tensors : f.result.tensors.filter((t) => t.name === ref.tensor);
+        if (ref.tensor !== undefined && tensors.length === 0) {
+          manifestProblems.push({ path: m.path, problem: { code: 'unreadable', severity: 'error', count: 1,
+            message: `Graph "${g.name}": ${ref.file} has no tensor "${ref.tensor}" (it has ${f.result.tensors.map((t) => t.name).join(', ') || 'none'}).` } });
+          missing = true;
+          continue;
+        }
+        // With a whole container referenced for one role, pick the tensor that fits that role.
+        const pick = tensors.length === 1 ? tensors : tensors.filter((t) => guess(t).role === ref.role).slice(0, 1);
+        for (const t of pick.length ? pick : tensors.slice(0, 1)) {
+          const gs: RoleGuess = { ...guess(t), role: ref.role, reason: 'declared', ...(ref.split ? { split: ref.split } : {}) };
+          roleOverride.set(t, gs);
+          parts.push({ file: f.path, tensor: t, guess: gs, ...(f.result.hints ? { hints: f.result.hints } : {}) });
+        }
+        claimed.add(path);
+      }
+      if (parts.length && !(missing && !parts.some((p) => p.guess.role === 'edge-index' || p.guess.role === 'adjacency'))) {
+        const d = defaultsFor(m.path);
+        run(g.name, parts, { ...d.options, ...g.options }, d.severity);
+      }
+    }
+  }
+
+  // 2. Everything else: containers and sibling groups, folder by folder.
+  const byDir = new Map<string, LoadedFile[]>();
+  for (const f of files) {
+    if (!f.result || claimed.has(normalise(f.path))) continue;
+    const d = dirOf(normalise(f.path));
+    if (!byDir.has(d)) byDir.set(d, []);
+    byDir.get(d)!.push(f);
+  }
+  const partsOf = (f: LoadedFile): GraphPart[] =>
+    f.result!.tensors.map((t) => ({ file: f.path, tensor: t, guess: guess(t), ...(f.result!.hints ? { hints: f.result!.hints } : {}) }));
+  const isStructure = (p: GraphPart) => p.guess.role === 'edge-index' || p.guess.role === 'adjacency';
+
+  for (const [, dirFiles] of [...byDir].sort(([a], [b]) => (a < b ? -1 : 1))) {
+    dirFiles.sort((a, b) => (a.path < b.path ? -1 : 1));
+    const structureFiles = dirFiles.filter((f) => partsOf(f).some(isStructure));
+    const loose = dirFiles.filter((f) => !structureFiles.includes(f));
+    const used = new Set<LoadedFile>();
+    // Loose per-node/per-edge files join a structure file when they share its name prefix
+    // (`docks_x.npy` with `docks_edge_index.npy`), or when the folder holds a single structure file.
+    for (const sf of structureFiles) {
+      const sParts = partsOf(sf);
+      const structure = sParts.find(isStructure)!;
+      const prefix = stemPrefix(sf.path, structure.tensor.name);
+      const joined = loose.filter((lf) => {
+        if (used.has(lf)) return false;
+        const lp = partsOf(lf);
+        if (lp.every((p) => p.guess.role === 'unknown')) return false;
+        if (structureFiles.length === 1) return true;
+        return prefix !== '' && lp.some((p) => stemPrefix(lf.path, p.tensor.name) === prefix);
+      });
+      joined.forEach((f) => used.add(f));
+      const parts = [...sParts, ...joined.flatMap(partsOf)];
+      const d = defaultsFor(sf.path);
+      run(baseOf(sf.path), parts, d.options, d.severity);
+    }
+    for (const lf of loose) {
+      if (used.has(lf)) continue;
+      const d = defaultsFor(lf.path);
+      run(baseOf(lf.path), partsOf(lf), d.options, d.severity);
+    }
+  }
+
+  // 3. Tensor tables.
+  for (const f of files) {
+    const r = reports.get(normalise(f.path))!;
+    for (const t of f.result?.tensors ?? []) {
+      const g = roleOverride.get(t) ?? guess(t);
+      r.tensors.push({ name: t.name, dtype: t.dtype, shape: [...t.shape], role: g.role, ...tensorStats(t) });
+    }
+    // Reader problems (e.g. a non-integer id on one line) honour overrides too.
+    const sev = { ...defaultsFor(f.path).severity, ...(cli.severity ?? {}) };
+    for (const p of f.result?.problems ?? []) {
+      const q = applySeverity(p, sev);
+      if (q) r.problems.push(q);
+    }
+    r.problems.sort(byImportance);
+  }
+
+  return { files: files.map((f) => reports.get(normalise(f.path))!), graphs, manifestProblems };
+}
+
+function applySeverity(p: Problem, overrides: SeverityOverrides): Problem | undefined {
+  const o = overrides[p.code];
+  if (o === 'off') return undefined;
+  return o ? { ...p, severity: o } : p;
+}
+
+const RANK: Record<Severity, number> = { error: 0, warning: 1, info: 2 };
+const CODE_ORDER = Object.keys(CODES) as ProblemCode[];
+
+function byImportance(a: Problem, b: Problem): number {
+  return RANK[a.severity] - RANK[b.severity] || CODE_ORDER.indexOf(a.code) - CODE_ORDER.indexOf(b.code);
+}
+
+function definedOnly(o: CheckSetOptions): GraphOptions {
+  const out: GraphOptions = {};
+  if (o.directed !== undefined) out.directed = o.directed;
+  if (o.nodes !== undefined) out.nodes = o.nodes;
+  if (o.indexBase !== undefined) out.indexBase = o.indexBase;
+  if (o.selfLoops !== undefined) out.selfLoops = o.selfLoops;
+  if (o.flow !== undefined) out.flow = o.flow;
+  return out;
+}

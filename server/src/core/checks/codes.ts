@@ -1,0 +1,45 @@
+/**
+ * The stable problem codes, their default severities and one-line explanations. The README's
+ * problem table is checked against this list by a unit test.
+ */
+import type { ProblemCode, Severity } from '../formats/types';
+
+export interface CodeInfo {
+  severity: Severity;
+  summary: string;
+}
+
+export const CODES: Readonly<Record<ProblemCode, CodeInfo>> = {
+  'unreadable': { severity: 'error', summary: 'The file cannot be read at all; the message says why.' },
+  'edge-shape': { severity: 'error', summary: 'An edge index that is neither 2 x E nor E x 2, or an edge-list line without two ids.' },
+  'transposed-edge-index': { severity: 'warning', summary: 'The edge index is stored E x 2; message-passing code expects 2 x E.' },
+  'non-integer-index': { severity: 'error', summary: 'Node ids that are not integers (float dtype with fractions, text that is not a number).' },
+  'index-out-of-range': { severity: 'error', summary: 'A node id below 0 or at/above the node count.' },
+  'one-based-index': { severity: 'warning', summary: 'Ids look 1-based: no id 0 and the largest id equals the node count.' },
+  'feature-rows-mismatch': { severity: 'error', summary: 'The feature matrix does not have one row per node.' },
+  'label-length-mismatch': { severity: 'error', summary: 'The label vector does not have one entry per node.' },
+  'mask-length-mismatch': { severity: 'error', summary: 'A boolean split mask does not have one entry per node.' },
+  'edge-features-rows-mismatch': { severity: 'error', summary: 'Edge weights or edge features do not have one row per edge entry.' },
+  'not-square': { severity: 'error', summary: 'An adjacency matrix that is not N x N.' },
+  'asymmetric-adjacency': { severity: 'warning', summary: 'Edges whose reverse is missing in a graph that is (or looks) undirected; an error when declared undirected.' },
+  'self-loops': { severity: 'info', summary: 'Edges from a node to itself; a warning when the graph declares them forbidden.' },
+  'duplicate-edges': { severity: 'warning', summary: 'The same (source, target) pair stored more than once.' },
+  'isolated-nodes': { severity: 'info', summary: 'Nodes with no edge other than self-loops: they only ever see their own features.' },
+  'non-finite-features': { severity: 'error', summary: 'NaN or infinite values in features, edge weights or edge features.' },
+  'mask-overlap': { severity: 'error', summary: 'A node in more than one of the train/validation/test splits.' },
+  'label-range': { severity: 'warning', summary: 'Labels that are negative, fractional, or skip class ids.' },
+  'empty-graph': { severity: 'warning', summary: 'A graph with no nodes or no edges.' },
+};
+
+export const ALL_CODES = Object.keys(CODES) as ProblemCode[];
+
+const SEVERITY_RANK: Record<Severity, number> = { info: 0, warning: 1, error: 2 };
+
+export function severityAtLeast(s: Severity, threshold: Severity): boolean {
+  return SEVERITY_RANK[s] >= SEVERITY_RANK[threshold];
+}
+
+/** Anchor of a code in the README problem table (GitHub-style heading-less anchor we write ourselves). */
+export function codeAnchor(code: ProblemCode): string {
+  return `problem-${code}`;
+}

@@ -1,0 +1,150 @@
+/**
+ * The `hopscope.json` manifest: which files/tensors form one graph, and what the user declares
+ * about it. Schema: schemas/hopscope.schema.json (kept in step by a unit test).
+ *
+ * {
+ *   "directed": false,                    // defaults for every graph in this folder and below
+ *   "severity": { "self-loops": "off" },  // per-code severity overrides
+ *   "graphs": [ {
+ *     "name": "docks",
+ *     "edges": "rides.csv",               // or "adjacency": "docks.mtx"; "file#tensor" picks one tensor
+ *     "features": "x.npy", "labels": "y.npy",
+ *     "splits": { "train": "splits.npz#train", "val": "splits.npz#val", "test": "splits.npz#test" },
+ *     "edgeWeights": "...", "edgeFeatures": "...",
+ *     "nodes": 120, "indexBase": 0, "selfLoops": "forbidden", "flow": "source-to-target"
+ *   } ]
+ * }
+ */
+import type { ProblemCode, Role, Severity } from '../formats/types';
+import { ALL_CODES } from './codes';
+import type { Flow, GraphOptions, SelfLoopPolicy } from './graph-check';
+import type { Split } from './roles';
+
+export type SeverityOverride = Severity | 'off';
+export type SeverityOverrides = Partial<Record<ProblemCode, SeverityOverride>>;
+
+export interface TensorRef {
+  /** Path as written, resolved against the manifest's folder by the caller. */
+  file: string;
+  tensor?: string;
+  role: Role;
+  split?: Split;
+}
+
+export interface ManifestGraph {
+  name: string;
+  parts: TensorRef[];
+  options: GraphOptions;
+}
+
+export interface Manifest {
+  defaults: GraphOptions;
+  severity: SeverityOverrides;
+  graphs: ManifestGraph[];
+}
+
+export class ManifestError extends Error {
+  override readonly name = 'ManifestError';
+}
+
+const OPTION_KEYS = ['directed', 'nodes', 'indexBase', 'selfLoops', 'flow'] as const;
+const GRAPH_KEYS = new Set<string>(['name', 'edges', 'adjacency', 'features', 'labels', 'splits',
+  'edgeWeights', 'edgeFeatures', ...OPTION_KEYS]);
+const TOP_KEYS = new Set<string>(['$schema', 'graphs', 'severity', ...OPTION_KEYS]);
+const PART_ROLES: ReadonlyArray<[string, Role]> = [
+  ['edges', 'edge-index'], ['adjacency', 'adjacency'], ['features', 'features'], ['labels', 'labels'],
+  ['edgeWeights', 'edge-weight'], ['edgeFeatures', 'edge-features'],
+];
+const SPLITS: readonly Split[] = ['train', 'val', 'test'];
+
+/** Parses manifest text. Throws ManifestError with a message naming the offending key. */
+export function parseManifest(text: string): Manifest {
+  let raw: unknown;
+  try {
+    raw = JSON.parse(text);
+  } catch (e) {
+    throw new ManifestError(`hopscope.json is not valid JSON: ${(e as Error).message}`);
+  }
+  if (!isObject(raw)) throw new ManifestError('hopscope.json must hold a JSON object.');
+  for (const k of Object.keys(raw)) if (!TOP_KEYS.has(k)) throw new ManifestError(`unknown key "${k}" at the top level (expected one of ${[...TOP_KEYS].join(', ')}).`);
+  const defaults = parseOptions(raw, '');
+  const severity: SeverityOverrides = {};
+  if (raw.severity !== undefined) {
+    if (!isObject(raw.severity)) throw new ManifestError('"severity" must map problem codes to "error", "warning", "info" or "off".');
+    for (const [code, v] of Object.entries(raw.severity)) {
+      if (!(ALL_CODES as string[]).includes(code)) throw new ManifestError(`"severity": unknown problem code "${code}".`);
+      if (v !== 'error' && v !== 'warning' && v !== 'info' && v !== 'off') throw new ManifestError(`"severity.${code}" must be "error", "warning", "info" or "off".`);
+      severity[code as ProblemCode] = v;
+    }
+  }
+  const graphs: ManifestGraph[] = [];
+  if (raw.graphs !== undefined) {
+    if (!Array.isArray(raw.graphs)) throw new ManifestError('"graphs" must be an array.');
+    raw.graphs.forEach((g, i) => graphs.push(parseGraph(g, i)));
+  }
+  return { defaults, severity, graphs };
+}
+
+function parseGraph(g: unknown, i: number): ManifestGraph {
+  const at = `graphs[${i}]`;
+  if (!isObject(g)) throw new ManifestError(`${at} must be an object.`);
+  for (const k of Object.keys(g)) if (!GRAPH_KEYS.has(k)) throw new ManifestError(`${at}: unknown key "${k}".`);
+  const name = g.name === undefined ? `graph ${i + 1}` : g.name;
+  if (typeof name !== 'string') throw new ManifestError(`${at}.name must be a string.`);
+  const parts: TensorRef[] = [];
+  for (const [key, role] of PART_ROLES) {
+    if (g[key] !== undefined) parts.push({ ...parseRef(g[key], `${at}.${key}`), role });
+  }
+  if (g.splits !== undefined) {
+    if (!isObject(g.splits)) throw new ManifestError(`${at}.splits must be an object with train/val/test.`);
+    for (const [k, v] of Object.entries(g.splits)) {
+      if (!(SPLITS as string[]).includes(k)) throw new ManifestError(`${at}.splits: unknown split "${k}" (train, val, test).`);
+      parts.push({ ...parseRef(v, `${at}.splits.${k}`), role: 'mask', split: k as Split });
+    }
+  }
+  if (!parts.some((p) => p.role === 'edge-index' || p.role === 'adjacency')) {
+    throw new ManifestError(`${at} needs "edges" or "adjacency".`);
+  }
+  return { name, parts, options: parseOptions(g, `${at}.`) };
+}
+
+function parseRef(v: unknown, at: string): { file: string; tensor?: string } {
+  if (typeof v === 'string') {
+    if (!v) throw new ManifestError(`${at} is empty.`);
+    const hash = v.lastIndexOf('#');
+    return hash > 0 ? { file: v.slice(0, hash), tensor: v.slice(hash + 1) } : { file: v };
+  }
+  if (isObject(v) && typeof v.file === 'string' && (v.tensor === undefined || typeof v.tensor === 'string')) {
+    return v.tensor === undefined ? { file: v.file } : { file: v.file, tensor: v.tensor };
+  }
+  throw new ManifestError(`${at} must be "path", "path#tensor" or { "file": ..., "tensor": ... }.`);
+}
+
+function parseOptions(o: Record<string, unknown>, at: string): GraphOptions {
+  const opts: GraphOptions = {};
+  if (o.directed !== undefined) {
+    if (typeof o.directed !== 'boolean') throw new ManifestError(`${at}directed must be true or false.`);
+    opts.directed = o.directed;
+  }
+  if (o.nodes !== undefined) {
+    if (!Number.isInteger(o.nodes) || (o.nodes as number) < 0) throw new ManifestError(`${at}nodes must be a non-negative integer.`);
+    opts.nodes = o.nodes as number;
+  }
+  if (o.indexBase !== undefined) {
+    if (o.indexBase !== 0 && o.indexBase !== 1) throw new ManifestError(`${at}indexBase must be 0 or 1.`);
+    opts.indexBase = o.indexBase;
+  }
+  if (o.selfLoops !== undefined) {
+    if (o.selfLoops !== 'allowed' && o.selfLoops !== 'forbidden') throw new ManifestError(`${at}selfLoops must be "allowed" or "forbidden".`);
+    opts.selfLoops = o.selfLoops as SelfLoopPolicy;
+  }
+  if (o.flow !== undefined) {
+    if (o.flow !== 'source-to-target' && o.flow !== 'target-to-source') throw new ManifestError(`${at}flow must be "source-to-target" or "target-to-source".`);
+    opts.flow = o.flow as Flow;
+  }
+  return opts;
+}
+
+function isObject(v: unknown): v is Record<string, unknown> {
+  return typeof v === 'object' && v !== null && !Array.isArray(v);
+}

@@ -1,0 +1,156 @@
+/**
+ * Whole-graph figures of a directed edge list: self-loops, duplicates, asymmetric pairs, isolated
+ * nodes, weakly connected components. O(N + E) time, typed arrays only.
+ */
+import { buildSortedPair, lowerBound, type Csr } from './csr';
+import { timed } from '../timing';
+
+export interface StructureFigures {
+  nodes: number;
+  /** Stored directed entries (duplicates and self-loops included). */
+  edges: number;
+  /** False iff every (u, v) with u ≠ v has (v, u). */
+  directed: boolean;
+  selfLoops: number;
+  /** Entries minus distinct (u, v) pairs. */
+  duplicateEdges: number;
+  /** Distinct (u, v), u ≠ v, whose reverse (v, u) is absent. */
+  asymmetricPairs: number;
+  /** Distinct (u, v), u ≠ v (so reciprocity = 1 − asymmetricPairs / distinctNonLoopPairs). */
+  distinctNonLoopPairs: number;
+  /** Nodes with no incident edge other than self-loops. */
+  isolatedNodes: number;
+  /** Weakly connected components over all nodes. */
+  components: number;
+}
+
+export interface Structure {
+  figures: StructureFigures;
+  /** Forward graph, rows sorted (targets of each node). */
+  fwd: Csr;
+  /** Reverse graph, rows sorted (sources of edges into each node). */
+  rev: Csr;
+}
+
+/** Ids in src/dst must already be in [0, n). */
+export function analyseStructure(n: number, src: Int32Array, dst: Int32Array): Structure {
+  const e = src.length;
+  const { fwd, rev } = timed('build', () => buildSortedPair(n, src, dst));
+
+  let selfLoops = 0;
+  for (let k = 0; k < e; k++) if (src[k] === dst[k]) selfLoops++;
+
+  let duplicates = 0;
+  let distinctNonLoop = 0;
+  let asymmetric = 0;
+  let isolated = 0;
+  const fp = fwd.indptr, fi = fwd.indices, rp = rev.indptr, ri = rev.indices;
+  for (let u = 0; u < n; u++) {
+    const fEnd = fp[u + 1]!;
+    const rEnd = rp[u + 1]!;
+    let r = rp[u]!;
+    let prev = -1;
+    let incident = false;
+    for (let p = fp[u]!; p < fEnd; p++) {
+      const v = fi[p]!;
+      if (v === prev) { duplicates++; continue; }
+      prev = v;
+      if (v === u) continue;
+      incident = true;
+      distinctNonLoop++;
+      // Is there an edge v → u, i.e. is v among the sources of edges into u? Both rows are sorted.
+      while (r < rEnd && ri[r]! < v) r++;
+      if (r >= rEnd || ri[r] !== v) asymmetric++;
+    }
+    if (!incident) {
+      // Any in-edge from another node?
+      for (let q = rp[u]!; q < rEnd; q++) {
+        if (ri[q] !== u) { incident = true; break; }
+      }
+      if (!incident) isolated++;
+    }
+  }
+
+  return {
+    fwd,
+    rev,
+    figures: {
+      nodes: n,
+      edges: e,
+      directed: asymmetric > 0,
+      selfLoops,
+      duplicateEdges: duplicates,
+      asymmetricPairs: asymmetric,
+      distinctNonLoopPairs: distinctNonLoop,
+      isolatedNodes: isolated,
+      components: countComponents(n, src, dst),
+    },
+  };
+}
+
+/** Weakly connected components by union-find with path halving and union by size. */
+export function countComponents(n: number, src: Int32Array, dst: Int32Array): number {
+  const parent = new Int32Array(n);
+  for (let i = 0; i < n; i++) parent[i] = i;
+  let components = n;
+  const e = src.length;
+  for (let k = 0; k < e; k++) {
+    let a = src[k]!;
+    let b = dst[k]!;
+    while (parent[a] !== a) { const g = parent[parent[a]!]!; parent[a] = g; a = g; }
+    while (parent[b] !== b) { const g = parent[parent[b]!]!; parent[b] = g; b = g; }
+    if (a !== b) {
+      // Link the larger id under the smaller: deterministic and, with halving, near-linear in practice.
+      if (a < b) parent[b] = a; else parent[a] = b;
+      components--;
+    }
+  }
+  return components;
+}
+
+/**
+ * Edge ids (positions in src/dst) of the first `limit` entries that repeat an earlier (u, v),
+ * in file order. Needs the sorted forward graph. O(E log d) until `limit` is reached.
+ */
+export function duplicateExamples(fwd: Csr, src: Int32Array, dst: Int32Array, limit: number): number[] {
+  const seen = new Uint8Array(fwd.indices.length);
+  const out: number[] = [];
+  for (let k = 0; k < src.length && out.length < limit; k++) {
+    const u = src[k]!;
+    const p = lowerBound(fwd.indices, fwd.indptr[u]!, fwd.indptr[u + 1]!, dst[k]!);
+    if (seen[p]) out.push(k);
+    else seen[p] = 1;
+  }
+  return out;
+}
+
+/** Edge ids of the first `limit` entries u → v (u ≠ v) whose reverse is absent, in file order. */
+export function asymmetricExamples(fwd: Csr, src: Int32Array, dst: Int32Array, limit: number): number[] {
+  const out: number[] = [];
+  const fp = fwd.indptr, fi = fwd.indices;
+  for (let k = 0; k < src.length && out.length < limit; k++) {
+    const u = src[k]!, v = dst[k]!;
+    if (u === v) continue;
+    const hi = fp[v + 1]!;
+    const p = lowerBound(fi, fp[v]!, hi, u);
+    if (p >= hi || fi[p] !== u) out.push(k);
+  }
+  return out;
+}
+
+/** Edge ids of all entries u → v (u ≠ v) whose reverse is absent: what a "add reverse edges" fix needs. */
+export function allAsymmetricEdges(fwd: Csr, src: Int32Array, dst: Int32Array): Int32Array {
+  return Int32Array.from(asymmetricExamples(fwd, src, dst, Number.MAX_SAFE_INTEGER));
+}
+
+/** The first `limit` isolated node ids. */
+export function isolatedExamples(fwd: Csr, rev: Csr, limit: number): number[] {
+  const out: number[] = [];
+  for (let u = 0; u < fwd.n && out.length < limit; u++) {
+    let incident = false;
+    for (let p = fwd.indptr[u]!; p < fwd.indptr[u + 1]! && !incident; p++) if (fwd.indices[p] !== u) incident = true;
+    for (let p = rev.indptr[u]!; p < rev.indptr[u + 1]! && !incident; p++) if (rev.indices[p] !== u) incident = true;
+    if (!incident) out.push(u);
+  }
+  return out;
+}

@@ -1,0 +1,89 @@
+/**
+ * Graph figures checked against values computed outside Hopscope:
+ * - tests/fixtures/graphs/expected.json, written by tests/fixtures/make_graph_fixtures.py with
+ *   NetworkX 2.8 (number_of_selfloops, isolates, number_weakly_connected_components),
+ *   NumPy 1.24 (np.unique for duplicates, np.isin for missing reverses) and SciPy 1.10
+ *   (csgraph.connected_components, connection='weak');
+ * - published counts for Zachary's karate club (Zachary 1977; ../shared/REFERENCES.md §2.1:
+ *   34 nodes, 78 edges, 156 directed entries, connected, no self-loops, no isolated nodes).
+ */
+import { describe, expect, it } from 'vitest';
+import * as fs from 'node:fs';
+import * as path from 'node:path';
+import { readNpy } from '../../server/src/core/formats/npy';
+import { checkGraph } from '../../server/src/core/checks/graph-check';
+import { guessRole } from '../../server/src/core/checks/roles';
+import { analyseStructure, countComponents } from '../../server/src/core/graph/figures';
+import { buildSortedPair, hasEdge, transpose, buildCsr } from '../../server/src/core/graph/csr';
+import { DEFAULT_LIMITS, type DenseTensor } from '../../server/src/core/formats/types';
+
+const dir = path.join(__dirname, '../fixtures/graphs');
+const expected = JSON.parse(fs.readFileSync(path.join(dir, 'expected.json'), 'utf8'));
+
+function load(file: string): DenseTensor {
+  const r = readNpy(new Uint8Array(fs.readFileSync(path.join(dir, file))), file, DEFAULT_LIMITS);
+  return r.tensors[0] as DenseTensor;
+}
+
+describe('graph figures match NetworkX/NumPy/SciPy on fixture graphs', () => {
+  for (const [name, entry] of Object.entries<any>(expected.graphs)) {
+    it(name, () => {
+      const t = load(entry.file);
+      const check = checkGraph([{ file: entry.file, tensor: t, guess: guessRole(t) }], { nodes: entry.figures.nodes });
+      const f = check.figures!;
+      expect(f.nodes).toBe(entry.figures.nodes);
+      expect(f.edges).toBe(entry.figures.edges);
+      expect(f.selfLoops).toBe(entry.figures.selfLoops);
+      expect(f.duplicateEdges).toBe(entry.figures.duplicateEdges);
+      expect(f.asymmetricPairs).toBe(entry.figures.asymmetricPairs);
+      expect(f.directed).toBe(entry.figures.directed);
+      expect(f.isolatedNodes).toBe(entry.figures.isolatedNodes);
+      expect(f.components).toBe(entry.figures.components);
+      expect(f.components).toBe(entry.figures.componentsNetworkx);
+    });
+  }
+
+  it('karate club: the published counts (Zachary 1977, REFERENCES.md §2.1)', () => {
+    const t = load('karate.npy');
+    const check = checkGraph([{ file: 'karate.npy', tensor: t, guess: guessRole(t) }]);
+    expect(check.figures).toMatchObject({ nodes: 34, edges: 156, directed: false, selfLoops: 0, isolatedNodes: 0, components: 1 });
+    // 78 undirected edges, from NetworkX's karate_club_graph
+    expect(expected.graphs.karate.networkx.undirectedEdges).toBe(78);
+    // Degrees from the CSR equal NetworkX's degree sequence (REFERENCES.md lists 16 9 10 6 3 ...).
+    const s = check.structure!;
+    const degrees = Array.from({ length: 34 }, (_, u) => s.fwd.indptr[u + 1]! - s.fwd.indptr[u]!);
+    expect(degrees).toEqual(expected.graphs.karate.networkx.degrees);
+    expect(degrees.slice(0, 5)).toEqual([16, 9, 10, 6, 3]);
+  });
+
+  it('two disjoint triangles have 2 components (networkx.number_connected_components)', () => {
+    expect(expected.graphs.two_triangles.networkx.components).toBe(2);
+    const t = load('two_triangles.npy');
+    expect(checkGraph([{ file: 'x', tensor: t, guess: guessRole(t) }]).figures!.components).toBe(2);
+  });
+});
+
+describe('CSR building blocks', () => {
+  it('sorts rows and transposes in O(N+E) passes', () => {
+    const src = Int32Array.from([2, 0, 2, 1, 0, 2]);
+    const dst = Int32Array.from([0, 2, 1, 2, 1, 0]);
+    const { fwd, rev } = buildSortedPair(3, src, dst);
+    expect(Array.from(fwd.indptr)).toEqual([0, 2, 3, 6]);
+    expect(Array.from(fwd.indices)).toEqual([1, 2, 2, 0, 0, 1]);
+    expect(Array.from(rev.indices)).toEqual([2, 2, 0, 2, 0, 1]);
+    expect(hasEdge(fwd, 2, 1)).toBe(true);
+    expect(hasEdge(fwd, 1, 0)).toBe(false);
+    const t2 = transpose(transpose(buildCsr(3, src, dst)));
+    expect(Array.from(t2.indices)).toEqual(Array.from(fwd.indices));
+  });
+
+  it('counts weakly connected components including isolated nodes', () => {
+    expect(countComponents(5, Int32Array.from([0, 3]), Int32Array.from([1, 3]))).toBe(4);
+    expect(countComponents(0, new Int32Array(0), new Int32Array(0))).toBe(0);
+  });
+
+  it('a self-loop alone leaves a node isolated; the reverse of a self-loop is itself', () => {
+    const s = analyseStructure(3, Int32Array.from([0, 1, 2]), Int32Array.from([0, 2, 1]));
+    expect(s.figures).toMatchObject({ selfLoops: 1, isolatedNodes: 1, asymmetricPairs: 0, directed: false, components: 2 });
+  });
+});

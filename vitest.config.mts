@@ -1,0 +1,10 @@
+import { defineConfig } from 'vitest/config';
+
+export default defineConfig({
+  test: {
+    include: ['tests/**/*.test.ts'],
+    exclude: ['tests/e2e/**', 'tests/python/**', 'node_modules/**'],
+    testTimeout: 60_000,
+    pool: 'forks',
+  },
+});
