@@ -1,0 +1,2 @@
+# dock_from dock_to
+# (no rows exported)

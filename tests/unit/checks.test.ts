@@ -1,0 +1,191 @@
+/**
+ * Problem rules on real files. Expected counts come from NumPy 1.24 / NetworkX 2.8 in
+ * tests/fixtures/make_graph_fixtures.py (expected.json): np.isfinite for non-finite features,
+ * np.logical_and for split overlap, (ei < 0) | (ei >= n) for out-of-range entries, np.unique for
+ * duplicates. Where a rule encodes common practice rather than a published value (2 x E layout,
+ * 0-based ids, -1 for unlabelled nodes) the test says so.
+ */
+import { describe, expect, it } from 'vitest';
+import * as fs from 'node:fs';
+import * as os from 'node:os';
+import * as path from 'node:path';
+import { checkPaths } from '../../server/src/node/load';
+import { checkGraph } from '../../server/src/core/checks/graph-check';
+import { guessRole } from '../../server/src/core/checks/roles';
+import type { DenseTensor, Problem } from '../../server/src/core/formats/types';
+import type { FileReport } from '../../server/src/core/checks/check-set';
+
+const dir = path.join(__dirname, '../fixtures/graphs');
+const expected = JSON.parse(fs.readFileSync(path.join(dir, 'expected.json'), 'utf8'));
+
+const byName = (files: FileReport[], base: string) => {
+  const f = files.find((x) => path.basename(x.path) === base);
+  if (!f) throw new Error(`no report for ${base}: ${files.map((x) => x.path).join(', ')}`);
+  return f;
+};
+const problem = (f: FileReport, code: string): Problem | undefined => f.problems.find((p) => p.code === code);
+
+describe('sibling bundle with planted problems (counts from NumPy)', () => {
+  const b = expected.broken_bundle;
+  const r = checkPaths([path.join(dir, 'broken_bundle')]);
+
+  it('edge index: out-of-range, duplicates, self-loops, missing reverses', () => {
+    const e = byName(r.files, 'edge_index.npy');
+    expect(problem(e, 'index-out-of-range')?.count).toBe(b.outOfRangeEntries);
+    expect(problem(e, 'duplicate-edges')?.count).toBe(b.figures.duplicateEdges);
+    expect(problem(e, 'self-loops')?.count).toBe(b.figures.selfLoops);
+    expect(problem(e, 'asymmetric-adjacency')?.count).toBe(b.figures.asymmetricPairs);
+    expect(e.graph).toMatchObject({
+      nodes: b.nodes, edges: b.figures.edges, selfLoops: b.figures.selfLoops,
+      duplicateEdges: b.figures.duplicateEdges, asymmetricPairs: b.figures.asymmetricPairs,
+      isolatedNodes: b.figures.isolatedNodes, components: b.figures.components,
+    });
+    // Examples name the tensor and position of a binary file.
+    const oor = problem(e, 'index-out-of-range')!;
+    expect(oor.locations![0]!.tensor).toBe('edge_index');
+    expect(oor.message).toMatch(/edge_index\[1, 10\] = 63/);
+  });
+
+  it('features: NaN and Inf counted like np.isfinite', () => {
+    const p = problem(byName(r.files, 'x.npy'), 'non-finite-features')!;
+    expect(p.count).toBe(b.nonFiniteFeatures);
+    expect(p.message).toContain(`${b.nanFeatures} NaN`);
+    expect(p.message).toMatch(/x\[3, 1\] = NaN/);
+  });
+
+  it('labels: the -1 entries are flagged as label-range (common practice: -1 = unlabelled)', () => {
+    const p = problem(byName(r.files, 'y.npy'), 'label-range')!;
+    expect(p.count).toBe(b.negativeLabels);
+    expect(p.message).toMatch(/-1/);
+  });
+
+  it('masks: overlap counted like np.logical_and(train, test).sum(); a short mask is reported on itself', () => {
+    const p = problem(byName(r.files, 'test_mask.npy'), 'mask-overlap')!;
+    expect(p.count).toBe(b.maskOverlap);
+    expect(p.severity).toBe('error');
+    const v = problem(byName(r.files, 'val_mask.npy'), 'mask-length-mismatch')!;
+    expect(v.message).toContain(`${b.valMaskLength} entries`);
+    expect(problem(byName(r.files, 'train_mask.npy'), 'mask-overlap')).toBeUndefined();
+  });
+
+  it('edge weights: one row too many is reported on the weight file', () => {
+    const p = problem(byName(r.files, 'edge_weight.npy'), 'edge-features-rows-mismatch')!;
+    expect(p.message).toContain(`${b.edgeWeightRows}`);
+    expect(p.message).toContain(`${b.entries} edge entries`);
+  });
+});
+
+describe('the same karate graph in every container gives the same figures (NetworkX: 34 nodes, 78 edges)', () => {
+  const want = { nodes: 34, edges: 156, directed: false, selfLoops: 0, duplicateEdges: 0, asymmetricPairs: 0, isolatedNodes: 0, components: 1 };
+  it('sibling files edge_index.npy + x.npy + y.npy + masks', () => {
+    const r = checkPaths([path.join(dir, 'karate_bundle')]);
+    const e = byName(r.files, 'edge_index.npy');
+    expect(e.graph).toMatchObject(want);
+    expect(r.files.flatMap((f) => f.problems).filter((p) => p.severity !== 'info')).toEqual([]);
+    expect(byName(r.files, 'y.npy').tensors[0]!.role).toBe('labels');
+    expect(byName(r.files, 'train_mask.npy').tensors[0]!.role).toBe('mask');
+    // Karate split sizes written by NumPy: 20/7/7, disjoint
+    expect(expected.graphs.karate.splitSizes).toEqual([20, 7, 7]);
+  });
+  it('checking edge_index.npy alone still reads x.npy beside it for N', () => {
+    const r = checkPaths([path.join(dir, 'karate_bundle', 'edge_index.npy')], { nodes: undefined });
+    expect(r.files).toHaveLength(1);
+    expect(r.files[0]!.graph).toMatchObject(want);
+  });
+  it('one .npz container (numpy.savez)', () => {
+    const r = checkPaths([path.join(dir, 'karate_container.npz')]);
+    expect(r.files[0]!.graph).toMatchObject(want);
+    expect(r.files[0]!.tensors.map((t) => [t.name, t.role])).toEqual(expect.arrayContaining([
+      ['edge_index', 'edge-index'], ['x', 'features'], ['y', 'labels'], ['train_mask', 'mask'],
+    ]));
+  });
+  it('a scipy.sparse.save_npz adjacency', () => {
+    const r = checkPaths([path.join(dir, 'karate_adjacency.npz')]);
+    expect(r.files[0]!.format).toBe('sparse-npz');
+    expect(r.files[0]!.graph).toMatchObject(want);
+  });
+});
+
+describe('declarations through hopscope.json', () => {
+  const tmp = fs.mkdtempSync(path.join(os.tmpdir(), 'hopscope-manifest-'));
+  const write = (name: string, text: string | Uint8Array) => fs.writeFileSync(path.join(tmp, name), text);
+  write('one_way.edges', '0 1\n1 0\n1 2\n2 1\n2 3\n3 3\n');
+
+  it('an undirected declaration turns missing reverses into errors; forbidden self-loops into warnings', () => {
+    write('hopscope.json', JSON.stringify({ directed: false, selfLoops: 'forbidden' }));
+    const f = checkPaths([tmp]).files[0]!;
+    expect(problem(f, 'asymmetric-adjacency')).toMatchObject({ severity: 'error', count: 1, line: 5 });
+    expect(problem(f, 'self-loops')).toMatchObject({ severity: 'warning', count: 1, line: 6 });
+  });
+  it('a directed declaration silences asymmetry; severity overrides apply', () => {
+    write('hopscope.json', JSON.stringify({ directed: true, severity: { 'self-loops': 'off', 'isolated-nodes': 'error' } }));
+    const f = checkPaths([tmp]).files[0]!;
+    expect(problem(f, 'asymmetric-adjacency')).toBeUndefined();
+    expect(problem(f, 'self-loops')).toBeUndefined();
+  });
+  it('a manifest graph joins files with any names, and a broken manifest is reported', () => {
+    write('feats.npy', Buffer.from(npyF32([2, 2], [1, 2, 3, 4])));
+    write('hopscope.json', JSON.stringify({ graphs: [{ edges: 'one_way.edges', features: 'feats.npy' }] }));
+    const r = checkPaths([tmp]);
+    const e = byName(r.files, 'one_way.edges');
+    expect(e.graph!.nodes).toBe(2);
+    expect(problem(e, 'index-out-of-range')!.count).toBe(4);
+    write('hopscope.json', '{ "graphs": [ { "features": "feats.npy" } ] }');
+    expect(checkPaths([tmp]).manifestProblems[0]!.problem.message).toMatch(/needs "edges" or "adjacency"/);
+  });
+});
+
+describe('shape and index conventions (common practice: PyTorch Geometric-style 2 x E, 0-based ids)', () => {
+  const t = (name: string, shape: number[], data: number[], dtype: DenseTensor['dtype'] = 'int64'): DenseTensor =>
+    ({ kind: 'dense', name, dtype, shape, data: dtype.startsWith('float') ? Float64Array.from(data) : Int32Array.from(data) });
+  const run = (...ts: DenseTensor[]) => checkGraph(ts.map((x) => ({ file: x.name, tensor: x, guess: guessRole(x) })));
+  const codes = (c: ReturnType<typeof run>) => c.problems.map((p) => p.problem.code);
+
+  it('E x 2 is read but flagged', () => {
+    const c = run(t('edge_index', [3, 2], [0, 1, 1, 2, 2, 0]));
+    expect(codes(c)).toContain('transposed-edge-index');
+    expect(c.figures!.edges).toBe(3);
+  });
+  it('neither 2 x E nor E x 2', () => {
+    expect(codes(run(t('edge_index', [3, 3], [0, 1, 2, 1, 2, 0, 2, 0, 1])))).toEqual(['edge-shape']);
+  });
+  it('float ids with fractions are non-integer; a float dtype is flagged too', () => {
+    const c = run(t('edge_index', [2, 2], [0, 1.5, 1, 0], 'float32'));
+    const p = c.problems.filter((x) => x.problem.code === 'non-integer-index');
+    expect(p.map((x) => x.problem.count)).toEqual([1, 1]);
+  });
+  it('1-based ids: no 0 and max = node count', () => {
+    const c = run(t('edge_index', [2, 3], [1, 2, 3, 2, 3, 1]), t('x', [3, 1], [0, 0, 0], 'float32'));
+    expect(codes(c)).toEqual(expect.arrayContaining(['one-based-index', 'index-out-of-range']));
+  });
+  it('a declared index base of 1 shifts ids', () => {
+    const e = t('edge_index', [2, 3], [1, 2, 3, 2, 3, 1]);
+    const c = checkGraph([{ file: 'e', tensor: e, guess: guessRole(e) }], { indexBase: 1 });
+    expect(c.figures).toMatchObject({ nodes: 3, edges: 3, indexBase: 1, components: 1 });
+    expect(c.problems).toEqual([]);
+  });
+  it('adjacency must be square; A[i, j] != 0 is the edge i -> j', () => {
+    const c = run(t('adj', [2, 3], [0, 1, 0, 0, 0, 1]));
+    expect(codes(c)).toContain('not-square');
+    const sq = run(t('adj', [3, 3], [0, 1, 0, 0, 0, 1, 0, 0, 0], 'float64'));
+    expect(sq.figures).toMatchObject({ nodes: 3, edges: 2, directed: true, components: 1 });
+  });
+  it('an edge index with no entries is an empty graph', () => {
+    expect(codes(run(t('edge_index', [2, 0], [])))).toContain('empty-graph');
+  });
+  it('labels that skip class 0 look 1-based (cross-entropy expects 0..C-1)', () => {
+    const c = run(t('edge_index', [2, 2], [0, 1, 1, 0]), t('y', [2], [1, 2]));
+    const p = c.problems.find((x) => x.problem.code === 'label-range')!;
+    expect(p.problem.message).toMatch(/1-based/);
+  });
+});
+
+function npyF32(shape: number[], values: number[]): Uint8Array {
+  let header = `{'descr': '<f4', 'fortran_order': False, 'shape': (${shape.join(', ')}${shape.length === 1 ? ',' : ''}), }`;
+  header = header.padEnd(64 - 10 - 1, ' ') + '\n';
+  const out = new Uint8Array(10 + header.length + values.length * 4);
+  out.set([0x93, 0x4e, 0x55, 0x4d, 0x50, 0x59, 1, 0, header.length & 255, header.length >> 8]);
+  for (let i = 0; i < header.length; i++) out[10 + i] = header.charCodeAt(i);
+  new Float32Array(out.buffer, 10 + header.length).set(values);
+  return out;
+}
