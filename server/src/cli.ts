@@ -9,10 +9,12 @@ import type { CheckSetOptions, FileReport } from './core/checks/check-set';
 import type { Problem, Severity } from './core/formats/types';
 import { severityAtLeast } from './core/checks/codes';
 import { phaseTotals } from './core/timing';
+import { COMMANDS } from './commands';
+import type { CliIo } from './commands/types';
 
 const VERSION = '0.1.0';
 
-const USAGE = `Usage: hopscope check PATH... [options]
+const CHECK_USAGE = `Usage: hopscope check PATH... [options]
 
 Checks graph tensor files (.npy .npz .safetensors .mtx .json, edge lists .txt .edges .el .csv .tsv
 and their .gz) and folders of them, recursively.
@@ -30,6 +32,19 @@ Options:
 
 Exit codes: 0 = checked, nothing at or above --fail-on; 1 = problems at or above --fail-on;
 2 = usage error, or a file could not be read at all.`;
+
+function overview(): string {
+  const lines = [
+    `hopscope ${VERSION}: checks graph tensor files and shows what a message-passing model sees.`,
+    '',
+    'Commands:',
+    '  check PATH...            problems in graph files and folders (hopscope check --help)',
+    ...COMMANDS.map((c) => `  ${c.summary}`),
+    '',
+    'Run hopscope COMMAND --help for the options of one command.',
+  ];
+  return lines.join('\n');
+}
 
 class UsageError extends Error {}
 
@@ -84,30 +99,31 @@ function parseCheckArgs(argv: string[]): CheckArgs {
   return a;
 }
 
-export interface CliIo {
-  out: (s: string) => void;
-  err: (s: string) => void;
-  color: boolean;
-}
+export type { CliIo };
 
 /** Runs the CLI; returns the exit code. */
 export function main(argv: string[], io: CliIo): number {
   const [cmd, ...rest] = argv;
   if (cmd === undefined || cmd === '-h' || cmd === '--help' || cmd === 'help') {
-    io.out(USAGE + '\n');
+    (cmd === undefined ? io.err : io.out)(overview() + '\n');
     return cmd === undefined ? 2 : 0;
   }
   if (cmd === '-v' || cmd === '--version') { io.out(`hopscope ${VERSION}\n`); return 0; }
+  const command = COMMANDS.find((c) => c.name === cmd);
+  if (command) {
+    if (rest.includes('-h') || rest.includes('--help')) { io.out(command.usage + '\n'); return 0; }
+    return command.run(rest, io);
+  }
   if (cmd !== 'check') {
-    io.err(`hopscope: unknown command "${cmd}"\n\n${USAGE}\n`);
+    io.err(`hopscope: unknown command "${cmd}"\n\n${overview()}\n`);
     return 2;
   }
-  if (rest.includes('-h') || rest.includes('--help')) { io.out(USAGE + '\n'); return 0; }
+  if (rest.includes('-h') || rest.includes('--help')) { io.out(CHECK_USAGE + '\n'); return 0; }
   let args: CheckArgs;
   try {
     args = parseCheckArgs(rest);
   } catch (e) {
-    if (e instanceof UsageError) { io.err(`hopscope check: ${e.message}\n\n${USAGE}\n`); return 2; }
+    if (e instanceof UsageError) { io.err(`hopscope check: ${e.message}\n\n${CHECK_USAGE}\n`); return 2; }
     throw e;
   }
   const inputs = [...args.paths];

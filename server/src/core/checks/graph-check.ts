@@ -51,6 +51,9 @@ export interface GraphCheck {
   problems: FileProblem[];
   /** The CSR graph and the in-range edge list, for analyses that follow. */
   structure?: Structure & { src: Int32Array; dst: Int32Array };
+  /** The parts and options the graph was checked with. */
+  parts: GraphPart[];
+  options: GraphOptions;
 }
 
 /** Where the edges came from, with a way back from an edge id to the file. */
@@ -163,9 +166,9 @@ export function checkGraph(parts: GraphPart[], opts: GraphOptions = {}): GraphCh
 
   if (!edges) {
     if (edgeParts.length === 0 && adjParts.length === 0) {
-      return { structureFile: null, structureTensor: null, figures: null, problems };
+      return { structureFile: null, structureTensor: null, figures: null, problems, parts, options: opts };
     }
-    return { structureFile: (edgeParts[0] ?? adjParts[0])!.file, structureTensor: (edgeParts[0] ?? adjParts[0])!.tensor.name, figures: null, problems };
+    return { structureFile: (edgeParts[0] ?? adjParts[0])!.file, structureTensor: (edgeParts[0] ?? adjParts[0])!.tensor.name, figures: null, problems, parts, options: opts };
   }
 
   const sp = edges.part;
@@ -322,7 +325,7 @@ export function checkGraph(parts: GraphPart[], opts: GraphOptions = {}): GraphCh
   };
   return {
     structureFile: sp.file, structureTensor: sp.tensor.name, figures, problems,
-    structure: { ...structure, src: gSrc, dst: gDst },
+    structure: { ...structure, src: gSrc, dst: gDst }, parts, options: opts,
   };
 }
 

@@ -1,0 +1,8 @@
+/**
+ * The analysis subcommands of `hopscope` (besides `check`, which lives in cli.ts).
+ * Each command registers itself here with one import and one array entry.
+ */
+import type { Command } from './types';
+
+export const COMMANDS: Command[] = [
+];
