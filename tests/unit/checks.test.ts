@@ -182,7 +182,7 @@ describe('shape and index conventions (common practice: PyTorch Geometric-style 
 
 function npyF32(shape: number[], values: number[]): Uint8Array {
   let header = `{'descr': '<f4', 'fortran_order': False, 'shape': (${shape.join(', ')}${shape.length === 1 ? ',' : ''}), }`;
-  header = header.padEnd(64 - 10 - 1, ' ') + '\n';
+  header = header.padEnd(128 - 10 - 1, ' ') + '\n';
   const out = new Uint8Array(10 + header.length + values.length * 4);
   out.set([0x93, 0x4e, 0x55, 0x4d, 0x50, 0x59, 1, 0, header.length & 255, header.length >> 8]);
   for (let i = 0; i < header.length; i++) out[10 + i] = header.charCodeAt(i);
