@@ -19,8 +19,9 @@
 //     OPENBLAS_CORETYPE and OPENBLAS_L2_SIZE removed from that command's environment only.
 //     Skipped, with the reason printed, when python3 or either library is missing.
 //   Wall time is taken here around the spawn (performance.now()). Peak RSS of the child comes
-//   from GNU time (`/usr/bin/time -f '%e %M' -o FILE`, Debian package `time`): the kernel's
-//   ru_maxrss of the waited-for child, exact. When /usr/bin/time is absent the child is spawned
+//   from GNU time (`/usr/bin/time -f '%e %M %U %S' -o FILE`, Debian package `time`): the kernel's
+//   ru_maxrss of the waited-for child, exact; its user+system CPU time is reported too, since
+//   wall time on a shared machine depends on what else runs (the load average is printed). When /usr/bin/time is absent the child is spawned
 //   directly and /proc/PID/status VmHWM (the kernel's high-water mark, monotonic) is polled every
 //   5 ms; the last value read is reported, which can miss growth in the final few milliseconds
 //   of the process (reported as a lower bound "≥"). Node cannot read a child's rusage itself
@@ -33,7 +34,7 @@
 
 import { spawn, spawnSync } from 'node:child_process';
 import { closeSync, existsSync, mkdtempSync, openSync, readFileSync, readSync, rmSync, writeFileSync } from 'node:fs';
-import { cpus, release, tmpdir, totalmem } from 'node:os';
+import { cpus, loadavg, release, tmpdir, totalmem } from 'node:os';
 import { basename, dirname, join, resolve } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { DEFAULT_SEED, ensureGraph } from './gen.mjs';
@@ -46,6 +47,8 @@ const PYTHON = '/usr/bin/python3';
 const BASELINE = join(BENCH_DIR, 'numpy_baseline.py');
 const GNU_TIME = '/usr/bin/time';
 const SLOW_RUN_MS = 20_000;
+const TIME_FORMAT = '%e %M %U %S'; // wall s, max RSS KiB, user s, system s
+const TIME_LINE = /^(\d+(?:\.\d+)?) (\d+) (\d+(?:\.\d+)?) (\d+(?:\.\d+)?)$/;
 
 // Figures compared between Hopscope's JSON (files[0].graph) and the NumPy/SciPy baseline.
 const FIGURES = ['edges', 'selfLoops', 'duplicateEdges', 'asymmetricPairs', 'isolatedNodes', 'components'];
@@ -118,10 +121,10 @@ function detectRssMethod() {
   if (existsSync(GNU_TIME)) {
     const dir = mkdtempSync(join(tmpdir(), 'hopscope-bench-'));
     const out = join(dir, 't');
-    const r = spawnSync(GNU_TIME, ['-f', '%e %M', '-o', out, process.execPath, '-e', '0'], { encoding: 'utf8' });
+    const r = spawnSync(GNU_TIME, ['-f', TIME_FORMAT, '-o', out, process.execPath, '-e', '0'], { encoding: 'utf8' });
     let ok = false;
     try {
-      ok = r.status === 0 && /^\d+(\.\d+)? \d+$/m.test(readFileSync(out, 'utf8'));
+      ok = r.status === 0 && TIME_LINE.test(readFileSync(out, 'utf8').trim().split('\n').pop());
     } catch { /* not GNU time */ }
     rmSync(dir, { recursive: true, force: true });
     if (ok) return 'gnu-time';
@@ -155,7 +158,7 @@ function measure(cmd, args, { env = process.env, rssMethod }) {
       timeFile = join(timeOutDir, 'time.txt');
       rmSync(timeFile, { force: true });
       file = GNU_TIME;
-      argv = ['-f', '%e %M', '-o', timeFile, cmd, ...args];
+      argv = ['-f', TIME_FORMAT, '-o', timeFile, cmd, ...args];
     }
     const out = [];
     const err = [];
@@ -179,14 +182,16 @@ function measure(cmd, args, { env = process.env, rssMethod }) {
       const wallMs = performance.now() - t0;
       if (timer) clearInterval(timer);
       let peakRssMiB;
+      let cpuMs;
       let rssExact = false;
       if (rssMethod === 'gnu-time') {
         try {
           // GNU time may put "Command exited with non-zero status N" before the format line.
           const lines = readFileSync(timeFile, 'utf8').trim().split('\n');
-          const m = /^(\d+(?:\.\d+)?) (\d+)$/.exec(lines[lines.length - 1]);
+          const m = TIME_LINE.exec(lines[lines.length - 1]);
           if (m) {
             peakRssMiB = Number(m[2]) / 1024;
+            cpuMs = (Number(m[3]) + Number(m[4])) * 1000;
             rssExact = true;
           }
         } catch { /* leave undefined */ }
@@ -195,6 +200,7 @@ function measure(cmd, args, { env = process.env, rssMethod }) {
       }
       resolvePromise({
         wallMs,
+        cpuMs,
         peakRssMiB,
         rssExact,
         code,
@@ -220,7 +226,7 @@ function warmCache(path) {
 // ---------------------------------------------------------------- the two tools
 
 function parseHopscope(res) {
-  const r = { ok: false, code: res.code, wallMs: res.wallMs, peakRssMiB: res.peakRssMiB, rssExact: res.rssExact };
+  const r = { ok: false, code: res.code, wallMs: res.wallMs, cpuMs: res.cpuMs, peakRssMiB: res.peakRssMiB, rssExact: res.rssExact };
   const line = res.stderr.split('\n').find((l) => l.startsWith('HOPSCOPE_TIMINGS '));
   if (line) {
     try {
@@ -277,7 +283,7 @@ function probeNumpy() {
 }
 
 function parseNumpy(res) {
-  const r = { ok: false, code: res.code, wallMs: res.wallMs, peakRssMiB: res.peakRssMiB, rssExact: res.rssExact };
+  const r = { ok: false, code: res.code, wallMs: res.wallMs, cpuMs: res.cpuMs, peakRssMiB: res.peakRssMiB, rssExact: res.rssExact };
   try {
     const j = JSON.parse(res.stdout);
     if (res.code !== 0 || !j.figures) throw new Error(j.error ?? `exit ${res.code}`);
@@ -303,6 +309,7 @@ const fmtMs = (x) => (x === undefined ? '—' : x >= 100 ? x.toFixed(0) : x.toFi
 const fmtMiB = (x, exact = true) => (x === undefined ? '—' : `${exact ? '' : '≥'}${x.toFixed(1)}`);
 const fmtMBps = (bytes, ms) => (ms === undefined || ms <= 0 ? '—' : (bytes / 1e6 / (ms / 1000)).toFixed(1));
 const fmtBytes = (b) => (b >= 1e6 ? `${(b / 1e6).toFixed(1)} MB` : `${(b / 1e3).toFixed(1)} kB`);
+const fmtLoad = () => loadavg().map((x) => x.toFixed(2)).join(' / ');
 const fmtInt = (n) => (typeof n === 'number' ? n.toLocaleString('en-US') : String(n));
 
 function label(E) {
@@ -328,7 +335,7 @@ async function runSeries(name, count, once) {
   for (let i = 0; i < count; i++) {
     const r = await once();
     results.push(r);
-    process.stderr.write(`  ${name} run ${i + 1}: ${fmtMs(r.wallMs)} ms wall, ${fmtMiB(r.peakRssMiB, r.rssExact)} MiB${r.ok ? '' : ` — ${r.error}`}\n`);
+    process.stderr.write(`  ${name} run ${i + 1}: ${fmtMs(r.wallMs)} ms wall, ${fmtMs(r.cpuMs)} ms CPU, ${fmtMiB(r.peakRssMiB, r.rssExact)} MiB${r.ok ? '' : ` — ${r.error}`}\n`);
     if (!r.ok) break; // a failing tool fails the same way again
     if (i === 0 && !opts.runsFixed && count > 2 && r.wallMs > SLOW_RUN_MS) count = 2;
   }
@@ -345,6 +352,7 @@ function summarise(results, phases, bytes) {
     error: results.find((r) => !r.ok)?.error,
     wallMs: median(ok.map((r) => r.wallMs)),
     wallRuns: ok.map((r) => r.wallMs),
+    cpuMs: median(ok.map((r) => r.cpuMs)),
     peakRssMiB: median(ok.map((r) => r.peakRssMiB)),
     rssExact: ok.every((r) => r.rssExact),
     selfRssMiB: median(ok.map((r) => r.timings?.peakRssMiB)),
@@ -379,20 +387,21 @@ async function main() {
   console.log(
     `  peak RSS ${
       rssMethod === 'gnu-time'
-        ? `${GNU_TIME} -f '%e %M' (kernel ru_maxrss of the child)`
+        ? `${GNU_TIME} -f '${TIME_FORMAT}' (kernel ru_maxrss and CPU time of the child)`
         : rssMethod === 'proc-vmhwm'
           ? '/proc/PID/status VmHWM polled every 5 ms (lower bound; install Debian package `time` for exact figures)'
           : 'unavailable (no /usr/bin/time, no /proc)'
     }`,
   );
   console.log(`  runs     ${opts.runs} per measurement${opts.runsFixed ? '' : ` (2 when the first run exceeds ${SLOW_RUN_MS / 1000} s)`}, median reported; MB = 10^6 bytes, MiB = 2^20 bytes`);
+  console.log(`  load     ${fmtLoad()} (1/5/15 min)${loadavg()[0] > cpuList.length * 0.5 ? ' — the machine is busy: wall times will be inflated; compare CPU times' : ''}`);
   if (!haveCli) {
     console.log(`  hopscope ${CLI} not found — run \`npm run build\`; Hopscope measurements skipped`);
     failed = true;
   }
   console.log('');
 
-  const results = { machine: { cpu: cpuList[0]?.model, cores: cpuList.length, node: process.version, numpy: np.versions, rssMethod }, sizes: [] };
+  const results = { machine: { cpu: cpuList[0]?.model, cores: cpuList.length, node: process.version, numpy: np.versions, rssMethod }, loadAtStart: loadavg(), sizes: [] };
   let timingsMissingNoted = false;
 
   for (const E of opts.sizes) {
@@ -438,28 +447,28 @@ async function main() {
       const s = f.hopscope;
       const name = `${basename(f.path)} (${fmtBytes(f.bytes)})`;
       if (!s.ok) {
-        rows.push([name, 'hopscope', 'FAILED', '', '', '', s.error ?? '']);
+        rows.push([name, 'hopscope', 'FAILED', '', '', '', '', s.error ?? '']);
         continue;
       }
       if (s.hasTimings) {
         for (const p of HOPSCOPE_PHASES) {
-          rows.push([p === HOPSCOPE_PHASES[0] ? name : '', 'hopscope', p === 'total' ? 'total (in-process)' : p, fmtMs(s.phaseMs[p]), fmtMBps(f.bytes, s.phaseMs[p]), p === 'total' ? fmtMiB(s.selfRssMiB) : '', '']);
+          rows.push([p === HOPSCOPE_PHASES[0] ? name : '', 'hopscope', p === 'total' ? 'total (in-process)' : p, fmtMs(s.phaseMs[p]), fmtMBps(f.bytes, s.phaseMs[p]), '', p === 'total' ? fmtMiB(s.selfRssMiB) : '', '']);
         }
       } else if (!timingsMissingNoted) {
         timingsMissingNoted = true;
         console.log('  note: the CLI printed no HOPSCOPE_TIMINGS line; wall time and peak RSS only');
       }
-      rows.push([s.hasTimings ? '' : name, 'hopscope', 'process (wall)', fmtMs(s.wallMs), fmtMBps(f.bytes, s.wallMs), fmtMiB(s.peakRssMiB, s.rssExact), s.wallRuns.map(fmtMs).join(', ')]);
+      rows.push([s.hasTimings ? '' : name, 'hopscope', 'process (wall)', fmtMs(s.wallMs), fmtMBps(f.bytes, s.wallMs), fmtMs(s.cpuMs), fmtMiB(s.peakRssMiB, s.rssExact), s.wallRuns.map(fmtMs).join(', ')]);
     }
     if (sizeResult.numpy?.ok) {
       const s = sizeResult.numpy;
       const name = `${basename(g.npy)} (${fmtBytes(g.npyBytes)})`;
       NUMPY_PHASES.forEach((p, i) => {
-        rows.push([i === 0 ? name : '', 'numpy/scipy', p === 'total' ? 'total (in-process)' : p, fmtMs(s.phaseMs[p]), fmtMBps(g.npyBytes, s.phaseMs[p]), p === 'total' ? fmtMiB(s.selfRssMiB) : '', '']);
+        rows.push([i === 0 ? name : '', 'numpy/scipy', p === 'total' ? 'total (in-process)' : p, fmtMs(s.phaseMs[p]), fmtMBps(g.npyBytes, s.phaseMs[p]), '', p === 'total' ? fmtMiB(s.selfRssMiB) : '', '']);
       });
-      rows.push(['', 'numpy/scipy', 'process (wall)', fmtMs(s.wallMs), fmtMBps(g.npyBytes, s.wallMs), fmtMiB(s.peakRssMiB, s.rssExact), s.wallRuns.map(fmtMs).join(', ')]);
+      rows.push(['', 'numpy/scipy', 'process (wall)', fmtMs(s.wallMs), fmtMBps(g.npyBytes, s.wallMs), fmtMs(s.cpuMs), fmtMiB(s.peakRssMiB, s.rssExact), s.wallRuns.map(fmtMs).join(', ')]);
     }
-    if (rows.length) table(rows, ['file', 'tool', 'phase', 'median ms', 'MB/s', 'peak RSS MiB', 'runs (wall ms)']);
+    if (rows.length) table(rows, ['file', 'tool', 'phase', 'median ms', 'MB/s', 'CPU ms', 'peak RSS MiB', 'runs (wall ms)']);
     console.log('');
 
     // Ratios (fresh process against fresh process, same .npy).
@@ -467,8 +476,9 @@ async function main() {
     if (hsNpy?.ok && sizeResult.numpy?.ok) {
       const tr = hsNpy.wallMs / sizeResult.numpy.wallMs;
       const rr = hsNpy.peakRssMiB !== undefined && sizeResult.numpy.peakRssMiB !== undefined ? hsNpy.peakRssMiB / sizeResult.numpy.peakRssMiB : undefined;
-      sizeResult.ratios = { time: tr, rss: rr };
-      console.log(`  hopscope / numpy-scipy on ${basename(g.npy)}: time ${tr.toFixed(2)}× (${fmtMs(hsNpy.wallMs)} / ${fmtMs(sizeResult.numpy.wallMs)} ms), peak RSS ${rr === undefined ? '—' : rr.toFixed(2) + '×'} (${fmtMiB(hsNpy.peakRssMiB, hsNpy.rssExact)} / ${fmtMiB(sizeResult.numpy.peakRssMiB, sizeResult.numpy.rssExact)} MiB)`);
+      const cr = hsNpy.cpuMs !== undefined && sizeResult.numpy.cpuMs ? hsNpy.cpuMs / sizeResult.numpy.cpuMs : undefined;
+      sizeResult.ratios = { time: tr, cpu: cr, rss: rr };
+      console.log(`  hopscope / numpy-scipy on ${basename(g.npy)}: wall time ${tr.toFixed(2)}× (${fmtMs(hsNpy.wallMs)} / ${fmtMs(sizeResult.numpy.wallMs)} ms), CPU time ${cr === undefined ? '—' : `${cr.toFixed(2)}× (${fmtMs(hsNpy.cpuMs)} / ${fmtMs(sizeResult.numpy.cpuMs)} ms)`}, peak RSS ${rr === undefined ? '—' : rr.toFixed(2) + '×'} (${fmtMiB(hsNpy.peakRssMiB, hsNpy.rssExact)} / ${fmtMiB(sizeResult.numpy.peakRssMiB, sizeResult.numpy.rssExact)} MiB)`);
     }
 
     // Cross-check of the figures.
@@ -520,6 +530,8 @@ async function main() {
     console.log(`  ${mark(mbps === undefined ? undefined : mbps >= TARGET_TEXT_READ_MBPS)}  ${label(s.E).toUpperCase()} .txt: read phase ≥ ${TARGET_TEXT_READ_MBPS} MB/s — ${mbps === undefined ? 'not measured (no HOPSCOPE_TIMINGS read figure)' : `${mbps.toFixed(1)} MB/s`}`);
   }
 
+  console.log(`\nload average at the end: ${fmtLoad()} (1/5/15 min)`);
+  results.loadAtEnd = loadavg();
   writeFileSync(join(OUT_DIR, 'results.json'), JSON.stringify(results, null, 2) + '\n');
   console.log(`\nraw figures: ${join('bench', 'out', 'results.json')}`);
   if (timeOutDir) rmSync(timeOutDir, { recursive: true, force: true });
