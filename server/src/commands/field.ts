@@ -1,0 +1,212 @@
+/**
+ * `hopscope field FILE --node V --layers L`: what an L-layer message-passing model lets node V
+ * see — nodes per hop distance, total and coverage — and which nodes weigh most in V's output
+ * (row V of Â^L with the GCN normalisation).
+ */
+import type { CliIo, Command } from './types';
+import { UsageError } from './types';
+import { GraphLoadError, loadGraph, type LoadedGraph } from '../node/graph-input';
+import type { CheckSetOptions } from '../core/checks/check-set';
+import { FieldWalker, coverageCurve, type Flow } from '../core/graph/field';
+import { influenceRow } from '../core/graph/influence';
+
+const MAX_LAYERS = 64;
+const DEFAULT_TOP = 50;
+const DEFAULT_TOP_TABLE = 10;
+
+const USAGE = `Usage: hopscope field FILE --node V --layers L [options]
+
+Shows what node V sees after L message-passing layers: how many nodes sit at each hop distance,
+how much of the graph that is, and which nodes weigh most in V's output under GCN propagation
+(row V of Â^L, Â = D̃^-1/2 (A + I) D̃^-1/2 on the symmetrised graph, duplicates and self-loops
+merged; Kipf & Welling 2017).
+
+Options:
+  --node V                    node id as written in the file (ids of a 1-based file stay 1-based)
+  --layers L                  number of layers, 0..${MAX_LAYERS}
+  --flow source-to-target|target-to-source
+                              direction messages travel along an edge. Default: the manifest's
+                              "flow", else source-to-target (edge index row 0 / first column sends,
+                              so V hears from the nodes with edges into V)
+  --symmetrise                messages travel both ways along every edge
+  --top K                     influence entries to list (default ${DEFAULT_TOP}; ${DEFAULT_TOP_TABLE} in the table view)
+  --random-walk               influence with D̃^-1 (A + I) instead of the GCN normalisation
+  --curve                     add the coverage curve: median and 90th-percentile coverage for
+                              L = 1..8 over a fixed sample of up to 256 nodes
+  --num-nodes N               declare the node count
+  --index-base 0|1            declare that node ids start at 0 or at 1
+  --json                      print JSON: { node, layers, perHop, total, coverage, influence }
+  -h, --help                  show this help
+
+The influence weights ignore edge direction (the GCN normalisation needs a symmetric matrix);
+the hop counts follow --flow.
+
+Exit codes: 0 = done; 2 = usage error, node out of range, or the file could not be read.`;
+
+interface FieldArgs {
+  file: string;
+  node: number;
+  layers: number;
+  flow?: Flow;
+  symmetrise: boolean;
+  top?: number;
+  randomWalk: boolean;
+  curve: boolean;
+  json: boolean;
+  options: CheckSetOptions;
+}
+
+function wholeNumber(flag: string, v: string, max?: number): number {
+  if (!/^\d+$/.test(v)) throw new UsageError(`${flag} must be a non-negative whole number, got "${v}"`);
+  const x = Number(v);
+  if (!Number.isSafeInteger(x) || (max !== undefined && x > max)) {
+    throw new UsageError(`${flag} must be at most ${max ?? Number.MAX_SAFE_INTEGER}, got ${v}`);
+  }
+  return x;
+}
+
+function parseArgs(argv: string[]): FieldArgs {
+  const files: string[] = [];
+  let node: number | undefined, layers: number | undefined, flow: Flow | undefined, top: number | undefined;
+  let symmetrise = false, randomWalk = false, curve = false, json = false;
+  const options: CheckSetOptions = {};
+  for (let i = 0; i < argv.length; i++) {
+    const arg = argv[i]!;
+    const eq = arg.startsWith('--') ? arg.indexOf('=') : -1;
+    const flag = eq > 0 ? arg.slice(0, eq) : arg;
+    const take = (): string => {
+      if (eq > 0) return arg.slice(eq + 1);
+      const v = argv[i + 1];
+      if (v === undefined || (v.startsWith('-') && !/^-\d/.test(v))) throw new UsageError(`${flag} needs a value`);
+      i++;
+      return v;
+    };
+    switch (flag) {
+      case '--node': {
+        const v = take();
+        if (/^-\d/.test(v)) throw new UsageError(`--node must be a node id (0 or more), got "${v}"`);
+        node = wholeNumber('--node', v);
+        break;
+      }
+      case '--layers': layers = wholeNumber('--layers', take(), MAX_LAYERS); break;
+      case '--top': top = wholeNumber('--top', take()); break;
+      case '--flow': {
+        const v = take();
+        if (v !== 'source-to-target' && v !== 'target-to-source') throw new UsageError(`--flow must be source-to-target or target-to-source, got "${v}"`);
+        flow = v;
+        break;
+      }
+      case '--symmetrise': case '--symmetrize': symmetrise = true; break;
+      case '--random-walk': randomWalk = true; break;
+      case '--curve': curve = true; break;
+      case '--json': json = true; break;
+      case '--num-nodes': options.nodes = wholeNumber('--num-nodes', take()); break;
+      case '--index-base': {
+        const v = take();
+        if (v !== '0' && v !== '1') throw new UsageError(`--index-base must be 0 or 1, got "${v}"`);
+        options.indexBase = v === '1' ? 1 : 0;
+        break;
+      }
+      default:
+        if (arg.startsWith('-') && arg !== '-') throw new UsageError(`unknown option ${arg}`);
+        files.push(arg);
+    }
+  }
+  if (files.length === 0) throw new UsageError('no FILE given');
+  if (files.length > 1) throw new UsageError(`one FILE at a time, got ${files.length}: ${files.join(' ')}`);
+  if (node === undefined) throw new UsageError('--node is required');
+  if (layers === undefined) throw new UsageError('--layers is required');
+  return {
+    file: files[0]!, node, layers, symmetrise, randomWalk, curve, json, options,
+    ...(flow ? { flow } : {}), ...(top !== undefined ? { top } : {}),
+  };
+}
+
+function run(argv: string[], io: CliIo): number {
+  let args: FieldArgs;
+  try {
+    args = parseArgs(argv);
+  } catch (e) {
+    if (e instanceof UsageError) { io.err(`hopscope field: ${e.message}\n\n${USAGE}\n`); return 2; }
+    throw e;
+  }
+  let g: LoadedGraph;
+  try {
+    g = loadGraph(args.file, args.options);
+  } catch (e) {
+    if (e instanceof GraphLoadError) { io.err(`hopscope field: ${e.message}\n`); return 2; }
+    throw e;
+  }
+  const base = g.figures.indexBase;
+  const v = args.node - base;
+  if (g.n === 0) { io.err(`hopscope field: ${args.file} has no nodes\n`); return 2; }
+  if (v < 0 || v >= g.n) {
+    io.err(`hopscope field: --node ${args.node} is out of range: ${args.file} has ${g.n} node${g.n === 1 ? '' : 's'} (ids ${base}..${g.n - 1 + base})\n`);
+    return 2;
+  }
+  const errors = g.problems.filter((p) => p.severity === 'error').length;
+  if (errors) {
+    io.err(`hopscope field: note: ${args.file} has ${errors} error${errors === 1 ? '' : 's'} (see hopscope check); the analysis uses the edges that are in range\n`);
+  }
+
+  const flow: Flow = args.flow ?? g.options.flow ?? 'source-to-target';
+  const field = new FieldWalker(g).field(v, args.layers, { flow, symmetrise: args.symmetrise });
+  const top = args.top ?? (args.json ? DEFAULT_TOP : DEFAULT_TOP_TABLE);
+  const infl = influenceRow(g, v, args.layers, { top, norm: args.randomWalk ? 'random-walk' : 'gcn' });
+  const influence = Array.from(infl.topNodes, (u, i) => ({ node: u + base, weight: infl.topWeights[i]! }));
+  const curve = args.curve ? coverageCurve(g, { flow, symmetrise: args.symmetrise }) : undefined;
+
+  if (args.json) {
+    const out: Record<string, unknown> = {
+      node: args.node, layers: args.layers, perHop: field.perHop, total: field.total, coverage: field.coverage, influence,
+    };
+    if (curve) out.coverageCurve = { layers: curve.layers, median: curve.median, p90: curve.p90, sampled: curve.sample.length };
+    io.out(JSON.stringify(out, null, 2) + '\n');
+    return 0;
+  }
+
+  const c = (code: number, s: string) => (io.color ? `\x1b[${code}m${s}\x1b[0m` : s);
+  const pct = (x: number) => `${(100 * x).toFixed(1)}%`;
+  const lines: string[] = [];
+  const how = args.symmetrise ? 'both ways along every edge' : flow;
+  lines.push(c(1, `Node ${args.node}, ${args.layers} layer${args.layers === 1 ? '' : 's'}`) +
+    c(2, `  (${args.file}: ${g.n} nodes, messages ${how})`));
+  lines.push('');
+  lines.push(c(2, '  hop   new nodes   within reach   share of graph'));
+  const maxCount = Math.max(1, ...field.perHop);
+  let within = 0;
+  field.perHop.forEach((count, k) => {
+    within += count;
+    const bar = '█'.repeat(Math.round((20 * count) / maxCount));
+    lines.push(`  ${String(k).padStart(3)}   ${String(count).padStart(9)}   ${String(within).padStart(12)}   ${pct(within / g.n).padStart(14)}  ${c(36, bar)}`);
+  });
+  lines.push('');
+  const full = field.total === g.n;
+  lines.push(`  ${field.total} of ${g.n} nodes (${pct(field.coverage)}) can pass a message to node ${args.node} within ${args.layers} layer${args.layers === 1 ? '' : 's'}` +
+    (full ? c(33, ' — the whole graph') : '') + '.');
+  if (field.perHop.length > 1 && field.perHop[field.perHop.length - 1] === 0 && !full) {
+    lines.push(c(2, `  The field stops growing before layer ${args.layers}: no further nodes can reach it.`));
+  }
+  lines.push('');
+  const normName = args.randomWalk ? 'random-walk D̃^-1 (A + I)' : 'GCN D̃^-1/2 (A + I) D̃^-1/2';
+  lines.push(c(1, `Strongest influence on node ${args.node}`) + c(2, `  (row ${args.node} of Â^${args.layers}, ${normName}; ${influence.length} of ${infl.support} nodes)`));
+  lines.push(c(2, '      node   weight       share'));
+  for (const { node, weight } of influence) {
+    lines.push(`  ${String(node).padStart(8)}   ${weight.toFixed(6)}   ${pct(weight / infl.rowSum).padStart(6)}`);
+  }
+  if (curve) {
+    lines.push('');
+    lines.push(c(1, 'Coverage by depth') + c(2, `  (${curve.allNodes ? 'all' : curve.sample.length} nodes${curve.allNodes ? '' : ', fixed sample'})`));
+    lines.push(c(2, '  layers   median    90th pct'));
+    curve.layers.forEach((L, i) => lines.push(`  ${String(L).padStart(6)}   ${pct(curve.median[i]!).padStart(6)}   ${pct(curve.p90[i]!).padStart(9)}`));
+  }
+  io.out(lines.join('\n') + '\n');
+  return 0;
+}
+
+export const fieldCommand: Command = {
+  name: 'field',
+  summary: 'field FILE --node V --layers L  receptive field and influence of a node',
+  usage: USAGE,
+  run,
+};
