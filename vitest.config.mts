@@ -3,7 +3,7 @@ import { defineConfig } from 'vitest/config';
 export default defineConfig({
   test: {
     include: ['tests/**/*.test.ts'],
-    exclude: ['tests/e2e/**', 'tests/python/**', 'node_modules/**'],
+    exclude: ['tests/e2e/**', 'tests/vscode/**', 'tests/python/**', 'node_modules/**', '.cache/**'],
     testTimeout: 60_000,
     pool: 'forks',
   },

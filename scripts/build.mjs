@@ -18,6 +18,7 @@ const entries = [
   { ...common, entryPoints: ['extension/src/extension.ts'], outfile: 'dist/extension.js', platform: 'node', format: 'cjs', external: ['vscode'] },
   { ...common, entryPoints: ['server/src/lsp/server.ts'], outfile: 'dist/server.js', platform: 'node', format: 'cjs' },
   
+  { ...common, entryPoints: ['server/src/node/worker.ts'], outfile: 'dist/worker.js', platform: 'node', format: 'cjs' },
   { ...common, entryPoints: ['server/src/cli.ts'], outfile: 'dist/cli.js', platform: 'node', format: 'cjs', banner: { js: '#!/usr/bin/env node' } },
   { ...common, entryPoints: ['webview/src/viewer.ts'], outfile: 'dist/webview/viewer.js', platform: 'browser', format: 'iife', target: 'es2022' },
 ].filter((e) => existsSync(e.entryPoints[0]));

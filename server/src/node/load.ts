@@ -10,6 +10,7 @@ import { checkSet, type CheckSetOptions, type CheckSetResult, type LoadedFile, t
 import { ManifestError, parseManifest } from '../core/checks/manifest';
 import { roleFromName } from '../core/checks/roles';
 import { timed } from '../core/timing';
+import type { FileCache } from './service';
 
 export interface LoadOptions {
   /** Files larger than this are reported unreadable without being read. */
@@ -19,6 +20,8 @@ export interface LoadOptions {
   skipDirs?: ReadonlySet<string>;
   /** Extra predicate to leave paths out (e.g. the editor's exclude globs). */
   exclude?: (absPath: string) => boolean;
+  /** Files already read, keyed by absolute path, reused while mtime and size are unchanged. */
+  cache?: FileCache;
 }
 
 export const DEFAULT_MAX_FILE_BYTES = 2 * 1024 ** 3;
@@ -79,13 +82,19 @@ export function loadFile(p: string, opts: LoadOptions = {}): LoadedFile {
   if (!reader) return { path: p, format: 'json', error: { message: 'not a supported graph file type' } };
   const max = opts.maxFileBytes ?? DEFAULT_MAX_FILE_BYTES;
   try {
-    const size = fs.statSync(p).size;
+    const st = fs.statSync(p);
+    const size = st.size;
+    const abs = path.resolve(p);
+    const cached = opts.cache?.get(abs, st.mtimeMs, size);
+    if (cached) return { ...cached, path: p };
     if (size > max) {
       return { path: p, format: reader.format, error: { message: `the file is ${(size / 1024 ** 2).toFixed(0)} MiB, above the ${(max / 1024 ** 2).toFixed(0)} MiB limit for checking` } };
     }
     const bytes = timed('read', () => readWhole(p, size));
     const result = timed('read', () => reader.read(bytes, p, opts.limits ?? DEFAULT_LIMITS));
-    return { path: p, format: result.format, result };
+    const loaded: LoadedFile = { path: p, format: result.format, result };
+    opts.cache?.set(abs, st.mtimeMs, size, loaded);
+    return loaded;
   } catch (e) {
     if (e instanceof UnreadableError) {
       return { path: p, format: reader.format, error: { message: e.message, ...(e.line !== undefined ? { line: e.line } : {}), ...(e.offset !== undefined ? { offset: e.offset } : {}) } };

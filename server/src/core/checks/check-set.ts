@@ -54,6 +54,8 @@ export interface CheckSetResult {
 
 export interface CheckSetOptions extends GraphOptions {
   severity?: SeverityOverrides;
+  /** Defaults below manifests (editor settings); the GraphOptions fields above override manifests (CLI flags). */
+  defaults?: GraphOptions;
 }
 
 export function dirOf(p: string): string {
@@ -145,7 +147,7 @@ export function checkSet(files: LoadedFile[], manifests: LoadedManifest[], cli: 
   };
 
   const run = (name: string, parts: GraphPart[], options: GraphOptions, severity: SeverityOverrides) => {
-    const merged: GraphOptions = { ...options, ...definedOnly(cli) };
+    const merged: GraphOptions = { ...definedOnly(cli.defaults ?? {}), ...options, ...definedOnly(cli) };
     const check = timed('checks', () => checkGraph(parts, merged));
     const fileSet = [...new Set(parts.map((p) => p.file))];
     graphs.push({ name, files: fileSet, check });

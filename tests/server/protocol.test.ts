@@ -1,0 +1,138 @@
+/**
+ * Protocol tests: the built language server (dist/server.js) spawned over stdio, spoken to in
+ * LSP/JSON-RPC like an editor would. Uses a copy of the demo workspace so nothing in the repo
+ * changes. Expected line numbers are those listed in demo/README.md.
+ */
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { spawn, type ChildProcess } from 'node:child_process';
+import * as fs from 'node:fs';
+import * as os from 'node:os';
+import * as path from 'node:path';
+import { createMessageConnection, StreamMessageReader, StreamMessageWriter, type MessageConnection } from 'vscode-jsonrpc/node';
+import { URI } from 'vscode-uri';
+
+const root = path.join(__dirname, '../..');
+let ws: string;
+let child: ChildProcess;
+let conn: MessageConnection;
+const diagnostics = new Map<string, Array<{ code: string; severity: number; range: { start: { line: number; character: number }; end: { line: number; character: number } }; message: string; codeDescription?: { href: string }; relatedInformation?: unknown[] }>>();
+const waiters: Array<() => void> = [];
+const statuses: Array<{ filesChecked: number; busy: boolean; errors: number }> = [];
+
+function waitFor(pred: () => boolean, ms = 30_000): Promise<void> {
+  return new Promise((resolve, reject) => {
+    const t = setTimeout(() => reject(new Error('timed out waiting')), ms);
+    const check = () => { if (pred()) { clearTimeout(t); resolve(); return true; } return false; };
+    if (!check()) waiters.push(() => { check(); });
+  });
+}
+const uri = (rel: string) => URI.file(path.join(ws, rel)).toString();
+const diags = (rel: string) => diagnostics.get(uri(rel)) ?? [];
+
+beforeAll(async () => {
+  const server = path.join(root, 'dist/server.js');
+  if (!fs.existsSync(server)) throw new Error('dist/server.js missing: run npm run build (npm test does)');
+  ws = fs.mkdtempSync(path.join(os.tmpdir(), 'hopscope-lsp-'));
+  fs.cpSync(path.join(root, 'demo'), ws, { recursive: true });
+  child = spawn(process.execPath, [server, '--stdio'], { stdio: ['pipe', 'pipe', 'inherit'] });
+  child.stdin!.on('error', () => { /* the server may exit before the last write */ });
+  conn = createMessageConnection(new StreamMessageReader(child.stdout!), new StreamMessageWriter(child.stdin!));
+  conn.onNotification('textDocument/publishDiagnostics', (p: { uri: string; diagnostics: never[] }) => {
+    diagnostics.set(p.uri, p.diagnostics);
+    waiters.forEach((w) => w());
+  });
+  conn.onNotification('hopscope/status', (s: never) => { statuses.push(s); waiters.forEach((w) => w()); });
+  conn.onRequest('workspace/configuration', () => [null, null]);
+  conn.onRequest('client/registerCapability', () => null);
+  conn.onRequest('window/workDoneProgress/create', () => null);
+  conn.listen();
+  await conn.sendRequest('initialize', {
+    processId: process.pid, rootUri: URI.file(ws).toString(), workspaceFolders: [{ uri: URI.file(ws).toString(), name: 'demo' }],
+    capabilities: { textDocument: { publishDiagnostics: { relatedInformation: true } }, workspace: { configuration: true }, window: { workDoneProgress: true } },
+  });
+  await conn.sendNotification('initialized', {});
+  await waitFor(() => statuses.some((s) => !s.busy && s.filesChecked >= 16), 60_000);
+}, 90_000);
+
+afterAll(async () => {
+  try { await conn.sendRequest('shutdown'); } catch { /* already gone */ }
+  child?.kill();
+  conn?.dispose();
+  fs.rmSync(ws, { recursive: true, force: true });
+});
+
+describe('language server over stdio', () => {
+  it('checks the whole workspace at start-up, binary files included', () => {
+    expect(diags('archive/snapshot_2024.npz').map((d) => d.code)).toEqual(['unreadable']);
+    expect(diags('lanes/splits.npz').map((d) => d.code).sort()).toEqual(['mask-length-mismatch', 'mask-overlap']);
+    // Binary files: a file-level diagnostic at the start.
+    expect(diags('depots/x.npy')[0]!.range.start).toEqual({ line: 0, character: 0 });
+  });
+
+  it('text diagnostics carry code, link and the exact range of the bad value', () => {
+    const d = diags('lanes/lanes.csv');
+    const oor = d.find((x) => x.code === 'index-out-of-range')!;
+    // line 32 is "5,48,61": the 48 sits at columns 3-4 (1-based), i.e. characters 2..4
+    expect(oor.range).toEqual({ start: { line: 31, character: 2 }, end: { line: 31, character: 4 } });
+    expect(oor.severity).toBe(1);
+    expect(oor.codeDescription!.href).toMatch(/#problem-index-out-of-range$/);
+    const asym = d.find((x) => x.code === 'asymmetric-adjacency')!;
+    expect(asym.range.start.line).toBe(10);
+    expect(asym.severity).toBe(1); // declared undirected in demo/hopscope.json
+    expect(d.map((x) => x.code)).toEqual(expect.arrayContaining(['non-integer-index', 'edge-shape', 'self-loops', 'duplicate-edges']));
+  });
+
+  it('hover on a path string in a Python file shows shapes and roles', async () => {
+    const file = path.join(ws, 'train_docks.py');
+    const text = fs.readFileSync(file, 'utf8');
+    await conn.sendNotification('textDocument/didOpen', { textDocument: { uri: uri('train_docks.py'), languageId: 'python', version: 1, text } });
+    const lines = text.split('\n');
+    const line = lines.findIndex((l) => l.includes('lanes/dock_features.npy'));
+    const character = lines[line]!.indexOf('dock_features') + 3;
+    const h = await conn.sendRequest('textDocument/hover', { textDocument: { uri: uri('train_docks.py') }, position: { line, character } }) as { contents: { value: string } };
+    expect(h.contents.value).toContain('[48, 6]');
+    expect(h.contents.value).toContain('features');
+    expect(h.contents.value).toMatch(/non-finite-features/);
+  });
+
+  it('hover on a node id in an edge list shows its degree and neighbours', async () => {
+    const text = fs.readFileSync(path.join(ws, 'lanes/lanes.csv'), 'utf8');
+    await conn.sendNotification('textDocument/didOpen', { textDocument: { uri: uri('lanes/lanes.csv'), languageId: 'csv', version: 1, text } });
+    const h = await conn.sendRequest('textDocument/hover', { textDocument: { uri: uri('lanes/lanes.csv') }, position: { line: 2, character: 0 } }) as { contents: { value: string } };
+    // line 3 is "0,25,92": node 0. Its out-neighbours, read here with a plain split of the lines:
+    const out = [...new Set(text.split('\n').filter((l) => /^0,\d+,/.test(l)).map((l) => Number(l.split(',')[1])))].sort((a, b) => a - b);
+    expect(out.length).toBeGreaterThan(1);
+    expect(h.contents.value).toMatch(/\*\*node 0\*\*/);
+    expect(h.contents.value).toContain(`out-degree ${out.length} → ${out.join(', ')}`);
+  });
+
+  it('quick fixes on the edge list are workspace edits', async () => {
+    const d = diags('lanes/lanes.csv').filter((x) => x.code === 'self-loops' || x.code === 'asymmetric-adjacency');
+    const actions = await conn.sendRequest('textDocument/codeAction', {
+      textDocument: { uri: uri('lanes/lanes.csv') }, range: d[0]!.range, context: { diagnostics: d },
+    }) as Array<{ title: string; edit: { changes: Record<string, Array<{ range: unknown; newText: string }>> } }>;
+    const titles = actions.map((a) => a.title);
+    expect(titles).toEqual(expect.arrayContaining(['Remove 1 self-loop line', 'Add 1 missing reverse edge']));
+    const add = actions.find((a) => a.title.startsWith('Add'))!;
+    expect(add.edit.changes[uri('lanes/lanes.csv')]![0]!.newText).toBe('1,37,137\n');
+  });
+
+  it('custom requests: summary, tensor page, statistics', async () => {
+    const s = await conn.sendRequest('hopscope/fileSummary', { uri: uri('lanes/dock_features.npy') }) as { status: string; report: { tensors: Array<{ shape: number[] }> } };
+    expect(s.status).toBe('ok');
+    expect(s.report.tensors[0]!.shape).toEqual([48, 6]);
+    const page = await conn.sendRequest('hopscope/tensorPage', { uri: uri('lanes/dock_features.npy'), tensor: 'dock_features', rowStart: 7, rowCount: 2 }) as { rows: unknown[][]; totalRows: number };
+    expect(page.totalRows).toBe(48);
+    expect(page.rows[0]![1]).toBe('NaN'); // dock 7's elevation (planted in scripts/make-demo.mjs)
+    const stats = await conn.sendRequest('hopscope/tensorStats', { uri: uri('lanes/dock_features.npy'), tensor: 'dock_features' }) as { columns: Array<{ nan: number; inf: number }> };
+    expect(stats.columns[1]!.nan).toBe(1);
+    expect(stats.columns[2]!.inf).toBe(1);
+  });
+
+  it('re-checks a file changed on disk', async () => {
+    const file = path.join(ws, 'weekend/riders.edges');
+    fs.writeFileSync(file, '0 1\n1 0\n');
+    await conn.sendNotification('workspace/didChangeWatchedFiles', { changes: [{ uri: uri('weekend/riders.edges'), type: 2 }] });
+    await waitFor(() => diags('weekend/riders.edges').length === 0);
+  });
+});
