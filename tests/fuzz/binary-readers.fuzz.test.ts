@@ -1,0 +1,204 @@
+/**
+ * Property tests for the binary readers: random bytes, and mutated / truncated copies of the
+ * fixtures written by numpy 1.24 / scipy 1.10 (tests/fixtures/make_binary_fixtures.py), must
+ * either read into well-formed tensors or fail with UnreadableError, never anything else.
+ */
+import { describe, it } from 'vitest';
+import fc from 'fast-check';
+import { readNpy } from '../../server/src/core/formats/npy';
+import { readNpz } from '../../server/src/core/formats/npz';
+import { readSafetensors } from '../../server/src/core/formats/safetensors';
+import { openZip } from '../../server/src/core/formats/zip';
+import { UnreadableError, numel, type ReadLimits, type ReadResult } from '../../server/src/core/formats/types';
+import { fixture, fixtureNames, npyBytes, safetensorsBytes } from '../unit/binary-helpers';
+
+/** HOPSCOPE_FUZZ_SCALE=50 runs every property 50 times longer (for bug hunts, not for CI). */
+const SCALE = Math.max(1, Number(process.env['HOPSCOPE_FUZZ_SCALE'] ?? 1) || 1);
+const runs = (n: number) => n * SCALE;
+
+/** Small limits so that a lying header cannot make a run slow. */
+const LIMITS: ReadLimits = { maxDecompressedBytes: 64 * 1024 * 1024, maxHeaderBytes: 1024 * 1024 };
+
+function checkResult(r: ReadResult): void {
+  for (const t of r.tensors) {
+    if (t.kind === 'dense') {
+      const n = numel(t.shape);
+      const got = t.strings ? t.strings.length : t.data.length;
+      if (got !== n) throw new Error(`tensor ${t.name}: ${got} elements for shape (${t.shape})`);
+    } else {
+      const n = t.row.length;
+      if (t.col.length !== n || (t.values && t.values.length !== n)) throw new Error('sparse arrays differ in length');
+      for (let k = 0; k < n; k++) {
+        if (!(t.row[k]! >= 0 && t.row[k]! < t.shape[0] && t.col[k]! >= 0 && t.col[k]! < t.shape[1])) {
+          throw new Error(`sparse entry ${k} outside the shape`);
+        }
+      }
+    }
+  }
+}
+
+/** Runs `fn`; any exception other than UnreadableError fails the property. */
+function onlyUnreadable(fn: () => void): void {
+  try {
+    fn();
+  } catch (e) {
+    if (e instanceof UnreadableError) return;
+    throw e;
+  }
+}
+
+function readAll(bytes: Uint8Array, kind: 'npy' | 'npz' | 'safetensors' | 'zip'): void {
+  switch (kind) {
+    case 'npy': onlyUnreadable(() => checkResult(readNpy(bytes, 'f.npy', LIMITS))); break;
+    case 'npz': onlyUnreadable(() => checkResult(readNpz(bytes, 'f.npz', LIMITS))); break;
+    case 'safetensors': onlyUnreadable(() => checkResult(readSafetensors(bytes, 'f.safetensors', LIMITS))); break;
+    case 'zip':
+      onlyUnreadable(() => {
+        const zip = openZip(bytes, LIMITS);
+        for (const e of zip.entries) {
+          onlyUnreadable(() => {
+            const d = zip.readEntry(e);
+            if (d.length !== e.uncompressedSize) throw new Error('entry length differs from its declared size');
+          });
+        }
+      });
+      break;
+  }
+}
+
+const kindOf = (name: string): 'npy' | 'npz' | 'safetensors' =>
+  name.endsWith('.npy') ? 'npy' : name.endsWith('.npz') ? 'npz' : 'safetensors';
+
+const files = fixtureNames();
+const fixtures = new Map(files.map((n) => [n, fixture(n)]));
+
+type Mutation =
+  | { op: 'set'; at: number; value: number }
+  | { op: 'truncate'; at: number }
+  | { op: 'insert'; at: number; bytes: number[] }
+  | { op: 'delete'; at: number; len: number }
+  | { op: 'u32'; at: number; value: number };
+
+// A fraction of the file length, spread over the whole file. (fc.double would not do: it draws
+// bit patterns, so nearly all of its values in [0, 1) are tiny and every edit lands at byte 0.)
+const POSITION_SCALE = 2 ** 30;
+const position = fc.integer({ min: 0, max: POSITION_SCALE - 1 });
+const interesting = fc.oneof(fc.integer({ min: 0, max: 255 }), fc.constantFrom(0, 1, 0x7f, 0x80, 0xfe, 0xff));
+const mutation: fc.Arbitrary<{ op: string; pos: number; value: number; bytes: number[]; len: number }> = fc.record({
+  op: fc.constantFrom('set', 'set', 'set', 'truncate', 'insert', 'delete', 'u32'),
+  pos: position,
+  value: fc.oneof(interesting, fc.constantFrom(0xffffffff, 0x7fffffff, 0x80000000, 1 << 20, 65535)),
+  bytes: fc.array(interesting, { minLength: 1, maxLength: 8 }),
+  len: fc.integer({ min: 1, max: 64 }),
+});
+
+function mutate(src: Uint8Array, muts: { op: string; pos: number; value: number; bytes: number[]; len: number }[]): Uint8Array {
+  let b = src.slice();
+  for (const m of muts) {
+    const at = Math.floor((m.pos / POSITION_SCALE) * (b.length + 1));
+    const x = { op: m.op, at, value: m.value, bytes: m.bytes, len: m.len } as Mutation & { value: number; bytes: number[]; len: number };
+    switch (x.op) {
+      case 'set': if (at < b.length) b[at] = x.value & 0xff; break;
+      case 'truncate': b = b.slice(0, at); break;
+      case 'insert': {
+        const out = new Uint8Array(b.length + x.bytes.length);
+        out.set(b.subarray(0, at));
+        out.set(x.bytes, at);
+        out.set(b.subarray(at), at + x.bytes.length);
+        b = out;
+        break;
+      }
+      case 'delete': b = new Uint8Array([...b.subarray(0, at), ...b.subarray(at + x.len)]); break;
+      case 'u32':
+        for (let k = 0; k < 4 && at + k < b.length; k++) b[at + k] = (x.value >>> (8 * k)) & 0xff;
+        break;
+    }
+  }
+  return b;
+}
+
+describe('binary readers throw only UnreadableError', () => {
+  it('random bytes', () => {
+    fc.assert(
+      fc.property(fc.uint8Array({ maxLength: 700 }), (bytes) => {
+        for (const k of ['npy', 'npz', 'safetensors', 'zip'] as const) readAll(bytes, k);
+      }),
+      { numRuns: runs(300) },
+    );
+  });
+
+  it('random bytes behind valid magic numbers', () => {
+    const prefixes = [
+      new Uint8Array([0x93, 0x4e, 0x55, 0x4d, 0x50, 0x59, 1, 0]),
+      new Uint8Array([0x93, 0x4e, 0x55, 0x4d, 0x50, 0x59, 3, 0]),
+      new Uint8Array([0x50, 0x4b, 0x03, 0x04]),
+    ];
+    fc.assert(
+      fc.property(fc.integer({ min: 0, max: 2 }), fc.uint8Array({ maxLength: 400 }), (p, rest) => {
+        const b = new Uint8Array(prefixes[p]!.length + rest.length);
+        b.set(prefixes[p]!);
+        b.set(rest, prefixes[p]!.length);
+        readAll(b, 'npy');
+        readAll(b, 'npz');
+        readAll(b, 'zip');
+        // a random tail behind a plausible end-of-central-directory record
+        const eocd = new Uint8Array(rest.length + 22);
+        eocd.set(rest);
+        eocd.set([0x50, 0x4b, 0x05, 0x06], rest.length);
+        for (let k = 4; k < 22; k++) eocd[rest.length + k] = rest[k % Math.max(1, rest.length)] ?? 0;
+        eocd[rest.length + 20] = 0;
+        eocd[rest.length + 21] = 0;
+        readAll(eocd, 'zip');
+        readAll(eocd, 'npz');
+      }),
+      { numRuns: runs(250) },
+    );
+  });
+
+  it('mutated and truncated fixtures', () => {
+    fc.assert(
+      fc.property(fc.constantFrom(...files), fc.array(mutation, { minLength: 1, maxLength: 4 }), (name, muts) => {
+        const b = mutate(fixtures.get(name)!, muts);
+        const kind = kindOf(name);
+        readAll(b, kind);
+        if (kind === 'npz') readAll(b, 'zip');
+      }),
+      { numRuns: runs(1100) },
+    );
+  });
+
+  it('generated .npy headers', () => {
+    const descr = fc.constantFrom('<i8', '>i8', '<u8', '|b1', '<f2', '>f2', '<i4', '>u2', '|u1', '<f8', '|S3', '<U2', '>U1', '|O', '<c8', 'x');
+    const dim = fc.oneof(fc.integer({ min: 0, max: 6 }), fc.constantFrom(-1, 2 ** 31, 2 ** 53, 1e20));
+    fc.assert(
+      fc.property(descr, fc.boolean(), fc.array(dim, { maxLength: 4 }), fc.integer({ min: 0, max: 200 }), fc.integer({ min: 1, max: 3 }),
+        (d, fortran, shape, dataLen, version) => {
+          const tuple = shape.length === 1 ? `(${shape[0]},)` : `(${shape.join(', ')})`;
+          const dict = `{'descr': '${d}', 'fortran_order': ${fortran ? 'True' : 'False'}, 'shape': ${tuple}, }`;
+          const data = new Uint8Array(dataLen).map((_, i) => (i * 37) & 0xff);
+          readAll(npyBytes(dict, data, { version: version as 1 | 2 | 3, align: 64 }), 'npy');
+        }),
+      { numRuns: runs(200) },
+    );
+  });
+
+  it('generated safetensors headers', () => {
+    const dtype = fc.constantFrom('BOOL', 'U8', 'I8', 'I16', 'U16', 'F16', 'BF16', 'I32', 'U32', 'F32', 'F64', 'I64', 'U64', 'F8_E4M3', 'X');
+    const entry = fc.record({
+      name: fc.constantFrom('a', 'b', 'c', '0', '__metadata__'),
+      dtype,
+      shape: fc.array(fc.oneof(fc.integer({ min: 0, max: 4 }), fc.constantFrom(-1, 2 ** 53)), { maxLength: 3 }),
+      begin: fc.integer({ min: 0, max: 40 }),
+      len: fc.integer({ min: -2, max: 40 }),
+    });
+    fc.assert(
+      fc.property(fc.array(entry, { maxLength: 4 }), fc.integer({ min: 0, max: 120 }), (entries, dataLen) => {
+        const body = entries
+          .map((e) => `"${e.name}":{"dtype":"${e.dtype}","shape":${JSON.stringify(e.shape)},"data_offsets":[${e.begin},${e.begin + e.len}]}`)
+          .join(',');
+        readAll(safetensorsBytes(`{${body}}`, new Uint8Array(dataLen)), 'safetensors');
+      }),
+      { numRuns: runs(150) },
+    );
+  });
+});
