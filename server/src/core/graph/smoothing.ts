@@ -107,13 +107,11 @@ export function smoothingCurve(sym: Csr, features: FeatureMatrix, steps: number,
   const unnormalised = new Float64Array(steps + 1);
   let x = features.data.slice();
   let y = new Float64Array(x.length);
-  for (let k = 0; k <= steps; k++) {
+  for (let k = 0; k < steps; k++) {
     throwIfCancelled(cancel);
-    const e = dirichletEnergies(sym, x, cols, invSqrt);
-    caiWang[k] = e.caiWang;
-    unnormalised[k] = e.unnormalised;
-    if (k === steps) break;
-    // y_i = (1/√d̃_i) (x_i/√d̃_i + Σ_{j ∈ N(i)} x_j/√d̃_j)
+    // One pass over the edges does both: the energies of x (pairs j > i) and
+    // y_i = (1/√d̃_i) (x_i/√d̃_i + Σ_{j ∈ N(i)} x_j/√d̃_j).
+    let cw = 0, un = 0;
     for (let i = 0; i < n; i++) {
       if ((i & (ROW_CHUNK - 1)) === 0) throwIfCancelled(cancel);
       const si = invSqrt[i]!;
@@ -124,11 +122,28 @@ export function smoothingCurve(sym: Csr, features: FeatureMatrix, steps: number,
         const j = indices[p]!;
         const sj = invSqrt[j]!;
         const bj = j * cols;
-        for (let f = 0; f < cols; f++) y[bi + f]! += x[bj + f]! * sj;
+        if (j > i) {
+          for (let f = 0; f < cols; f++) {
+            const a = x[bi + f]!, b = x[bj + f]!;
+            const dn = a * si - b * sj;
+            const du = a - b;
+            cw += dn * dn;
+            un += du * du;
+            y[bi + f]! += b * sj;
+          }
+        } else {
+          for (let f = 0; f < cols; f++) y[bi + f]! += x[bj + f]! * sj;
+        }
       }
       for (let f = 0; f < cols; f++) y[bi + f]! *= si;
     }
-    [x, y] = [y, x];
+    caiWang[k] = cw;
+    unnormalised[k] = un;
+    const t = x; x = y; y = t;
   }
+  throwIfCancelled(cancel);
+  const e = dirichletEnergies(sym, x, cols, invSqrt);
+  caiWang[steps] = e.caiWang;
+  unnormalised[steps] = e.unnormalised;
   return { caiWang, unnormalised, steps, cols, nonFinite: features.nonFinite };
 }
