@@ -41,7 +41,7 @@ beforeAll(async () => {
     diagnostics.set(p.uri, p.diagnostics);
     waiters.forEach((w) => w());
   });
-  conn.onNotification('hopscope/status', (s: never) => { statuses.push(s); waiters.forEach((w) => w()); });
+  conn.onNotification('hopscope/status', (s: { filesChecked: number; busy: boolean; errors: number }) => { statuses.push(s); waiters.forEach((w) => w()); });
   conn.onRequest('workspace/configuration', () => [null, null]);
   conn.onRequest('client/registerCapability', () => null);
   conn.onRequest('window/workDoneProgress/create', () => null);

@@ -30,8 +30,8 @@ import {
   codeExplanationMarkdown, fileSummaryMarkdown, integerAt, nodeInfoMarkdown, pathLiteralAt,
 } from './hover-text';
 
-/** Where each problem code is explained (README problem table anchors). */
-export const DOCS_URL = 'https://github.com/hopscope/hopscope/blob/main/README.md#problem-';
+/** Where each problem code is explained: the problem table of the README shipped with the extension. */
+export const DOCS_URL = `${URI.file(path.join(__dirname, '..', 'README.md')).toString()}#problem-`;
 const EDGE_LIST_FIX_FOR: Partial<Record<ProblemCode, FixKind>> = {
   'asymmetric-adjacency': 'add-reverse-edges',
   'self-loops': 'remove-self-loops',

@@ -1,0 +1,127 @@
+/**
+ * The tensor viewer: a read-only custom editor for binary graph files. The webview only draws;
+ * every figure comes from the language server through the requests in server/src/protocol.ts.
+ */
+import * as vscode from 'vscode';
+import type { LanguageClient } from 'vscode-languageclient/node';
+import {
+  FileSummaryRequest, TensorPageRequest, TensorStatsRequest,
+  type FileSummary, type TensorPage, type TensorStats,
+} from '../../server/src/protocol';
+import type { ViewerMessage, ViewerRequest } from '../../webview/src/messages';
+
+export const VIEW_TYPE = 'hopscope.tensorViewer';
+
+export class TensorViewerProvider implements vscode.CustomReadonlyEditorProvider {
+  constructor(
+    private readonly extensionUri: vscode.Uri,
+    private readonly client: () => LanguageClient | undefined,
+    private readonly writeFixedCopy: (uri: vscode.Uri) => Thenable<unknown>,
+  ) {}
+
+  openCustomDocument(uri: vscode.Uri): vscode.CustomDocument {
+    return { uri, dispose: () => {} };
+  }
+
+  async resolveCustomEditor(document: vscode.CustomDocument, panel: vscode.WebviewPanel): Promise<void> {
+    const webview = panel.webview;
+    webview.options = {
+      enableScripts: true,
+      enableForms: false,
+      localResourceRoots: [vscode.Uri.joinPath(this.extensionUri, 'dist', 'webview'), vscode.Uri.joinPath(this.extensionUri, 'media')],
+    };
+    webview.html = viewerHtml(webview, this.extensionUri);
+    const send = (m: ViewerMessage) => void webview.postMessage(m);
+    const fileName = document.uri.path.split('/').pop() ?? '';
+
+    const sendSummary = async () => {
+      const c = this.client();
+      if (!c) { send({ type: 'error', message: 'The Hopscope language server is not running.' }); return; }
+      try {
+        const summary = await c.sendRequest<FileSummary>(FileSummaryRequest.method, { uri: document.uri.toString(), wait: true });
+        send({ type: 'summary', summary, fileName });
+      } catch (e) {
+        send({ type: 'error', message: `Could not read ${fileName}: ${(e as Error).message}` });
+      }
+    };
+
+    const subs: vscode.Disposable[] = [];
+    subs.push(webview.onDidReceiveMessage(async (m: ViewerRequest) => {
+      const c = this.client();
+      try {
+        switch (m.type) {
+          case 'ready':
+            await sendSummary();
+            break;
+          case 'page': {
+            const page = await c?.sendRequest<TensorPage | null>(TensorPageRequest.method, { uri: document.uri.toString(), tensor: m.tensor, rowStart: m.rowStart, rowCount: m.rowCount });
+            if (page) send({ type: 'page', page });
+            break;
+          }
+          case 'stats': {
+            const stats = await c?.sendRequest<TensorStats | null>(TensorStatsRequest.method, { uri: document.uri.toString(), tensor: m.tensor });
+            if (stats) send({ type: 'stats', stats });
+            break;
+          }
+          case 'openProblemTable': {
+            const readme = vscode.Uri.joinPath(this.extensionUri, 'README.md');
+            await vscode.commands.executeCommand('markdown.showPreview', readme);
+            break;
+          }
+          case 'writeFixedCopy':
+            await this.writeFixedCopy(document.uri);
+            break;
+          case 'reopenAsText':
+            await vscode.commands.executeCommand('vscode.openWith', document.uri, 'default');
+            break;
+        }
+      } catch (e) {
+        send({ type: 'error', message: (e as Error).message });
+      }
+    }));
+
+    // Follow the file: re-read on change, close on delete.
+    const folder = vscode.Uri.joinPath(document.uri, '..');
+    const watcher = vscode.workspace.createFileSystemWatcher(new vscode.RelativePattern(folder, fileName));
+    let timer: NodeJS.Timeout | undefined;
+    subs.push(watcher, watcher.onDidChange(() => {
+      clearTimeout(timer);
+      timer = setTimeout(() => { send({ type: 'changed' }); void sendSummary(); }, 400);
+    }), watcher.onDidDelete(() => panel.dispose()));
+    panel.onDidDispose(() => { clearTimeout(timer); subs.forEach((d) => d.dispose()); });
+  }
+}
+
+function viewerHtml(webview: vscode.Webview, extensionUri: vscode.Uri): string {
+  const nonce = makeNonce();
+  const script = webview.asWebviewUri(vscode.Uri.joinPath(extensionUri, 'dist', 'webview', 'viewer.js'));
+  const style = webview.asWebviewUri(vscode.Uri.joinPath(extensionUri, 'media', 'viewer.css'));
+  const csp = [
+    "default-src 'none'",
+    `style-src ${webview.cspSource}`,
+    `img-src ${webview.cspSource}`,
+    `font-src ${webview.cspSource}`,
+    `script-src 'nonce-${nonce}'`,
+  ].join('; ');
+  return `<!DOCTYPE html>
+<html lang="en">
+<head>
+<meta charset="UTF-8">
+<meta http-equiv="Content-Security-Policy" content="${csp}">
+<meta name="viewport" content="width=device-width, initial-scale=1.0">
+<link rel="stylesheet" href="${style}">
+<title>Tensor viewer</title>
+</head>
+<body>
+<main id="app"></main>
+<script nonce="${nonce}" src="${script}"></script>
+</body>
+</html>`;
+}
+
+function makeNonce(): string {
+  const chars = 'ABCDEFGHIJKLMNOPQRSTUVWXYZabcdefghijklmnopqrstuvwxyz0123456789';
+  let s = '';
+  for (let i = 0; i < 32; i++) s += chars.charAt(Math.floor(Math.random() * chars.length));
+  return s;
+}
