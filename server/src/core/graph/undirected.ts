@@ -1,0 +1,111 @@
+/**
+ * The undirected simple view of a stored graph, shared by the structure analyses (1-WL, bridges,
+ * curvature).
+ *
+ * Nodes u and v are adjacent when the file stores u → v or v → u (or both): the graph is
+ * symmetrised. Self-loops are dropped and repeated entries collapse into one edge. Each adjacency
+ * entry keeps a multiplicity: the larger of the two directed counts, max(#(u → v), #(v → u)). So an
+ * edge index that stores every undirected edge once in each direction gives multiplicity 1, and one
+ * that stores the pair twice in each direction (a doubled edge) gives 2. Only the bridge search
+ * looks at multiplicities.
+ *
+ * Built in O(N + E) by merging the sorted forward and reverse rows; typed arrays only.
+ */
+import { buildSortedPair, type Csr } from './csr';
+
+export interface UndirectedGraph extends Csr {
+  /** Row u: the neighbours of u, sorted ascending, no repeats, never u itself. */
+  readonly indptr: Int32Array;
+  readonly indices: Int32Array;
+  /** Multiplicity of each adjacency entry (aligned with `indices`). */
+  readonly mult: Int32Array;
+}
+
+/** Optional cooperative cancellation, checked between chunks of work. */
+export interface Cancellation {
+  isCancellationRequested: boolean;
+}
+
+export class CancelledError extends Error {
+  override readonly name = 'CancelledError';
+  constructor() {
+    super('cancelled');
+  }
+}
+
+/** Throws CancelledError when the token asks for it. */
+export function throwIfCancelled(cancel: Cancellation | undefined): void {
+  if (cancel?.isCancellationRequested) throw new CancelledError();
+}
+
+/**
+ * The undirected view from the sorted forward and reverse CSR of a graph (as returned by
+ * `buildSortedPair` or `loadGraph`).
+ */
+export function undirectedView(fwd: Csr, rev: Csr): UndirectedGraph {
+  const n = fwd.n;
+  const fp = fwd.indptr, fi = fwd.indices, rp = rev.indptr, ri = rev.indices;
+  // Pass 1: row lengths of the merged, de-duplicated rows.
+  const indptr = new Int32Array(n + 1);
+  for (let u = 0; u < n; u++) {
+    let a = fp[u]!, b = rp[u]!;
+    const ae = fp[u + 1]!, be = rp[u + 1]!;
+    let count = 0, last = -1;
+    while (a < ae || b < be) {
+      const x = b >= be || (a < ae && fi[a]! <= ri[b]!) ? fi[a++]! : ri[b++]!;
+      if (x !== last && x !== u) count++;
+      last = x;
+    }
+    indptr[u + 1] = indptr[u]! + count;
+  }
+  // Pass 2: fill neighbours and multiplicities.
+  const m2 = indptr[n]!;
+  const indices = new Int32Array(m2);
+  const mult = new Int32Array(m2);
+  for (let u = 0; u < n; u++) {
+    let a = fp[u]!, b = rp[u]!;
+    const ae = fp[u + 1]!, be = rp[u + 1]!;
+    let w = indptr[u]!;
+    while (a < ae || b < be) {
+      const x = a < ae && (b >= be || fi[a]! <= ri[b]!) ? fi[a]! : ri[b]!;
+      let cf = 0, cr = 0;
+      while (a < ae && fi[a] === x) { a++; cf++; }
+      while (b < be && ri[b] === x) { b++; cr++; }
+      if (x === u) continue;
+      indices[w] = x;
+      mult[w] = cf > cr ? cf : cr;
+      w++;
+    }
+  }
+  return { n, indptr, indices, mult };
+}
+
+/** The undirected view straight from an edge list (ids in [0, n)). */
+export function undirectedFromEdges(n: number, src: Int32Array, dst: Int32Array): UndirectedGraph {
+  const { fwd, rev } = buildSortedPair(n, src, dst);
+  return undirectedView(fwd, rev);
+}
+
+/** Number of undirected edges (each counted once, multiplicities ignored). */
+export function undirectedEdgeCount(g: UndirectedGraph): number {
+  return g.indptr[g.n]! / 2;
+}
+
+/**
+ * The disjoint union of two undirected views: the nodes of `b` follow those of `a`
+ * (node v of b becomes a.n + v).
+ */
+export function disjointUnion(a: UndirectedGraph, b: UndirectedGraph): UndirectedGraph {
+  const n = a.n + b.n;
+  const ea = a.indptr[a.n]!, eb = b.indptr[b.n]!;
+  const indptr = new Int32Array(n + 1);
+  indptr.set(a.indptr, 0);
+  for (let v = 1; v <= b.n; v++) indptr[a.n + v] = ea + b.indptr[v]!;
+  const indices = new Int32Array(ea + eb);
+  indices.set(a.indices, 0);
+  for (let k = 0; k < eb; k++) indices[ea + k] = b.indices[k]! + a.n;
+  const mult = new Int32Array(ea + eb);
+  mult.set(a.mult, 0);
+  mult.set(b.mult, ea);
+  return { n, indptr, indices, mult };
+}
