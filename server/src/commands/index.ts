@@ -4,7 +4,13 @@
  */
 import type { Command } from './types';
 import { fieldCommand } from './field';
+import { wlCommand } from './wl';
+import { compareCommand } from './compare';
+import { bottlenecksCommand } from './bottlenecks';
 
 export const COMMANDS: Command[] = [
   fieldCommand,
+  wlCommand,
+  compareCommand,
+  bottlenecksCommand,
 ];

@@ -1,0 +1,124 @@
+/**
+ * `hopscope bottlenecks FILE`: where messages have to squeeze through — bridges and the most
+ * negatively curved edges (Forman and balanced Forman curvature).
+ */
+import type { CliIo, Command } from './types';
+import { UsageError } from './types';
+import { guarded, loadUndirected, optionalWhole, parseArgs, plural, styler } from './structure-args';
+import { findBridges } from '../core/graph/bridges';
+import { edgeCurvature, mostNegativeFirst } from '../core/graph/curvature';
+
+const DEFAULT_TOP = 20;
+
+const USAGE = `Usage: hopscope bottlenecks FILE [options]
+
+Finds the edges where a message-passing network has to squeeze information from many nodes
+through few connections (over-squashing):
+  - bridges: edges whose removal cuts the graph in two;
+  - edge curvature, most negative first: Forman curvature 4 − d_u − d_v, and balanced Forman
+    curvature (Topping et al., ICLR 2022), which also credits triangles and 4-cycles around the
+    edge. Balanced Forman curvature near its floor of −2 marks a bottleneck; edges
+    inside dense clusters are positive.
+
+The analysis runs on the undirected view: edge directions are ignored, self-loops dropped and
+repeated edges merged (an edge stored twice in each direction is never a bridge).
+
+Options:
+  --top T               list the T most negatively curved edges (default ${DEFAULT_TOP})
+  --num-nodes N         declare the node count
+  --index-base 0|1      declare that node ids start at 0 or at 1 (ids are reported as in the file)
+  --json                print JSON (see below)
+  -h, --help            show this help
+
+JSON: { "bridges": [[u, v], ...], "bridgeCount", "edges": [{ "u", "v", "formanCurvature",
+"balancedFormanCurvature", "triangles", "bridge" }], "summary" }. "bridges" lists every bridge
+as a [u, v] pair (u < v); "edges" holds the T edges of lowest balanced Forman curvature, most
+negative first; "summary" gives the edge count and the minimum, maximum and mean curvatures.
+
+Exit codes: 0 = done; 2 = usage error or the file could not be read.`;
+
+function run(argv: string[], io: CliIo): number {
+  return guarded('bottlenecks', USAGE, io, () => {
+    const args = parseArgs(argv, ['--top'], ['--json']);
+    if (args.files.length !== 1) throw new UsageError(args.files.length ? `one FILE at a time, got ${args.files.length}` : 'no FILE given');
+    const top = optionalWhole(args, '--top') ?? DEFAULT_TOP;
+    const file = args.files[0]!;
+    const { g, base } = loadUndirected(file, args.options, 'bottlenecks', io);
+    const br = findBridges(g);
+    const curv = edgeCurvature(g);
+    const order = mostNegativeFirst(curv, 'balancedForman');
+    const bridgeKeys = new Set<number>();
+    for (let k = 0; k < br.count; k++) bridgeKeys.add(br.u[k]! * g.n + br.v[k]!);
+    const isBridge = (e: number) => bridgeKeys.has(curv.u[e]! * g.n + curv.v[e]!);
+
+    let fMin = Infinity, fMax = -Infinity, fSum = 0, bMin = Infinity, bMax = -Infinity, bSum = 0;
+    for (let e = 0; e < curv.m; e++) {
+      const f = curv.forman[e]!, b = curv.balancedForman[e]!;
+      if (f < fMin) fMin = f;
+      if (f > fMax) fMax = f;
+      fSum += f;
+      if (b < bMin) bMin = b;
+      if (b > bMax) bMax = b;
+      bSum += b;
+    }
+    const summary = curv.m === 0 ? { edges: 0 } : {
+      edges: curv.m,
+      formanMin: fMin, formanMax: fMax, formanMean: fSum / curv.m,
+      balancedFormanMin: bMin, balancedFormanMax: bMax, balancedFormanMean: bSum / curv.m,
+    };
+    const shown = Array.from(order.subarray(0, Math.min(top, curv.m)));
+
+    if (args.switches.has('--json')) {
+      const out = {
+        bridges: Array.from(br.u, (u, k) => [u + base, br.v[k]! + base]),
+        bridgeCount: br.count,
+        edges: shown.map((e) => ({
+          u: curv.u[e]! + base, v: curv.v[e]! + base,
+          formanCurvature: curv.forman[e]!, balancedFormanCurvature: curv.balancedForman[e]!,
+          triangles: curv.triangles[e]!, bridge: isBridge(e),
+        })),
+        summary,
+      };
+      io.out(JSON.stringify(out, null, 2) + '\n');
+      return 0;
+    }
+
+    const c = styler(io);
+    const lines: string[] = [];
+    lines.push(c(1, 'Bottlenecks') + c(2, `  (${file}: ${plural(g.n, 'node')}, ${plural(curv.m, 'edge')} in the undirected view)`));
+    lines.push('');
+    if (br.count === 0) {
+      lines.push('  No bridges: every edge lies on a cycle.');
+    } else {
+      const listed = Array.from(br.u.subarray(0, Math.min(br.count, Math.max(top, 1))), (u, k) => `${u + base}–${br.v[k]! + base}`);
+      lines.push(`  ${plural(br.count, 'bridge')} (removing one cuts the graph): ${listed.join(', ')}` +
+        (br.count > listed.length ? c(2, ` … +${br.count - listed.length}`) : ''));
+    }
+    if (curv.m > 0) {
+      lines.push('');
+      lines.push(c(1, `Most negatively curved edges`) + c(2, `  (${shown.length} of ${curv.m}, by balanced Forman curvature)`));
+      const w = Math.max(4, ...shown.map((e) => `${curv.u[e]! + base}–${curv.v[e]! + base}`.length));
+      lines.push(c(2, `  ${'edge'.padEnd(w)}   balanced   Forman   triangles`));
+      for (const e of shown) {
+        const b = curv.balancedForman[e]!;
+        const label = `${curv.u[e]! + base}–${curv.v[e]! + base}`.padEnd(w);
+        const bs = b.toFixed(4).padStart(8);
+        const mark = isBridge(e) ? c(33, '  bridge') : '';
+        lines.push(`  ${label}   ${b < 0 ? c(31, bs) : bs}   ${String(curv.forman[e]).padStart(6)}   ${String(curv.triangles[e]).padStart(9)}${mark}`);
+      }
+      const s = summary as { balancedFormanMean: number; formanMean: number; balancedFormanMin: number; balancedFormanMax: number };
+      lines.push('');
+      lines.push(c(2, `  balanced Forman: min ${s.balancedFormanMin.toFixed(4)}, max ${s.balancedFormanMax.toFixed(4)}, mean ${s.balancedFormanMean.toFixed(4)};` +
+        ` Forman: min ${fMin}, max ${fMax}, mean ${s.formanMean.toFixed(3)}`));
+    }
+    io.out(lines.join('\n') + '\n');
+    return 0;
+  });
+}
+
+export const bottlenecksCommand: Command = {
+  name: 'bottlenecks',
+  summary: 'bottlenecks FILE [--top T]  bridges and most negatively curved edges (over-squashing)',
+  usage: USAGE,
+  run,
+};
