@@ -1,0 +1,667 @@
+/**
+ * Edge-list text reader (.txt .edges .el .csv .tsv, each optionally .gz): one edge per line,
+ * `source target [weight [feature …]]`.
+ *
+ * One pass over the bytes with hand-written integer parsing into growable typed arrays; no
+ * per-line strings or objects. The layout (delimiter, header, column count) is sniffed from the
+ * first data lines. Every value stays locatable: each edge keeps the byte offset of its line, and
+ * a locator re-splits that one line when asked for a field's line/column.
+ *
+ * Problems (values, not exceptions):
+ * - a source/target that is not a plain int32 integer (`1.5`, `1e3`, `abc`, `3000000000`) →
+ *   `non-integer-index` (error); that line's edge is left out.
+ * - a data line with fewer than 2 fields → `edge-shape` (error); nothing is kept from it.
+ * - a weight/feature field that is not a number → `edge-shape` (error) naming the column. The
+ *   edge itself is kept (its ids are fine) with NaN in that slot, so edge counts match the file;
+ *   reporting it here gives the exact token, where a later non-finite check could only say "NaN".
+ *   An empty field (what pandas writes for NaN) is read as NaN without a problem.
+ * - a line with a different number of fields than the others → `edge-shape` (warning); missing
+ *   weight/feature slots are NaN, extra fields are ignored.
+ * Negative ids are valid integers here; range checks belong to the checks layer.
+ */
+import {
+  UnreadableError,
+  type DenseTensor,
+  type ProblemLocation,
+  type ReadLimits,
+  type ReadResult,
+  type TextLocator,
+  type TextSpan,
+} from './types';
+import {
+  ByteLines,
+  COMMA,
+  CR,
+  FieldSplitter,
+  HASH,
+  INT32_MAX,
+  LF,
+  PERCENT,
+  PIPE,
+  ProblemCollector,
+  QUOTE,
+  allocFloat64,
+  allocInt32,
+  allocUint32,
+  SEMICOLON,
+  SPACE,
+  TAB,
+  bomLength,
+  fit,
+  growFloat64,
+  growUint32,
+  intRefusal,
+  lineEndFrom,
+  numberState,
+  parseDecimalBytes,
+  parseIntBytes,
+  parseNumberBytes,
+  plural,
+  skipBlanks,
+  textBytes,
+  tokenText,
+  utf16Length,
+} from './text-common';
+
+export type Delimiter = 'whitespace' | 'tab' | ',' | ';' | '|';
+
+export interface EdgeListReadResult extends ReadResult {
+  /** How fields were separated. */
+  delimiter: Delimiter;
+  /**
+   * Column names, from a header row or from a commented header line right above the data
+   * (`numpy.savetxt(..., header=...)` writes `# a,b,c`). Absent when the file names no columns.
+   */
+  columns?: string[];
+}
+
+/** Number of data lines the layout is sniffed from. */
+const SNIFF_LINES = 20;
+const DELIMS: ReadonlyArray<[number, Delimiter]> = [
+  [TAB, 'tab'],
+  [COMMA, ','],
+  [SEMICOLON, ';'],
+  [PIPE, '|'],
+];
+
+interface Layout {
+  delim: number;
+  delimiter: Delimiter;
+  /** Expected fields per line (≥ 2). */
+  fieldCount: number;
+  /** Offset of the header row's first byte, or -1. */
+  headerAt: number;
+  columns: string[] | undefined;
+  /** The third field is a Python dict (`networkx.write_edgelist(data=True)`); weight comes from its 'weight' key. */
+  dict: boolean;
+  /** Every sampled line ends with the delimiter: the empty last field is not a column. */
+  trailingEmpty: boolean;
+  /** Average bytes per sampled data line, to pre-size the arrays. */
+  bytesPerLine: number;
+}
+
+export function readEdgeList(bytes: Uint8Array, fileName: string, limits: ReadLimits): EdgeListReadResult {
+  const b = textBytes(bytes, fileName, limits);
+  const n = b.length;
+  const first = bomLength(b);
+  const layout = sniffLayout(b, first);
+  const C = layout.fieldCount;
+  const nw = C > 2 ? 1 : 0;
+  const na = C > 3 ? C - 3 : 0;
+  const delim = layout.delim;
+  const headerAt = layout.headerAt;
+  const dict = layout.dict;
+  const trailingEmpty = layout.trailingEmpty;
+  const report = new Reporter(b, layout);
+
+  let cap = Math.min(Math.ceil((n / layout.bytesPerLine) * 1.05) + 16, 1 << 28);
+  // Sources and targets share one buffer, [sources | targets], so that edge_index [2, E] is a
+  // copyWithin away at the end instead of a fresh 8·E-byte copy.
+  let ids = allocInt32(2 * cap);
+  let offs = allocUint32(cap);
+  let w = allocFloat64(nw ? cap : 0);
+  // Feature rows have their own capacity: a complete line spends at least 2·C-1 bytes.
+  let attrRows = na ? Math.min(cap, Math.floor(n / (2 * C - 1)) + 1) : 0;
+  let attr = allocFloat64(attrRows * na);
+  let E = 0;
+
+  const sp = new FieldSplitter(delim);
+  // Lines that start at or before the last LF are scanned without bounds checks: every scan
+  // stops at that line's LF at the latest. The fast path takes plain `int<sep>int[<sep>num…]`
+  // lines with exactly the expected fields; anything else goes through the general path.
+  let lastLF = n - 1;
+  while (lastLF >= first && b[lastLF] !== LF) lastLF--;
+  const fastOk = !dict;
+
+  let pos = first;
+  let line = 0;
+  while (pos < n) {
+    line++;
+    const lineStart = pos;
+    let i = pos;
+    let c = 0;
+    if (pos <= lastLF) {
+      c = b[i]!;
+      while (c === SPACE || c === TAB || c === CR) c = b[++i]!;
+      if (c === LF) {
+        pos = i + 1;
+        continue;
+      }
+    } else {
+      i = skipBlanks(b, pos, n);
+      if (i >= n) break;
+      c = b[i]!;
+    }
+    if (c === HASH || c === PERCENT || i === headerAt) {
+      pos = lineEndFrom(b, i, n) + 1;
+      continue;
+    }
+
+    // Room for one more edge (both paths below write slot E).
+    if (E === cap) {
+      ids = growIds(ids, cap);
+      cap = ids.length >>> 1;
+      offs = growUint32(offs, cap);
+      if (nw) w = growFloat64(w, cap);
+    }
+    if (E === attrRows && na) {
+      // Complete lines spend at least two bytes per feature value, so E·(C-3) stays below the
+      // file size; beyond that most lines lack the columns the first ones have.
+      if (E * na > n + 16 * na) {
+        throw new UnreadableError(
+          `the first lines have ${C} columns, but most lines are much shorter: too many missing values to store`,
+        );
+      }
+      attrRows = Math.min(cap, Math.ceil(attrRows * 1.5) + 16);
+      attr = growFloat64(attr, attrRows * na);
+    }
+
+    if (fastOk && pos <= lastLF) {
+      fast: {
+        let j = i;
+        let neg = c === 45;
+        if (neg) c = b[++j]!;
+        let d = c - 48;
+        if (d < 0 || d > 9) break fast;
+        let ds = j;
+        let u = 0;
+        do {
+          u = u * 10 + d;
+          c = b[++j]!;
+          d = c - 48;
+        } while (d >= 0 && d <= 9);
+        if (j - ds > 10 || u > INT32_MAX + (neg ? 1 : 0)) break fast;
+        if (neg) u = -u;
+        if (delim === 0) {
+          if (c !== SPACE && c !== TAB) break fast;
+          do c = b[++j]!; while (c === SPACE || c === TAB);
+        } else {
+          while (c === SPACE) c = b[++j]!;
+          if (c !== delim) break fast;
+          c = b[++j]!;
+          while (c === SPACE) c = b[++j]!;
+        }
+        neg = c === 45;
+        if (neg) c = b[++j]!;
+        d = c - 48;
+        if (d < 0 || d > 9) break fast;
+        ds = j;
+        let v = 0;
+        do {
+          v = v * 10 + d;
+          c = b[++j]!;
+          d = c - 48;
+        } while (d >= 0 && d <= 9);
+        if (j - ds > 10 || v > INT32_MAX + (neg ? 1 : 0)) break fast;
+        if (neg) v = -v;
+        // Weight and feature columns: plain numbers only (anything else takes the general path,
+        // which reports it). Slots of edge E may be written before the line is known to be
+        // plain: the general path then rewrites them.
+        for (let k = 2; k < C; k++) {
+          if (delim === 0) {
+            if (c !== SPACE && c !== TAB) break fast;
+            do c = b[++j]!; while (c === SPACE || c === TAB);
+          } else {
+            while (c === SPACE) c = b[++j]!;
+            if (c !== delim) break fast;
+            c = b[++j]!;
+            while (c === SPACE) c = b[++j]!;
+          }
+          const s = j;
+          while (c !== delim && c !== SPACE && c !== TAB && c !== CR && c !== LF) c = b[++j]!;
+          if (j === s) break fast;
+          const x = parseDecimalBytes(b, s, j);
+          if (!numberState.ok) break fast;
+          if (k === 2) w[E] = x;
+          else attr[E * na + k - 3] = x;
+        }
+        while (c === SPACE || c === TAB || c === CR) c = b[++j]!;
+        if (c !== LF) break fast;
+        ids[E] = u;
+        ids[cap + E] = v;
+        offs[E] = i;
+        E++;
+        pos = j + 1;
+        continue;
+      }
+    }
+
+    // General path: split the line into fields.
+    sp.split(b, i, n);
+    pos = sp.next;
+    const f = sp.count;
+    const st = sp.starts;
+    const en = sp.ends;
+    if (f < 2) {
+      report.short(line, lineStart, i, sp.lineEnd);
+      continue;
+    }
+    const u = parseIntBytes(b, st[0]!, en[0]!);
+    const v = parseIntBytes(b, st[1]!, en[1]!);
+    if (u !== u || v !== v) {
+      const k = u !== u ? 0 : 1;
+      report.nonInteger(line, lineStart, k, st[k]!, en[k]!);
+      continue;
+    }
+    ids[E] = u;
+    ids[cap + E] = v;
+    offs[E] = i;
+    if (nw) {
+      if (dict) {
+        w[E] = f > 2 ? dictWeight(b, st[2]!, sp.lineEnd, report, line, lineStart) : NaN;
+      } else {
+        for (let k = 2; k < C; k++) {
+          let x = NaN;
+          if (k < f) {
+            const s = st[k]!;
+            const e = en[k]!;
+            if (e > s) {
+              x = parseDecimalBytes(b, s, e);
+              if (!numberState.ok) report.notNumber(line, lineStart, k, s, e);
+            }
+          }
+          if (k === 2) w[E] = x;
+          else attr[E * na + k - 3] = x;
+        }
+      }
+    }
+    if (f !== C && !dict && !(trailingEmpty && f === C + 1 && st[C] === en[C])) {
+      report.fieldCount(line, lineStart, i, sp.lineEnd, f);
+    }
+    E++;
+  }
+
+  const text = new EdgeText(b, first, delim, dict, fit(offs, E));
+  if (E < cap) ids.copyWithin(E, cap, cap + E);
+  const edgeIndex = fit(ids, 2 * E);
+  const tensors: DenseTensor[] = [
+    {
+      kind: 'dense', name: 'edge_index', dtype: 'int64', shape: [2, E], data: edgeIndex,
+      locator: new EdgeLocator(text, 0, E, 0), declaredRole: 'edge-index',
+    },
+  ];
+  if (nw) {
+    tensors.push({
+      kind: 'dense', name: 'edge_weight', dtype: 'float64', shape: [E], data: fit(w, E),
+      locator: new EdgeLocator(text, 1, E, 1), declaredRole: 'edge-weight',
+    });
+  }
+  if (na) {
+    tensors.push({
+      kind: 'dense', name: 'edge_attr', dtype: 'float64', shape: [E, na], data: fit(attr, E * na),
+      locator: new EdgeLocator(text, 2, E, na), declaredRole: 'edge-features',
+    });
+  }
+  const result: EdgeListReadResult = {
+    format: 'edgelist', tensors, problems: report.problems.problems(), delimiter: layout.delimiter,
+  };
+  if (layout.columns) result.columns = layout.columns;
+  return result;
+}
+
+/** Turns parse failures into problems; builds locations only while they are still kept. */
+class Reporter {
+  readonly problems = new ProblemCollector();
+  private readonly expected: number;
+  private readonly columns: string[] | undefined;
+
+  constructor(private readonly b: Uint8Array, layout: Layout) {
+    this.expected = layout.fieldCount;
+    this.columns = layout.columns;
+  }
+
+  private loc(line: number, lineStart: number, s: number, e: number, detail: string): ProblemLocation {
+    const b = this.b;
+    return { line, column: utf16Length(b, lineStart, s) + 1, length: utf16Length(b, s, e), detail };
+  }
+
+  private colName(k: number): string {
+    const name = this.columns?.[k];
+    return name !== undefined ? `column ${k + 1} ('${name}')` : `column ${k + 1}`;
+  }
+
+  short(line: number, lineStart: number, s: number, lineEnd: number): void {
+    const e = trimEnd(this.b, s, lineEnd);
+    this.problems.add('short', 'edge-shape', 'error', 'edge_index', shortSummary,
+      this.problems.wants('short')
+        ? this.loc(line, lineStart, s, e, `'${tokenText(this.b, s, e)}' has fewer than 2 fields`)
+        : undefined);
+  }
+
+  nonInteger(line: number, lineStart: number, k: number, s: number, e: number): void {
+    this.problems.add('id', 'non-integer-index', 'error', 'edge_index', nonIntegerSummary,
+      this.problems.wants('id')
+        ? this.loc(line, lineStart, s, e,
+          `${k === 0 ? 'source' : 'target'} '${tokenText(this.b, s, e)}' ${intRefusal(this.b, s, e)}`)
+        : undefined);
+  }
+
+  notNumber(line: number, lineStart: number, k: number, s: number, e: number): void {
+    const key = `num${k}`;
+    const name = this.colName(k);
+    this.problems.add(key, 'edge-shape', 'error', k === 2 ? 'edge_weight' : 'edge_attr',
+      (cnt, p) => `${plural(cnt, 'value')} in ${name} ${cnt === 1 ? 'is' : 'are'} not a number ` +
+        `(first at line ${p?.line}: ${p?.detail}); read as NaN`,
+      this.problems.wants(key)
+        ? this.loc(line, lineStart, s, e, `'${tokenText(this.b, s, e)}' is not a number`)
+        : undefined);
+  }
+
+  fieldCount(line: number, lineStart: number, s: number, lineEnd: number, f: number): void {
+    const expected = this.expected;
+    this.problems.add('fields', 'edge-shape', 'warning', 'edge_index',
+      (cnt, p) => `${plural(cnt, 'line')} ${cnt === 1 ? 'has' : 'have'} a different number of fields than ` +
+        `the ${expected} expected (first at line ${p?.line}: ${p?.detail}); missing values are read as NaN, ` +
+        `extra ones are ignored`,
+      this.problems.wants('fields')
+        ? this.loc(line, lineStart, s, trimEnd(this.b, s, lineEnd), `${f} fields`)
+        : undefined);
+  }
+
+  dictWeight(line: number, lineStart: number, s: number, e: number): void {
+    this.problems.add('dictw', 'edge-shape', 'error', 'edge_weight',
+      (cnt, p) => `${plural(cnt, 'weight')} ${cnt === 1 ? 'is' : 'are'} not a number (first at line ` +
+        `${p?.line}: ${p?.detail}); read as NaN`,
+      this.problems.wants('dictw')
+        ? this.loc(line, lineStart, s, e, `'${tokenText(this.b, s, e)}' is not a number`)
+        : undefined);
+  }
+}
+
+const shortSummary = (k: number, p: ProblemLocation | undefined): string =>
+  `${plural(k, 'line')} of the edge list ${k === 1 ? 'has' : 'have'} fewer than 2 fields (source and target), ` +
+  `first at line ${p?.line}; ${k === 1 ? 'it is' : 'they are'} left out`;
+
+const nonIntegerSummary = (k: number, p: ProblemLocation | undefined): string =>
+  `${plural(k, 'edge')} ${k === 1 ? 'has' : 'have'} a source or target that is not an integer node id ` +
+  `(first at line ${p?.line}, column ${p?.column}: ${p?.detail}); ${k === 1 ? 'it is' : 'they are'} left out. ` +
+  `Ids must be written as integers (with numpy.savetxt use fmt='%d').`;
+
+/** Grows the [sources | targets] buffer of capacity `cap` by half, keeping both halves. */
+function growIds(ids: Int32Array, cap: number): Int32Array<ArrayBuffer> {
+  const next = Math.ceil(cap * 1.5) + 16;
+  const out = allocInt32(2 * next);
+  out.set(ids.subarray(0, cap));
+  out.set(ids.subarray(cap, 2 * cap), next);
+  return out;
+}
+
+function trimEnd(b: Uint8Array, s: number, e: number): number {
+  while (e > s && (b[e - 1] === 32 || b[e - 1] === 9 || b[e - 1] === 13)) e--;
+  return e;
+}
+
+// ---------------------------------------------------------------------------------------------
+// layout sniffing
+
+function sniffLayout(b: Uint8Array, first: number): Layout {
+  const n = b.length;
+  const lineStarts: number[] = [];
+  const lineEnds: number[] = [];
+  let commentBefore = -1;
+  let pos = first;
+  while (pos < n && lineStarts.length < SNIFF_LINES) {
+    const i = skipBlanks(b, pos, n);
+    const end = lineEndFrom(b, i, n);
+    if (i < end) {
+      const c = b[i]!;
+      if (c === HASH || c === PERCENT) {
+        if (lineStarts.length === 0) commentBefore = i;
+      } else {
+        lineStarts.push(i);
+        lineEnds.push(trimEnd(b, i, end));
+      }
+    }
+    pos = end + 1;
+  }
+  const sampled = lineStarts.length;
+  let bytesPerLine = 16;
+  if (sampled > 0) bytesPerLine = Math.max(4, (pos - first) / sampled);
+
+  // Delimiter: one that occurs the same number of times on every sampled line wins (most
+  // occurrences first, then tab, comma, semicolon, pipe); else the one occurring most often on
+  // every line; else runs of whitespace.
+  let best: [number, Delimiter] | undefined;
+  let bestCount = 0;
+  let loose: [number, Delimiter] | undefined;
+  let looseMin = 0;
+  if (sampled > 0) {
+    for (const cand of DELIMS) {
+      let min = Infinity;
+      let max = 0;
+      for (let k = 0; k < sampled; k++) {
+        let cnt = 0;
+        // Counting stops at a '{': networkx dict data (`{'weight': 4, 'c': 1}`) has its own commas.
+        for (let p = lineStarts[k]!; p < lineEnds[k]! && b[p] !== 0x7b; p++) if (b[p] === cand[0]) cnt++;
+        if (cnt < min) min = cnt;
+        if (cnt > max) max = cnt;
+      }
+      if (min > 0 && min === max && min > bestCount) {
+        best = cand;
+        bestCount = min;
+      }
+      if (min > looseMin) {
+        loose = cand;
+        looseMin = min;
+      }
+    }
+  }
+  const chosen = best ?? loose;
+  const delim = chosen ? chosen[0] : 0;
+  const delimiter: Delimiter = chosen ? chosen[1] : 'whitespace';
+
+  const sp = new FieldSplitter(delim);
+  const counts: number[] = [];
+  let headerAt = -1;
+  let columns: string[] | undefined;
+  let dict = false;
+  let dictWeightSeen = false;
+  let trailingEmpty = sampled > 0 && delim !== 0;
+  for (let k = 0; k < sampled; k++) {
+    sp.split(b, lineStarts[k]!, n);
+    const f = sp.count;
+    if (k === 0 && f >= 2 && !isNumeric(b, sp.starts[0]!, sp.ends[0]!) && !isNumeric(b, sp.starts[1]!, sp.ends[1]!)) {
+      headerAt = lineStarts[0]!;
+      columns = fieldTexts(b, sp);
+      continue;
+    }
+    if (f > 2 && b[sp.starts[2]!] === 0x7b /* { */) {
+      dict = true;
+      if (dictWeightBounds(b, sp.starts[2]!, sp.lineEnd) >= 0) dictWeightSeen = true;
+    }
+    if (!(f >= 2 && sp.starts[f - 1] === sp.ends[f - 1])) trailingEmpty = false;
+    counts.push(f);
+  }
+  if (counts.length === 0) trailingEmpty = false;
+
+  let fieldCount: number;
+  if (dict) {
+    fieldCount = dictWeightSeen ? 3 : 2;
+    trailingEmpty = false;
+    if (columns && columns.length > 3) columns = columns.slice(0, 3);
+  } else if (columns) {
+    if (trailingEmpty && columns[columns.length - 1] === '') columns.pop();
+    // The header names the columns; data lines with more fields still count.
+    fieldCount = Math.max(columns.length, mode(counts) - (trailingEmpty ? 1 : 0));
+  } else {
+    fieldCount = mode(counts);
+    if (trailingEmpty) fieldCount--;
+  }
+  if (fieldCount < 2) fieldCount = 2;
+
+  // A commented header right above the data: `# source,target,weight`.
+  if (!columns && commentBefore >= 0 && !dict) {
+    let s = commentBefore;
+    const end = trimEnd(b, s, lineEndFrom(b, s, n));
+    while (s < end && (b[s] === HASH || b[s] === PERCENT)) s++;
+    s = skipBlanks(b, s, end);
+    if (s < end) {
+      sp.split(b, s, end);
+      const f = sp.count;
+      let names = f === fieldCount || (trailingEmpty && f === fieldCount + 1);
+      for (let k = 0; names && k < fieldCount; k++) {
+        if (sp.starts[k] === sp.ends[k] || isNumeric(b, sp.starts[k]!, sp.ends[k]!)) names = false;
+      }
+      if (names) columns = fieldTexts(b, sp).slice(0, fieldCount);
+    }
+  }
+  return { delim, delimiter, fieldCount, headerAt, columns, dict, trailingEmpty, bytesPerLine };
+}
+
+function isNumeric(b: Uint8Array, s: number, e: number): boolean {
+  if (s === e) return false;
+  parseNumberBytes(b, s, e);
+  return numberState.ok;
+}
+
+function fieldTexts(b: Uint8Array, sp: FieldSplitter): string[] {
+  const dec = new TextDecoder('utf-8');
+  const out: string[] = [];
+  for (let k = 0; k < sp.count; k++) {
+    let s = sp.starts[k]!;
+    let e = sp.ends[k]!;
+    if (e - s >= 2 && b[s] === QUOTE && b[e - 1] === QUOTE) {
+      s++;
+      e--;
+    }
+    out.push(dec.decode(b.subarray(s, e)));
+  }
+  return out;
+}
+
+function mode(values: number[]): number {
+  if (values.length === 0) return 2;
+  const tally = new Map<number, number>();
+  let best = values[0]!;
+  let bestN = 0;
+  for (const v of values) {
+    const t = (tally.get(v) ?? 0) + 1;
+    tally.set(v, t);
+    if (t > bestN) {
+      best = v;
+      bestN = t;
+    }
+  }
+  return best;
+}
+
+// ---------------------------------------------------------------------------------------------
+// networkx dict data: `0 1 {'weight': 4}`
+
+const WEIGHT = [119, 101, 105, 103, 104, 116]; // "weight"
+/** End of the token found by the last dictWeightBounds call. */
+let dictTokenEnd = 0;
+
+/** Start offset of the value of the 'weight' key in the dict text [s, e), or -1. */
+function dictWeightBounds(b: Uint8Array, s: number, e: number): number {
+  for (let p = s; p + 7 < e; p++) {
+    if (b[p] !== 39 && b[p] !== QUOTE) continue;
+    let k = 0;
+    while (k < 6 && b[p + 1 + k] === WEIGHT[k]) k++;
+    if (k < 6 || b[p + 7] !== b[p]) continue;
+    let i = p + 8;
+    while (i < e && (b[i] === 32 || b[i] === 9)) i++;
+    if (i >= e || b[i] !== 58 /* : */) continue;
+    i++;
+    while (i < e && (b[i] === 32 || b[i] === 9)) i++;
+    let j = i;
+    while (j < e && b[j] !== 44 && b[j] !== 125 && b[j] !== 32 && b[j] !== 9 && b[j] !== 13) j++;
+    dictTokenEnd = j;
+    return i;
+  }
+  return -1;
+}
+
+function dictWeight(
+  b: Uint8Array, s: number, e: number, report: Reporter, line: number, lineStart: number,
+): number {
+  const at = dictWeightBounds(b, s, e);
+  if (at < 0) return NaN;
+  const end = dictTokenEnd;
+  const x = parseNumberBytes(b, at, end);
+  if (!numberState.ok) {
+    report.dictWeight(line, lineStart, at, end);
+    return NaN;
+  }
+  return x;
+}
+
+// ---------------------------------------------------------------------------------------------
+// locating values
+
+/** What the locators of one file share: the bytes and each kept edge's line offset. */
+class EdgeText {
+  private readonly lines: ByteLines;
+  private readonly sp: FieldSplitter;
+
+  constructor(
+    private readonly b: Uint8Array,
+    first: number,
+    delim: number,
+    private readonly dict: boolean,
+    /** Offset of each edge's first field. */
+    private readonly offsets: Uint32Array,
+  ) {
+    this.lines = new ByteLines(b, first);
+    this.sp = new FieldSplitter(delim);
+  }
+
+  fieldSpan(edge: number, field: number): TextSpan | undefined {
+    if (edge < 0 || edge >= this.offsets.length) return undefined;
+    const b = this.b;
+    const start = this.offsets[edge]!;
+    const sp = this.sp;
+    sp.split(b, start, b.length);
+    if (this.dict && field === 2 && sp.count > 2) {
+      const at = dictWeightBounds(b, sp.starts[2]!, sp.lineEnd);
+      if (at >= 0) return this.lines.span(at, dictTokenEnd);
+    } else if (field < sp.count) {
+      return this.lines.span(sp.starts[field]!, sp.ends[field]!);
+    }
+    // The value is missing on this line: point at the whole line.
+    return this.lines.span(start, trimEnd(b, start, sp.lineEnd));
+  }
+}
+
+/** kind 0: edge_index [2, E]; 1: edge_weight [E]; 2: edge_attr [E, width]. */
+class EdgeLocator implements TextLocator {
+  constructor(
+    private readonly text: EdgeText,
+    private readonly kind: 0 | 1 | 2,
+    private readonly edges: number,
+    private readonly width: number,
+  ) {}
+
+  locate(flatIndex: number): TextSpan | undefined {
+    if (!Number.isInteger(flatIndex) || flatIndex < 0) return undefined;
+    const E = this.edges;
+    if (this.kind === 0) {
+      if (flatIndex >= 2 * E) return undefined;
+      return flatIndex < E ? this.text.fieldSpan(flatIndex, 0) : this.text.fieldSpan(flatIndex - E, 1);
+    }
+    if (this.kind === 1) return flatIndex < E ? this.text.fieldSpan(flatIndex, 2) : undefined;
+    const edge = Math.floor(flatIndex / this.width);
+    if (edge >= E) return undefined;
+    return this.text.fieldSpan(edge, 3 + (flatIndex % this.width));
+  }
+}

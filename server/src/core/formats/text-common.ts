@@ -1,0 +1,684 @@
+/**
+ * Byte-level helpers shared by the text readers (edge list, Matrix Market, JSON): gzip with size
+ * limits, text sniffing, number parsing straight from bytes, lazy line lookup, UTF-16 columns and
+ * problem collection. Everything works on Uint8Array; nothing here splits a whole file into strings.
+ *
+ * Columns are counted in UTF-16 code units, which is what editor and language-server positions use;
+ * for text without characters outside the Basic Multilingual Plane this equals the character count.
+ */
+import { gunzipSync } from 'fflate';
+import {
+  MAX_LOCATIONS,
+  UnreadableError,
+  type Problem,
+  type ProblemCode,
+  type ProblemLocation,
+  type ReadLimits,
+  type Severity,
+  type TextSpan,
+} from './types';
+
+export const LF = 10;
+export const CR = 13;
+export const SPACE = 32;
+export const TAB = 9;
+export const HASH = 35;
+export const PERCENT = 37;
+export const COMMA = 44;
+export const SEMICOLON = 59;
+export const PIPE = 124;
+export const QUOTE = 34;
+
+/** Largest byte offset the Uint32Array offset tables can hold. */
+export const MAX_TEXT_BYTES = 0xffffffff;
+
+// ---------------------------------------------------------------------------------------------
+// gzip
+
+/** Deflate cannot expand more than about 1032:1; anything beyond that in the trailer is a lie. */
+const MAX_DEFLATE_RATIO = 1032;
+
+/**
+ * Decompresses a single-member gzip stream. The ISIZE trailer pre-sizes the output; it is checked
+ * against `limits.maxDecompressedBytes` and against the deflate ratio bound before allocating, and
+ * the result is checked against ISIZE and the CRC-32 afterwards. Concatenated (multi-member) gzip is
+ * not supported: its first member does not match the last member's trailer, so it is refused.
+ */
+export function gunzipLimited(bytes: Uint8Array, limits: ReadLimits): Uint8Array {
+  const n = bytes.length;
+  if (n < 2 || bytes[0] !== 0x1f || bytes[1] !== 0x8b) {
+    throw new UnreadableError('not gzip data (the name ends in .gz but the gzip signature is missing)', 0);
+  }
+  if (n < 18) throw new UnreadableError('gzip data is truncated', n);
+  if (bytes[2] !== 8) throw new UnreadableError(`unsupported gzip compression method ${bytes[2]}`, 2);
+  const isize = (bytes[n - 4]! | (bytes[n - 3]! << 8) | (bytes[n - 2]! << 16) | (bytes[n - 1]! << 24)) >>> 0;
+  const crc = (bytes[n - 8]! | (bytes[n - 7]! << 8) | (bytes[n - 6]! << 16) | (bytes[n - 5]! << 24)) >>> 0;
+  if (isize > limits.maxDecompressedBytes) {
+    throw new UnreadableError(
+      `gzip data declares ${isize} decompressed bytes, more than the limit of ${limits.maxDecompressedBytes}`,
+      n - 4,
+    );
+  }
+  if (isize > n * MAX_DEFLATE_RATIO + 1024) {
+    throw new UnreadableError(
+      `gzip size trailer (${isize} bytes from ${n} compressed) is impossible: the data is corrupt`,
+      n - 4,
+    );
+  }
+  let out: Uint8Array;
+  try {
+    // One spare byte: when the stream holds more than ISIZE bytes the result fills it, and we notice.
+    out = new Uint8Array(isize + 1);
+  } catch {
+    throw new UnreadableError(`cannot allocate ${isize} bytes to decompress`, n - 4);
+  }
+  let result: Uint8Array;
+  try {
+    result = gunzipSync(bytes, { out });
+  } catch (e) {
+    throw new UnreadableError(`invalid gzip data: ${e instanceof Error ? e.message : String(e)}`);
+  }
+  if (result.length !== isize) {
+    throw new UnreadableError(
+      'gzip data does not match its size trailer: it is corrupt, truncated, or made of several ' +
+        'concatenated gzip members (not supported; decompress and recompress it as one)',
+    );
+  }
+  if (crc32(result) !== crc) {
+    throw new UnreadableError('gzip data fails its CRC-32 check: it is corrupt (or has several members)');
+  }
+  return result;
+}
+
+let CRC_TABLES: Uint32Array | undefined;
+
+function crcTables(): Uint32Array {
+  if (CRC_TABLES) return CRC_TABLES;
+  // Slicing-by-4 tables for the reflected polynomial 0xEDB88320 (the gzip CRC, RFC 1952).
+  const t = new Uint32Array(4 * 256);
+  for (let i = 0; i < 256; i++) {
+    let c = i;
+    for (let k = 0; k < 8; k++) c = c & 1 ? 0xedb88320 ^ (c >>> 1) : c >>> 1;
+    t[i] = c >>> 0;
+  }
+  for (let i = 0; i < 256; i++) {
+    let c = t[i]!;
+    for (let s = 1; s < 4; s++) {
+      c = t[c & 0xff]! ^ (c >>> 8);
+      t[s * 256 + i] = c >>> 0;
+    }
+  }
+  CRC_TABLES = t;
+  return t;
+}
+
+export function crc32(b: Uint8Array): number {
+  const t = crcTables();
+  let c = 0xffffffff;
+  const n = b.length;
+  let i = 0;
+  const n4 = n - (n & 3);
+  for (; i < n4; i += 4) {
+    c ^= b[i]! | (b[i + 1]! << 8) | (b[i + 2]! << 16) | (b[i + 3]! << 24);
+    c = t[768 + (c & 0xff)]! ^ t[512 + ((c >>> 8) & 0xff)]! ^ t[256 + ((c >>> 16) & 0xff)]! ^ t[c >>> 24]!;
+  }
+  for (; i < n; i++) c = t[(c ^ b[i]!) & 0xff]! ^ (c >>> 8);
+  return (c ^ 0xffffffff) >>> 0;
+}
+
+/** The file's bytes, decompressed when its name ends in `.gz`. */
+export function textBytes(bytes: Uint8Array, fileName: string, limits: ReadLimits): Uint8Array {
+  const data = fileName.toLowerCase().endsWith('.gz') ? gunzipLimited(bytes, limits) : bytes;
+  if (data.length > MAX_TEXT_BYTES) throw new UnreadableError('text file is larger than 4 GiB');
+  assertText(data);
+  return data;
+}
+
+// ---------------------------------------------------------------------------------------------
+// text sniffing
+
+/** Binary data (a NUL byte within the first KiB) is refused; UTF-16 text lands here too. */
+export function assertText(b: Uint8Array): void {
+  const end = Math.min(b.length, 1024);
+  for (let i = 0; i < end; i++) {
+    if (b[i] === 0) throw new UnreadableError(`not a text file (NUL byte at offset ${i})`, i);
+  }
+}
+
+/** Length of a UTF-8 byte order mark at the start, 0 or 3. */
+export function bomLength(b: Uint8Array): number {
+  return b.length >= 3 && b[0] === 0xef && b[1] === 0xbb && b[2] === 0xbf ? 3 : 0;
+}
+
+export const isBlank = (c: number): boolean => c === SPACE || c === TAB || c === CR;
+
+// ---------------------------------------------------------------------------------------------
+// lines and columns
+
+const CHECKPOINT_SHIFT = 16;
+
+/**
+ * Maps byte offsets to 1-based line numbers. Built lazily on first use: one pass over the bytes
+ * records the line number at every 64 KiB boundary, so a lookup re-counts at most 64 KiB.
+ */
+export class ByteLines {
+  private checkpoints: Float64Array | undefined;
+
+  constructor(
+    readonly bytes: Uint8Array,
+    /** Offset where line 1 starts (after a byte order mark). */
+    readonly first: number,
+  ) {}
+
+  lineOf(offset: number): number {
+    const b = this.bytes;
+    let cp = this.checkpoints;
+    if (!cp) {
+      const blocks = (b.length >>> CHECKPOINT_SHIFT) + 1;
+      cp = new Float64Array(blocks);
+      let line = 0;
+      let i = 0;
+      for (let k = 0; k < blocks; k++) {
+        cp[k] = line;
+        const end = Math.min(b.length, (k + 1) * (1 << CHECKPOINT_SHIFT));
+        for (; i < end; i++) if (b[i] === LF) line++;
+      }
+      this.checkpoints = cp;
+    }
+    const k = Math.floor(offset / (1 << CHECKPOINT_SHIFT));
+    let line = cp[k]!;
+    for (let i = k * (1 << CHECKPOINT_SHIFT); i < offset; i++) if (b[i] === LF) line++;
+    return line + 1;
+  }
+
+  /** Offset where the line holding `offset` starts. */
+  lineStart(offset: number): number {
+    const b = this.bytes;
+    let p = offset;
+    while (p > this.first && b[p - 1] !== LF) p--;
+    return p;
+  }
+
+  /** 1-based UTF-16 column of `offset` on its line. */
+  column(offset: number): number {
+    return utf16Length(this.bytes, this.lineStart(offset), offset) + 1;
+  }
+
+  span(start: number, end: number): TextSpan {
+    return { line: this.lineOf(start), column: this.column(start), length: utf16Length(this.bytes, start, end) };
+  }
+}
+
+/** Number of UTF-16 code units that the UTF-8 bytes [s, e) decode to (counted by lead bytes). */
+export function utf16Length(b: Uint8Array, s: number, e: number): number {
+  let n = 0;
+  for (let i = s; i < e; i++) {
+    const c = b[i]!;
+    if (c < 0x80 || c >= 0xc0) n += c >= 0xf0 && c < 0xf8 ? 2 : 1;
+  }
+  return n;
+}
+
+/** Maps UTF-16 offsets of a decoded string to 1-based lines, lazily, like ByteLines. */
+export class StringLines {
+  private checkpoints: Float64Array | undefined;
+
+  constructor(readonly text: string) {}
+
+  lineOf(offset: number): number {
+    const t = this.text;
+    let cp = this.checkpoints;
+    if (!cp) {
+      const blocks = (t.length >>> CHECKPOINT_SHIFT) + 1;
+      cp = new Float64Array(blocks);
+      let line = 0;
+      let i = 0;
+      for (let k = 0; k < blocks; k++) {
+        cp[k] = line;
+        const end = Math.min(t.length, (k + 1) * (1 << CHECKPOINT_SHIFT));
+        for (; i < end; i++) if (t.charCodeAt(i) === LF) line++;
+      }
+      this.checkpoints = cp;
+    }
+    const k = Math.floor(offset / (1 << CHECKPOINT_SHIFT));
+    let line = cp[k]!;
+    for (let i = k * (1 << CHECKPOINT_SHIFT); i < offset; i++) if (t.charCodeAt(i) === LF) line++;
+    return line + 1;
+  }
+
+  column(offset: number): number {
+    const t = this.text;
+    let p = offset;
+    while (p > 0 && t.charCodeAt(p - 1) !== LF) p--;
+    return offset - p + 1;
+  }
+
+  span(start: number, end: number): TextSpan {
+    return { line: this.lineOf(start), column: this.column(start), length: end - start };
+  }
+}
+
+/** Latin-1/UTF-8 text of a short byte range, for messages; long tokens are cut. */
+export function tokenText(b: Uint8Array, s: number, e: number, max = 40): string {
+  const cut = e - s > max;
+  const text = new TextDecoder('utf-8').decode(b.subarray(s, cut ? s + max : e));
+  return cut ? text + '…' : text;
+}
+
+// ---------------------------------------------------------------------------------------------
+// numbers from bytes
+
+export const INT32_MAX = 2147483647;
+
+/**
+ * Parses a strict decimal integer (`[+-]digits`) in [s, e) that fits in int32. Returns NaN for
+ * anything else (`1.5`, `1e3`, `abc`, empty, too large). One pair of surrounding double quotes is
+ * accepted, as CSV writers may quote every field.
+ */
+export function parseIntBytes(b: Uint8Array, s: number, e: number): number {
+  if (e - s >= 2 && b[s] === QUOTE && b[e - 1] === QUOTE) {
+    s++;
+    e--;
+  }
+  let i = s;
+  let neg = false;
+  if (i < e) {
+    const c = b[i]!;
+    if (c === 45) {
+      neg = true;
+      i++;
+    } else if (c === 43) i++;
+  }
+  if (i === e) return NaN;
+  while (i < e - 1 && b[i] === 48) i++;
+  if (e - i > 10) return NaN;
+  let v = 0;
+  for (; i < e; i++) {
+    const d = b[i]! - 48;
+    if (d < 0 || d > 9) return NaN;
+    v = v * 10 + d;
+  }
+  if (neg) return v > INT32_MAX + 1 ? NaN : -v;
+  return v > INT32_MAX ? NaN : v;
+}
+
+/** Why parseIntBytes refused a token, for messages. */
+export function intRefusal(b: Uint8Array, s: number, e: number): string {
+  if (s === e) return 'is empty';
+  const f = parseNumberBytes(b, s, e);
+  if (numberState.ok && Number.isInteger(f)) return 'is out of the int32 range';
+  return 'is not an integer';
+}
+
+const POW10 = [1, 1e1, 1e2, 1e3, 1e4, 1e5, 1e6, 1e7, 1e8, 1e9, 1e10, 1e11, 1e12, 1e13, 1e14, 1e15,
+  1e16, 1e17, 1e18, 1e19, 1e20, 1e21, 1e22];
+/** Largest mantissa m with m * 10 + 9 ≤ 2^53. */
+const MANTISSA_CAP = 900719925474099;
+
+/** Set by parseNumberBytes: whether the last token was a number (NaN/Inf spellings included). */
+export const numberState = { ok: false };
+
+/**
+ * Parses a decimal floating-point number in [s, e): `[+-](digits[.digits]|.digits)[(e|E)[+-]digits]`,
+ * or `nan`, `inf`, `infinity` (any case, optional sign) as NumPy and Python write them. The exact
+ * fast path (mantissa ≤ 2^53 and |exponent| ≤ 22, one correctly rounded operation) covers almost
+ * every token; others go through Number() on the already validated token. Sets `numberState.ok`.
+ */
+export function parseNumberBytes(b: Uint8Array, s: number, e: number): number {
+  if (e - s >= 2 && b[s] === QUOTE && b[e - 1] === QUOTE) {
+    s++;
+    e--;
+  }
+  numberState.ok = false;
+  let i = s;
+  let neg = false;
+  if (i < e) {
+    const c = b[i]!;
+    if (c === 45) {
+      neg = true;
+      i++;
+    } else if (c === 43) i++;
+  }
+  if (i === e) return NaN;
+  const body = i;
+  let mant = 0;
+  let exp10 = 0;
+  let digits = 0;
+  let full = false;
+  let inexact = false;
+  let c = b[i]!;
+  while (c >= 48 && c <= 57) {
+    const d = c - 48;
+    if (!full && mant < MANTISSA_CAP) mant = mant * 10 + d;
+    else {
+      full = true;
+      exp10++;
+      if (d !== 0) inexact = true;
+    }
+    digits++;
+    if (++i === e) break;
+    c = b[i]!;
+  }
+  if (i < e && c === 46) {
+    i++;
+    while (i < e) {
+      c = b[i]!;
+      if (c < 48 || c > 57) break;
+      const d = c - 48;
+      if (!full && mant < MANTISSA_CAP) {
+        mant = mant * 10 + d;
+        exp10--;
+      } else {
+        full = true;
+        if (d !== 0) inexact = true;
+      }
+      digits++;
+      i++;
+    }
+  }
+  if (digits === 0) return parseSpecial(b, s, e);
+  if (i < e && (b[i] === 101 || b[i] === 69)) {
+    i++;
+    let eneg = false;
+    if (i < e && (b[i] === 45 || b[i] === 43)) {
+      eneg = b[i] === 45;
+      i++;
+    }
+    if (i === e) return NaN;
+    let x = 0;
+    while (i < e) {
+      const d = b[i]! - 48;
+      if (d < 0 || d > 9) return NaN;
+      if (x < 100000) x = x * 10 + d;
+      i++;
+    }
+    exp10 += eneg ? -x : x;
+  }
+  if (i !== e) return NaN;
+  numberState.ok = true;
+  let v: number;
+  if (!inexact && exp10 >= -22 && exp10 <= 22) v = exp10 >= 0 ? mant * POW10[exp10]! : mant / POW10[-exp10]!;
+  else if (mant === 0 && !inexact) v = 0;
+  else v = Number(latin1(b, body, e));
+  return neg ? -v : v;
+}
+
+/**
+ * parseNumberBytes for the common `[-]digits[.digits]` with at most 15 digits (exact: one
+ * division by an exact power of ten); anything else goes to the full parser. Small enough to be
+ * inlined into the readers' loops.
+ */
+export function parseDecimalBytes(b: Uint8Array, s: number, e: number): number {
+  let i = s;
+  const neg = b[i] === 45;
+  if (neg) i++;
+  let m = 0;
+  let digits = 0;
+  let dot = -1;
+  for (; i < e; i++) {
+    const c = b[i]!;
+    const d = c - 48;
+    if (d >= 0 && d <= 9) {
+      m = m * 10 + d;
+      digits++;
+    } else if (c === 46 && dot < 0) dot = i;
+    else return parseNumberBytes(b, s, e);
+  }
+  if (digits === 0 || digits > 15) return parseNumberBytes(b, s, e);
+  numberState.ok = true;
+  const v = dot < 0 ? m : m / POW10[e - dot - 1]!;
+  return neg ? -v : v;
+}
+
+function parseSpecial(b: Uint8Array, s: number, e: number): number {
+  let i = s;
+  let neg = false;
+  if (b[i] === 45 || b[i] === 43) {
+    neg = b[i] === 45;
+    i++;
+  }
+  const len = e - i;
+  if (len !== 3 && len !== 8) return NaN;
+  let word = '';
+  for (let k = i; k < e; k++) word += String.fromCharCode(b[k]! | 0x20);
+  if (word === 'nan') {
+    numberState.ok = true;
+    return NaN;
+  }
+  if (word === 'inf' || word === 'infinity') {
+    numberState.ok = true;
+    return neg ? -Infinity : Infinity;
+  }
+  return NaN;
+}
+
+function latin1(b: Uint8Array, s: number, e: number): string {
+  let t = '';
+  for (let i = s; i < e; i++) t += String.fromCharCode(b[i]!);
+  return t;
+}
+
+// ---------------------------------------------------------------------------------------------
+// growable typed arrays
+
+/**
+ * Typed-array allocation for sizes that depend on the input: a failed allocation (a hostile or
+ * absurd file) becomes an UnreadableError instead of a RangeError.
+ */
+export function allocInt32(len: number): Int32Array<ArrayBuffer> {
+  try {
+    return new Int32Array(len);
+  } catch {
+    throw tooLarge(len, 4);
+  }
+}
+
+export function allocUint32(len: number): Uint32Array<ArrayBuffer> {
+  try {
+    return new Uint32Array(len);
+  } catch {
+    throw tooLarge(len, 4);
+  }
+}
+
+export function allocFloat64(len: number): Float64Array<ArrayBuffer> {
+  try {
+    return new Float64Array(len);
+  } catch {
+    throw tooLarge(len, 8);
+  }
+}
+
+function tooLarge(len: number, bytesPer: number): UnreadableError {
+  return new UnreadableError(`the file needs ${len} values (${len * bytesPer} bytes) in memory, more than can be allocated`);
+}
+
+export function growInt32(a: Int32Array, min: number): Int32Array<ArrayBuffer> {
+  const next = allocInt32(Math.max(min, Math.ceil(a.length * 1.5) + 16));
+  next.set(a);
+  return next;
+}
+
+export function growUint32(a: Uint32Array, min: number): Uint32Array<ArrayBuffer> {
+  const next = allocUint32(Math.max(min, Math.ceil(a.length * 1.5) + 16));
+  next.set(a);
+  return next;
+}
+
+export function growFloat64(a: Float64Array, min: number): Float64Array<ArrayBuffer> {
+  const next = allocFloat64(Math.max(min, Math.ceil(a.length * 1.5) + 16));
+  next.set(a);
+  return next;
+}
+
+/** The first `len` elements; copied when the spare capacity is worth giving back. */
+export function fit<T extends Int32Array | Uint32Array | Float64Array>(a: T, len: number): T {
+  if (len === a.length) return a;
+  return (a.length - len > (len >>> 3) ? a.slice(0, len) : a.subarray(0, len)) as T;
+}
+
+// ---------------------------------------------------------------------------------------------
+// problems
+
+interface ProblemEntry {
+  code: ProblemCode;
+  severity: Severity;
+  tensor: string | undefined;
+  summary: (count: number, first: ProblemLocation | undefined) => string;
+  count: number;
+  locations: ProblemLocation[];
+}
+
+/**
+ * Collects problems of a few kinds, counting every occurrence and keeping the first locations.
+ * Callers ask `wants(key)` before building a location, so hot loops allocate nothing once the
+ * location list of a kind is full.
+ */
+export class ProblemCollector {
+  private readonly entries = new Map<string, ProblemEntry>();
+
+  wants(key: string): boolean {
+    const e = this.entries.get(key);
+    return !e || e.locations.length < MAX_LOCATIONS;
+  }
+
+  /** Registers a kind of problem (once) and records occurrences (one by default). */
+  add(
+    key: string,
+    code: ProblemCode,
+    severity: Severity,
+    tensor: string | undefined,
+    summary: (count: number, first: ProblemLocation | undefined) => string,
+    location?: ProblemLocation,
+    occurrences = 1,
+  ): void {
+    let entry = this.entries.get(key);
+    if (!entry) {
+      entry = { code, severity, tensor, summary, count: 0, locations: [] };
+      this.entries.set(key, entry);
+    }
+    entry.count += occurrences;
+    if (location && entry.locations.length < MAX_LOCATIONS) entry.locations.push(location);
+  }
+
+  get size(): number {
+    return this.entries.size;
+  }
+
+  problems(): Problem[] {
+    const out: Problem[] = [];
+    for (const e of this.entries.values()) {
+      const first = e.locations[0];
+      const p: Problem = {
+        code: e.code,
+        severity: e.severity,
+        message: e.summary(e.count, first),
+        count: e.count,
+      };
+      if (e.tensor !== undefined) p.tensor = e.tensor;
+      if (first?.line !== undefined) p.line = first.line;
+      if (first?.column !== undefined) p.column = first.column;
+      if (e.locations.length > 0) p.locations = e.locations;
+      out.push(p);
+    }
+    return out;
+  }
+}
+
+export const plural = (n: number, one: string, many = one + 's'): string => `${n} ${n === 1 ? one : many}`;
+
+// ---------------------------------------------------------------------------------------------
+// fields
+
+/**
+ * Splits one line into fields without allocating. `delim` 0 means runs of spaces/tabs separate
+ * fields; otherwise one delimiter byte does, and blanks around each field are trimmed (so
+ * `a, b` gives `a` and `b`, and `a,,b` has an empty middle field). Bounds are byte offsets.
+ */
+export class FieldSplitter {
+  starts = new Float64Array(16);
+  ends = new Float64Array(16);
+  count = 0;
+  /** Offset of the LF ending the line (or the end of the data). */
+  lineEnd = 0;
+  /** Offset where the next line starts. */
+  next = 0;
+
+  constructor(readonly delim: number) {}
+
+  /** `i` must point at the first non-blank byte of the line. */
+  split(b: Uint8Array, i: number, n: number): void {
+    const d = this.delim;
+    let f = 0;
+    for (;;) {
+      const s = i;
+      let e: number;
+      if (d === 0) {
+        while (i < n) {
+          const c = b[i]!;
+          if (c === SPACE || c === TAB || c === LF || c === CR) break;
+          i++;
+        }
+        e = i;
+        while (i < n) {
+          const c = b[i]!;
+          if (c !== SPACE && c !== TAB && c !== CR) break;
+          i++;
+        }
+      } else {
+        while (i < n) {
+          const c = b[i]!;
+          if (c === d || c === LF) break;
+          i++;
+        }
+        e = i;
+        while (e > s) {
+          const c = b[e - 1]!;
+          if (c !== SPACE && c !== TAB && c !== CR) break;
+          e--;
+        }
+      }
+      if (f === this.starts.length) this.growFields();
+      this.starts[f] = s;
+      this.ends[f] = e;
+      f++;
+      if (i >= n || b[i] === LF) break;
+      if (d !== 0) {
+        i++; // past the delimiter
+        while (i < n) {
+          const c = b[i]!;
+          if ((c !== SPACE && c !== TAB && c !== CR) || c === d) break;
+          i++;
+        }
+      }
+    }
+    this.count = f;
+    this.lineEnd = i;
+    this.next = i < n ? i + 1 : n;
+  }
+
+  private growFields(): void {
+    const s = new Float64Array(this.starts.length * 2);
+    s.set(this.starts);
+    this.starts = s;
+    const e = new Float64Array(this.ends.length * 2);
+    e.set(this.ends);
+    this.ends = e;
+  }
+}
+
+/** Offset of the first byte of the line at `i` that is not a space, tab or CR (may be LF or n). */
+export function skipBlanks(b: Uint8Array, i: number, n: number): number {
+  while (i < n) {
+    const c = b[i]!;
+    if (c !== SPACE && c !== TAB && c !== CR) break;
+    i++;
+  }
+  return i;
+}
+
+/** Offset of the LF that ends the line holding `i` (or n). */
+export function lineEndFrom(b: Uint8Array, i: number, n: number): number {
+  while (i < n && b[i] !== LF) i++;
+  return i;
+}

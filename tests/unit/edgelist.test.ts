@@ -1,0 +1,376 @@
+import { gzipSync } from 'node:zlib';
+import { describe, expect, it } from 'vitest';
+import { readEdgeList, type EdgeListReadResult } from '../../server/src/core/formats/edgelist';
+import { DEFAULT_LIMITS, UnreadableError, type ReadLimits } from '../../server/src/core/formats/types';
+import { dense, expected, fixture, pairs, span, tensor, utf8 } from './text-fixture-helpers';
+
+const read = (bytes: Uint8Array, name = 'graph.txt', limits: ReadLimits = DEFAULT_LIMITS): EdgeListReadResult =>
+  readEdgeList(bytes, name, limits);
+const readText = (text: string, name = 'graph.txt'): EdgeListReadResult => read(utf8(text), name);
+
+function unreadable(f: () => unknown): UnreadableError {
+  try {
+    f();
+  } catch (e) {
+    expect(e).toBeInstanceOf(UnreadableError);
+    return e as UnreadableError;
+  }
+  throw new Error('expected an UnreadableError');
+}
+
+// Files written by networkx 2.8 / scipy 1.10 / numpy 1.24, see make_text_fixtures.py; each
+// expected.json entry names the call that wrote it.
+const KARATE_FILES = [
+  'karate.edges', // networkx.write_edgelist(data=False)
+  'karate.edges.gz', // gzip (Python) of the above
+  'karate_weighted.txt', // networkx.write_edgelist(data=['weight'])
+  'karate_nxdict.el', // networkx.write_edgelist(data=True): `0 1 {'weight': 4}`
+  'karate_savetxt.csv', // numpy.savetxt(delimiter=',', header=...) → commented header
+  'karate_header.csv', // numpy.savetxt(..., comments='') → header row
+  'karate.tsv', // numpy.savetxt(delimiter='\t')
+  'karate_crlf.csv', // numpy.savetxt(delimiter=';', newline='\r\n')
+  'karate_bom.txt', // UTF-8 BOM + header row (Python utf-8-sig)
+];
+
+describe('edge lists written by networkx / numpy', () => {
+  for (const name of KARATE_FILES) {
+    it(`reads ${name} like the library wrote it`, () => {
+      const exp = expected[name];
+      const r = read(fixture(name), name);
+      expect(r.format).toBe('edgelist');
+      expect(r.problems).toEqual([]);
+      const ei = dense(r, 'edge_index');
+      expect(ei.dtype).toBe('int64');
+      expect(ei.data).toBeInstanceOf(Int32Array);
+      expect(ei.shape).toEqual([2, exp.count]);
+      expect(ei.declaredRole).toBe('edge-index');
+      // REFERENCES.md §2.1: karate has 78 edges.
+      expect(exp.count).toBe(78);
+      expect(pairs(ei)).toEqual(exp.edges);
+      expect(r.delimiter).toBe(exp.delimiter);
+      if (exp.columns) expect(r.columns).toEqual(exp.columns);
+      else expect(r.columns).toBeUndefined();
+      if (exp.weights) {
+        const w = dense(r, 'edge_weight');
+        expect(w.dtype).toBe('float64');
+        expect(w.shape).toEqual([exp.count]);
+        expect(Array.from(w.data)).toEqual(exp.weights);
+      } else {
+        expect(r.tensors.map((t) => t.name)).toEqual(['edge_index']);
+      }
+    });
+  }
+
+  it('reads weight and feature columns (numpy.savetxt, pipe-delimited, header row)', () => {
+    const exp = expected['edge_features.txt'];
+    const r = read(fixture('edge_features.txt'), 'edge_features.txt');
+    expect(r.delimiter).toBe('|');
+    expect(r.columns).toEqual(['u', 'v', 'w', 'f1', 'f2']);
+    expect(pairs(dense(r, 'edge_index'))).toEqual(exp.edges);
+    // Values as numpy.loadtxt read them back from the same file.
+    expect(Array.from(dense(r, 'edge_weight').data)).toEqual(exp.weights);
+    const attr = dense(r, 'edge_attr');
+    expect(attr.shape).toEqual([exp.count, 2]);
+    expect(attr.declaredRole).toBe('edge-features');
+    const rows: number[][] = [];
+    for (let e = 0; e < exp.count; e++) rows.push([attr.data[2 * e]!, attr.data[2 * e + 1]!]);
+    expect(rows).toEqual(exp.attr);
+  });
+});
+
+describe('locating values', () => {
+  it('maps edge_index elements to line and column (karate.edges, networkx)', () => {
+    const r = read(fixture('karate.edges'));
+    const ei = dense(r, 'edge_index');
+    const E = ei.shape[1]!;
+    // networkx writes `u v` per line: edge k is on line k+1, source at column 1, target after one space.
+    for (const k of [0, 1, 10, E - 1]) {
+      const [u, v] = [ei.data[k]!, ei.data[E + k]!];
+      expect(span(ei.locator!.locate(k))).toEqual({ line: k + 1, column: 1, length: String(u).length });
+      expect(span(ei.locator!.locate(E + k))).toEqual({
+        line: k + 1, column: String(u).length + 2, length: String(v).length,
+      });
+    }
+    expect(ei.locator!.locate(2 * E)).toBeUndefined();
+    expect(ei.locator!.locate(-1)).toBeUndefined();
+    expect(ei.locator!.locate(0.5)).toBeUndefined();
+  });
+
+  it('does not count the BOM as a column and skips the header row (karate_bom.txt)', () => {
+    const r = read(fixture('karate_bom.txt'));
+    const ei = dense(r, 'edge_index');
+    expect(span(ei.locator!.locate(0))).toEqual({ line: 2, column: 1, length: 1 });
+  });
+
+  it('locates weights in CRLF files and in networkx dict data', () => {
+    const crlf = read(fixture('karate_crlf.csv'));
+    // numpy.savetxt(delimiter=';'): `0;1;4\r\n` → the weight of edge 0 is at line 1, column 5.
+    expect(span(dense(crlf, 'edge_weight').locator!.locate(0))).toEqual({ line: 1, column: 5, length: 1 });
+    const nxd = read(fixture('karate_nxdict.el'));
+    // networkx: `0 1 {'weight': 4}` → the 4 is at column 16.
+    expect(span(dense(nxd, 'edge_weight').locator!.locate(0))).toEqual({ line: 1, column: 16, length: 1 });
+  });
+
+  it('counts columns in UTF-16 code units after multi-byte characters (multibyte.csv)', () => {
+    const exp = expected['multibyte.csv']; // columns computed by Python, see make_text_fixtures.py
+    const r = read(fixture('multibyte.csv'));
+    const attr = dense(r, 'edge_attr');
+    expect(Array.from(attr.data)).toEqual(exp.attr.flat());
+    for (let e = 0; e < exp.count; e++) expect(span(attr.locator!.locate(e))).toEqual(exp.attrLocations[e]);
+    const w = dense(r, 'edge_weight');
+    expect(Number.isNaN(w.data[0])).toBe(true);
+    expect(Number.isNaN(w.data[1])).toBe(true);
+    expect(w.data[2]).toBe(0.5);
+    const bad = r.problems.find((p) => p.code === 'edge-shape' && p.tensor === 'edge_weight')!;
+    expect(bad.severity).toBe('error');
+    expect(bad.count).toBe(2);
+    expect(bad.locations!.map((l) => ({ line: l.line, column: l.column, length: l.length }))).toEqual(exp.badWeights);
+  });
+});
+
+describe('problems in the ids', () => {
+  it('reports non-integer ids with line and column and leaves their edges out (broken.txt)', () => {
+    const exp = expected['broken.txt']; // ids checked with Python int(), see make_text_fixtures.py
+    const r = read(fixture('broken.txt'));
+    expect(pairs(dense(r, 'edge_index'))).toEqual(exp.edges);
+    const ni = r.problems.find((p) => p.code === 'non-integer-index')!;
+    expect(ni.severity).toBe('error');
+    expect(ni.tensor).toBe('edge_index');
+    expect(ni.count).toBe(exp.nonInteger.length);
+    expect(ni.line).toBe(exp.nonInteger[0].line);
+    expect(ni.column).toBe(exp.nonInteger[0].column);
+    expect(ni.locations!.map((l) => ({ line: l.line, column: l.column, length: l.length }))).toEqual(
+      exp.nonInteger.map((x: { line: number; column: number; length: number }) => ({
+        line: x.line, column: x.column, length: x.length,
+      })),
+    );
+    expect(ni.locations![0]!.detail).toContain("'1.5'");
+    expect(ni.locations![3]!.detail).toContain('int32');
+    const short = r.problems.find((p) => p.code === 'edge-shape')!;
+    expect(short.severity).toBe('error');
+    expect(short.count).toBe(exp.short.length);
+    expect(short.locations!.map((l) => ({ line: l.line, column: l.column, length: l.length }))).toEqual(exp.short);
+  });
+
+  it('accepts negative ids and an explicit plus sign (range checks come later)', () => {
+    const r = readText('-1 2\n+3 -2147483648\n2147483647 0\n');
+    expect(pairs(dense(r, 'edge_index'))).toEqual([[-1, 2], [3, -2147483648], [2147483647, 0]]);
+    expect(r.problems).toEqual([]);
+  });
+
+  it('refuses ids beyond int32 and exponent or decimal spellings', () => {
+    const r = readText('0 2147483648\n1e3 1\n1.0 2\n0x1 2\n3 4\n');
+    expect(pairs(dense(r, 'edge_index'))).toEqual([[3, 4]]);
+    const ni = r.problems.find((p) => p.code === 'non-integer-index')!;
+    expect(ni.count).toBe(4);
+    expect(ni.locations!.map((l) => [l.line, l.column])).toEqual([[1, 3], [2, 1], [3, 1], [4, 1]]);
+  });
+
+  it('reads quoted CSV ids', () => {
+    const r = readText('"source","target"\n"0","1"\n"1","2"\n', 'g.csv');
+    expect(r.columns).toEqual(['source', 'target']);
+    expect(pairs(dense(r, 'edge_index'))).toEqual([[0, 1], [1, 2]]);
+  });
+});
+
+describe('layout sniffing', () => {
+  const cases: Array<[string, string, string]> = [
+    ['tab', '0\t1\n1\t2\n', 'tab'],
+    ['comma with spaces', '0, 1\n1, 2\n', ','],
+    ['semicolon', '0;1\n1;2\n', ';'],
+    ['pipe', '0|1\n1|2\n', '|'],
+    ['runs of spaces', '0    1\n1  \t 2\n', 'whitespace'],
+  ];
+  for (const [label, text, delim] of cases) {
+    it(`detects ${label}`, () => {
+      const r = readText(text);
+      expect(r.delimiter).toBe(delim);
+      expect(pairs(dense(r, 'edge_index'))).toEqual([[0, 1], [1, 2]]);
+      expect(r.problems).toEqual([]);
+    });
+  }
+
+  it('prefers the delimiter with the most consistent occurrences (semicolon CSV with decimal commas)', () => {
+    const r = readText('0;1;0,5\n1;2;1,5\n');
+    expect(r.delimiter).toBe(';');
+    // `0,5` is not a number in our (and NumPy's) grammar: reported, read as NaN.
+    expect(r.problems.map((p) => p.code)).toEqual(['edge-shape']);
+  });
+
+  it('takes a header row when the first two fields are not numbers, and keeps the names', () => {
+    const r = readText('src dst weight\n0 1 0.5\n1 2 2.5\n');
+    expect(r.columns).toEqual(['src', 'dst', 'weight']);
+    expect(Array.from(dense(r, 'edge_weight').data)).toEqual([0.5, 2.5]);
+  });
+
+  it('skips comments (# and %, also indented) and blank lines, CRLF included', () => {
+    const r = readText('# a\r\n  % b\r\n\r\n   \r\n0 1\r\n\t# c\r\n1 2\r\n\r\n');
+    expect(pairs(dense(r, 'edge_index'))).toEqual([[0, 1], [1, 2]]);
+    expect(span(dense(r, 'edge_index').locator!.locate(1))).toEqual({ line: 7, column: 1, length: 1 });
+  });
+
+  it('reads a last line without a newline', () => {
+    expect(pairs(dense(readText('0 1\n5 6'), 'edge_index'))).toEqual([[0, 1], [5, 6]]);
+    expect(pairs(dense(readText('0 1\n5 6 '), 'edge_index'))).toEqual([[0, 1], [5, 6]]);
+  });
+
+  it('ignores a trailing delimiter on every line', () => {
+    const r = readText('0,1,\n1,2,\n');
+    expect(r.tensors.map((t) => t.name)).toEqual(['edge_index']);
+    expect(r.problems).toEqual([]);
+    const h = readText('a,b,\n0,1,\n1,2,\n');
+    expect(h.columns).toEqual(['a', 'b']);
+    expect(h.tensors.map((t) => t.name)).toEqual(['edge_index']);
+    expect(h.problems).toEqual([]);
+  });
+
+  it('keeps weight columns that the header row does not name', () => {
+    const r = readText('source target\n0 1 0.5\n1 2 1.5\n');
+    expect(r.columns).toEqual(['source', 'target']);
+    expect(Array.from(dense(r, 'edge_weight').data)).toEqual([0.5, 1.5]);
+  });
+
+  it('warns about lines with a different field count; missing values become NaN', () => {
+    const r = readText('0 1 1.5\n1 2\n2 3 2.5 9\n');
+    const w = dense(r, 'edge_weight');
+    expect(w.data[0]).toBe(1.5);
+    expect(Number.isNaN(w.data[1])).toBe(true);
+    expect(w.data[2]).toBe(2.5);
+    const p = r.problems.find((x) => x.severity === 'warning')!;
+    expect(p.code).toBe('edge-shape');
+    expect(p.count).toBe(2);
+    expect(p.locations!.map((l) => l.line)).toEqual([2, 3]);
+  });
+
+  it('reads NumPy spellings of special floats in weights', () => {
+    // numpy.savetxt writes nan, inf and -inf this way (recalled from NumPy's %g/%e output, [M]).
+    const w = dense(readText('0 1 nan\n1 2 inf\n2 3 -inf\n3 4 1e-05\n4 5 -2.5E+3\n'), 'edge_weight').data;
+    expect(Number.isNaN(w[0])).toBe(true);
+    expect(Array.from(w.subarray(1))).toEqual([Infinity, -Infinity, 1e-5, -2500]);
+  });
+
+  it('parses long mantissas exactly (numpy.savetxt default %.18e)', () => {
+    const vals = [0.1, 1 / 3, 123456.789, 5e-324, 1.7976931348623157e308, 2 ** 60 + 2 ** 10];
+    const text = vals.map((v, k) => `${k} ${k + 1} ${v.toExponential(18)}`).join('\n');
+    expect(Array.from(dense(readText(text), 'edge_weight').data)).toEqual(vals.map((v) => Number(v.toExponential(18))));
+  });
+});
+
+describe('empty and unreadable input', () => {
+  it('reads an empty file, or one with only comments, as zero edges', () => {
+    for (const text of ['', '\n\n', '# nothing here\n', '\ufeff']) {
+      const r = readText(text);
+      expect(dense(r, 'edge_index').shape).toEqual([2, 0]);
+      expect(r.problems).toEqual([]);
+    }
+  });
+
+  it('refuses binary data', () => {
+    const e = unreadable(() => read(new Uint8Array([0x30, 0x20, 0x31, 0x0a, 0, 1, 2, 3])));
+    expect(e.message).toContain('not a text file');
+  });
+
+  it('refuses invalid gzip data', () => {
+    expect(unreadable(() => read(utf8('0 1\n'), 'g.txt.gz')).message).toContain('not gzip');
+    const good = gzipSync(Buffer.from('0 1\n1 2\n'));
+    const cut = new Uint8Array(good.subarray(0, good.length - 5));
+    unreadable(() => read(cut, 'g.txt.gz'));
+    const flipped = new Uint8Array(good);
+    flipped[12] ^= 0xff;
+    unreadable(() => read(flipped, 'g.txt.gz'));
+  });
+
+  it('refuses several concatenated gzip members with a clear message', () => {
+    const two = Buffer.concat([gzipSync(Buffer.from('0 1\n')), gzipSync(Buffer.from('1 2\n2 3\n'))]);
+    expect(unreadable(() => read(new Uint8Array(two), 'g.edges.gz')).message).toMatch(/several|members/);
+  });
+
+  it('checks the gzip size trailer against the limit and the deflate ratio before allocating', () => {
+    const good = new Uint8Array(gzipSync(Buffer.from('0 1\n'.repeat(1000))));
+    const small: ReadLimits = { ...DEFAULT_LIMITS, maxDecompressedBytes: 100 };
+    expect(unreadable(() => read(good, 'g.txt.gz', small)).message).toContain('limit');
+    const lie = new Uint8Array(good);
+    lie.set([0xff, 0xff, 0xff, 0x7f], lie.length - 4);
+    expect(unreadable(() => read(lie, 'g.txt.gz')).message).toContain('impossible');
+    const wrong = new Uint8Array(good);
+    wrong[wrong.length - 4] = (wrong[wrong.length - 4]! + 1) & 0xff;
+    unreadable(() => read(wrong, 'g.txt.gz'));
+  });
+
+  it('matches gzip output of node:zlib byte for byte', () => {
+    const text = '0 1\n1 2\n2 0\n';
+    const r = read(new Uint8Array(gzipSync(Buffer.from(text))), 'g.tsv.gz');
+    expect(pairs(dense(r, 'edge_index'))).toEqual([[0, 1], [1, 2], [2, 0]]);
+  });
+});
+
+describe('larger files', () => {
+  it('agrees with a naive split-based parse on a 20 000-line file with mixed formatting', () => {
+    let seed = 12345;
+    const rnd = (n: number): number => {
+      seed = (seed * 1103515245 + 12345) & 0x7fffffff;
+      return seed % n;
+    };
+    const lines: string[] = [];
+    const want: number[][] = [];
+    for (let k = 0; k < 20000; k++) {
+      const u = rnd(100000) - 50;
+      const v = rnd(100000);
+      const sep = [' ', '\t', '  ', ' \t '][rnd(4)]!;
+      const lead = ['', '', ' ', '\t'][rnd(4)]!;
+      const end = ['', '', ' ', '\r'][rnd(4)]!;
+      if (rnd(50) === 0) lines.push('# comment ' + k);
+      if (rnd(50) === 0) lines.push('');
+      lines.push(`${lead}${u}${sep}${v}${end}`);
+      want.push([u, v]);
+    }
+    const r = readText(lines.join('\n') + '\n');
+    expect(r.problems).toEqual([]);
+    expect(pairs(dense(r, 'edge_index'))).toEqual(want);
+    // Locations of a few edges agree with where the text puts them.
+    const ei = dense(r, 'edge_index');
+    for (const k of [0, 777, 19999]) {
+      const sp = ei.locator!.locate(ei.shape[1]! + k)!;
+      const line = lines[sp.line - 1]!;
+      expect(line.slice(sp.column - 1, sp.column - 1 + sp.length)).toBe(String(want[k]![1]));
+    }
+  });
+
+  it('grows its arrays past the first size estimate', () => {
+    // The first 20 lines are long (comments after the ids would not count; long numbers do).
+    const head = Array.from({ length: 20 }, (_, k) => `${1000000000 + k} ${1000000000 + k}`).join('\n');
+    const tail = Array.from({ length: 5000 }, (_, k) => `${k} ${k}`).join('\n');
+    const r = readText(head + '\n' + tail + '\n');
+    expect(tensor(r, 'edge_index').shape).toEqual([2, 5020]);
+  });
+});
+
+describe('hostile layouts', () => {
+  it('reads one very wide line among short ones with a field-count warning', () => {
+    const wide = Array.from({ length: 20000 }, (_, k) => String(k)).join(' ');
+    const r = readText(wide + '\n' + '0 1\n'.repeat(20000));
+    expect(tensor(r, 'edge_index').shape).toEqual([2, 20001]);
+    expect(r.problems.map((p) => [p.code, p.severity, p.count])).toEqual([['edge-shape', 'warning', 1]]);
+  });
+
+  it('refuses wide first lines followed by a flood of short ones instead of allocating for them', () => {
+    const wide = Array.from({ length: 5000 }, (_, k) => String(k)).join(' ');
+    const text = (wide + '\n').repeat(20) + '0 1\n'.repeat(100000);
+    expect(unreadable(() => readText(text)).message).toContain('missing values');
+  });
+});
+
+describe('networkx dict data', () => {
+  it('reads the weight from dicts with several keys (commas inside do not count as delimiters)', () => {
+    // Format of networkx.write_edgelist(data=True): `u v {attr dict}` (networkx 2.8, see karate_nxdict.el).
+    const r = readText("0 1 {'weight': 4, 'color': 'red'}\n1 2 {'color': 'blue', 'weight': 2.5}\n2 3 {}\n");
+    expect(r.delimiter).toBe('whitespace');
+    const w = dense(r, 'edge_weight').data;
+    expect([w[0], w[1], Number.isNaN(w[2])]).toEqual([4, 2.5, true]);
+    expect(r.problems).toEqual([]);
+  });
+
+  it('has no weight tensor when no dict holds a weight', () => {
+    expect(readText('0 1 {}\n1 2 {}\n').tensors.map((t) => t.name)).toEqual(['edge_index']);
+  });
+});

@@ -1,0 +1,184 @@
+import { describe, expect, it } from 'vitest';
+import { firstSyntaxError, readJson } from '../../server/src/core/formats/json';
+import { DEFAULT_LIMITS, UnreadableError, type ReadResult } from '../../server/src/core/formats/types';
+import { dense, expected, fixture, pairs, span, utf8 } from './text-fixture-helpers';
+
+const read = (bytes: Uint8Array): ReadResult => readJson(bytes, 'g.json', DEFAULT_LIMITS);
+const readText = (text: string): ReadResult => read(utf8(text));
+
+function unreadable(f: () => unknown): UnreadableError {
+  try {
+    f();
+  } catch (e) {
+    expect(e).toBeInstanceOf(UnreadableError);
+    return e as UnreadableError;
+  }
+  throw new Error('expected an UnreadableError');
+}
+
+// Fixtures written by Python's json module (with networkx 2.8 / numpy 1.24 data), see
+// make_text_fixtures.py; positions in expected.json were found by Python in the written text.
+describe('JSON written by Python', () => {
+  it('reads an array of pairs as edge_index [2, E] (karate_pairs.json, json.dumps)', () => {
+    const exp = expected['karate_pairs.json'];
+    const r = read(fixture('karate_pairs.json'));
+    expect(r.format).toBe('json');
+    const ei = dense(r, 'edge_index');
+    expect(ei.shape).toEqual([2, 78]); // REFERENCES.md §2.1: 78 edges
+    expect(ei.dtype).toBe('int64');
+    expect(ei.data).toBeInstanceOf(Int32Array);
+    expect(ei.declaredRole).toBe('edge-index');
+    expect(pairs(ei)).toEqual(exp.edges);
+    // Flat index E + 3 is the target of pair 3.
+    expect(span(ei.locator!.locate(78 + 3))).toEqual(exp.target3);
+    expect(span(ei.locator!.locate(0))).toEqual({ line: 1, column: 3, length: 1 });
+    expect(ei.locator!.locate(156)).toBeUndefined();
+  });
+
+  it('reads an object of named arrays with nested masks (karate_graph.json, json.dumps indent=2)', () => {
+    const exp = expected['karate_graph.json'];
+    const r = read(fixture('karate_graph.json'));
+    expect(r.tensors.map((t) => t.name)).toEqual(
+      ['edge_index', 'x', 'y', 'masks.train', 'masks.val', 'masks.test', 'ones'],
+    ); // `names` holds strings and is skipped; `num_nodes` is a scalar
+    expect(r.hints?.nodes).toBe(34);
+    const ei = dense(r, 'edge_index');
+    expect(ei.shape).toEqual([2, 156]);
+    expect(ei.declaredRole).toBeUndefined();
+    expect([Array.from(ei.data.subarray(0, 156)), Array.from(ei.data.subarray(156))]).toEqual(exp.edge_index);
+    const x = dense(r, 'x');
+    expect(x.dtype).toBe('float64');
+    expect(x.shape).toEqual([34, 3]);
+    expect(Array.from(x.data)).toEqual(exp.x.flat());
+    expect(span(x.locator!.locate(2 * 3 + 1))).toEqual(exp.x21);
+    const y = dense(r, 'y');
+    expect(y.dtype).toBe('int64');
+    expect(Array.from(y.data)).toEqual(exp.y);
+    const train = dense(r, 'masks.train');
+    expect(train.dtype).toBe('bool');
+    expect(train.data).toBeInstanceOf(Uint8Array);
+    expect(Array.from(train.data)).toEqual(exp.train.map((b: boolean) => (b ? 1 : 0)));
+    // json.dumps writes 1.0 for a float: the text says float, so the dtype is float64.
+    expect(dense(r, 'ones').dtype).toBe('float64');
+  });
+
+  it("refuses Python's NaN token with its line and column", () => {
+    const exp = expected['python_nan.json'];
+    const e = unreadable(() => read(fixture('python_nan.json')));
+    expect(e.message).toContain(`line ${exp.line}, column ${exp.column}`);
+    expect(e.message).toContain('allow_nan');
+    expect(e.line).toBe(1);
+  });
+
+  it('refuses ragged arrays naming the key', () => {
+    expect(unreadable(() => read(fixture('ragged.json'))).message).toContain(`'${expected['ragged.json'].key}'`);
+  });
+});
+
+describe('dtypes and shapes', () => {
+  it('infers bool, int64 and float64, with null as NaN', () => {
+    const r = readText('{"b": [true, false], "i": [1, -2], "f": [1, 2.5], "n": [1, null], "e": [1e3]}');
+    expect(dense(r, 'b').dtype).toBe('bool');
+    expect(dense(r, 'i').dtype).toBe('int64');
+    expect(dense(r, 'f').dtype).toBe('float64');
+    const n = dense(r, 'n');
+    expect(n.dtype).toBe('float64');
+    expect(Number.isNaN(n.data[1])).toBe(true);
+    expect(dense(r, 'e').dtype).toBe('float64');
+  });
+
+  it('stores int64 values beyond int32 in a Float64Array', () => {
+    const t = dense(readText('{"ids": [1, 3000000000]}'), 'ids');
+    expect(t.dtype).toBe('int64');
+    expect(t.data).toBeInstanceOf(Float64Array);
+  });
+
+  it('names nested arrays by their key path', () => {
+    const r = readText('{"data": {"graph": {"edge_index": [[0], [1]]}, "split": {"train": [0, 1]}}}');
+    expect(r.tensors.map((t) => t.name)).toEqual(['data.graph.edge_index', 'data.split.train']);
+    expect(dense(r, 'data.graph.edge_index').shape).toEqual([2, 1]);
+    expect(span(dense(r, 'data.split.train').locator!.locate(1))).toEqual({ line: 1, column: 71, length: 1 });
+  });
+
+  it('skips arrays of strings and of objects', () => {
+    const r = readText('{"a": ["x"], "b": [{"c": 1}], "d": [[1, "y"]], "e": [1]}');
+    expect(r.tensors.map((t) => t.name)).toEqual(['e']);
+  });
+
+  it('takes a top-level [2, E] array as it stands and other arrays as `data`', () => {
+    const r = readText('[[0, 1, 2], [1, 2, 0]]');
+    expect(dense(r, 'edge_index').shape).toEqual([2, 3]);
+    expect(Array.from(dense(r, 'edge_index').data)).toEqual([0, 1, 2, 1, 2, 0]);
+    expect(dense(readText('[1, 2, 3]'), 'data').shape).toEqual([3]);
+    expect(dense(readText('[]'), 'edge_index').shape).toEqual([2, 0]);
+  });
+
+  it('reads empty arrays and scalars without tensors', () => {
+    expect(dense(readText('{"x": []}'), 'x').shape).toEqual([0]);
+    expect(dense(readText('{"x": [[], []]}'), 'x').shape).toEqual([2, 0]);
+    expect(readText('42').tensors).toEqual([]);
+  });
+
+  it('refuses ragged arrays of any depth', () => {
+    expect(unreadable(() => readText('{"m": {"x": [[1, 2], [3, 4, 5]]}}')).message).toContain("'m.x'");
+    unreadable(() => readText('{"x": [[1], 2]}'));
+    unreadable(() => readText('{"x": [1, [2]]}'));
+  });
+});
+
+describe('syntax errors', () => {
+  // Offsets below follow the RFC 8259 grammar, worked out by hand.
+  const cases: Array<[string, number, number]> = [
+    ['{"a": }', 1, 7],
+    ['[1, 2', 1, 6],
+    ['{"a": [1, 2,]}', 1, 13],
+    ['\n\n  [1, 2 3]', 3, 9],
+    ['{"a" 1}', 1, 6],
+    ['[01]', 1, 3],
+    ['[1] [2]', 1, 5],
+    ['["a\\x"]', 1, 5],
+  ];
+  for (const [text, line, column] of cases) {
+    it(`locates the error in ${JSON.stringify(text)}`, () => {
+      const e = unreadable(() => readText(text));
+      expect(e.message).toContain(`line ${line}, column ${column}`);
+      expect(e.line).toBe(line);
+    });
+  }
+
+  it('agrees with JSON.parse on what is valid', () => {
+    for (const t of ['{}', '[]', '0', '-0.5e+3', '"\\u00e9"', 'true', ' null ', '{"a": [1, {"b": false}]}']) {
+      expect(() => JSON.parse(t)).not.toThrow();
+      expect(firstSyntaxError(t)).toBeUndefined();
+    }
+  });
+
+  it('refuses empty input, invalid UTF-8 and binary data', () => {
+    expect(unreadable(() => readText('')).message).toContain('end of input');
+    expect(unreadable(() => read(new Uint8Array([0x5b, 0xff, 0x5d]))).message).toContain('UTF-8');
+    expect(unreadable(() => read(new Uint8Array([0x5b, 0, 0x5d]))).message).toContain('not a text file');
+  });
+
+  it('skips a UTF-8 byte order mark', () => {
+    const r = read(new Uint8Array([0xef, 0xbb, 0xbf, ...utf8('{"y": [1]}')]));
+    expect(span(dense(r, 'y').locator!.locate(0))).toEqual({ line: 1, column: 8, length: 1 });
+  });
+});
+
+describe('hostile shapes', () => {
+  it('finds the ragged row before allocating for a shape the first rows promise', () => {
+    const rows = ['[' + new Array(5000).fill('1').join(',') + ']', ...new Array(3000).fill('[]')];
+    const e = unreadable(() => readText(`{"x": [${rows.join(',')}]}`));
+    expect(e.message).toContain("'x' is ragged");
+  });
+
+  it('refuses arrays nested deeper than 32 levels', () => {
+    unreadable(() => readText('{"x": ' + '['.repeat(40) + ']'.repeat(40) + '}'));
+    unreadable(() => readText('['.repeat(100000) + ']'.repeat(100000)));
+  });
+
+  it('reads deeply nested objects without tensors below depth 64', () => {
+    const r = readText('{"a": '.repeat(100) + '[1]' + '}'.repeat(100));
+    expect(r.tensors).toEqual([]);
+  });
+});
