@@ -6,6 +6,7 @@ import { DEFAULT_LIMITS, type Format, type ReadLimits, type ReadResult } from '.
 import { readNpy } from './npy';
 import { readNpz } from './npz';
 import { readSafetensors } from './safetensors';
+import { readPt } from './pt';
 import { readEdgeList } from './edgelist';
 import { readMtx } from './mtx';
 import { readJson } from './json';
@@ -24,6 +25,7 @@ export const READERS: readonly Reader[] = [
   { format: 'npy', extensions: ['.npy'], read: readNpy },
   { format: 'npz', extensions: ['.npz'], read: readNpz },
   { format: 'safetensors', extensions: ['.safetensors'], read: readSafetensors },
+  { format: 'pt', extensions: ['.pt', '.pth'], read: readPt },
   {
     format: 'edgelist',
     extensions: [...EDGE_LIST_EXTENSIONS.map((e) => e + '.gz'), ...EDGE_LIST_EXTENSIONS],
