@@ -5,6 +5,7 @@
 import * as vscode from 'vscode';
 import { LanguageClient, TransportKind, type LanguageClientOptions, type ServerOptions } from 'vscode-languageclient/node';
 import { TensorViewerProvider, VIEW_TYPE } from './viewer';
+import { registerInspect } from './debug/inspect';
 import {
   DEFAULT_SETTINGS, FixedCopyRequest, RecheckRequest, StatusNotification,
   type FixedCopyResult, type ServerSettings, type StatusParams,
@@ -55,6 +56,7 @@ export async function activate(context: vscode.ExtensionContext): Promise<void> 
     }),
     vscode.commands.registerCommand('hopscope.showOutput', () => output.show()),
   );
+  registerInspect(context, () => client);
 
   const serverModule = vscode.Uri.joinPath(context.extensionUri, 'dist', 'server.js').fsPath;
   const serverOptions: ServerOptions = {

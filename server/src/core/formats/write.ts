@@ -123,3 +123,29 @@ export function replaceSafetensor(bytes: Uint8Array, name: string, shape: number
   for (const d of parts) { result.set(d, p); p += d.length; }
   return result;
 }
+
+/**
+ * NumPy format 1.0 .npy of a C-order array. `descr` is the NumPy type string (e.g. '<f8', '<f4',
+ * '|b1', '<i8') and `data` holds the elements' bytes already in that byte order.
+ */
+export function encodeNpy(descr: string, shape: number[], data: Uint8Array): Uint8Array {
+  const shp = shape.length === 1 ? `(${shape[0]},)` : `(${shape.join(', ')})`;
+  let header = `{'descr': '${descr}', 'fortran_order': False, 'shape': ${shp}, }`;
+  const total = Math.ceil((10 + header.length + 1) / 64) * 64;
+  if (total - 10 > 0xffff) throw new Error('shape too long for a version 1.0 .npy header');
+  header = header.padEnd(total - 11, ' ') + '\n';
+  const out = new Uint8Array(total + data.length);
+  out.set(MAGIC);
+  out[6] = 1; out[7] = 0;
+  out[8] = header.length & 0xff; out[9] = header.length >> 8;
+  for (let i = 0; i < header.length; i++) out[10 + i] = header.charCodeAt(i);
+  out.set(data, total);
+  return out;
+}
+
+/** An .npz laid out like numpy.savez writes it: one stored (uncompressed) `<name>.npy` member per array. */
+export function encodeNpz(arrays: Array<{ name: string; npy: Uint8Array }>): Uint8Array {
+  return encodeZip(arrays.map(({ name, npy }) => ({
+    name: `${name}.npy`, method: 0, data: npy, crc32: crc32(npy), uncompressedSize: npy.length,
+  })));
+}
