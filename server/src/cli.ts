@@ -172,7 +172,7 @@ export function main(argv: string[], io: CliIo): number {
     })}\n`);
   }
 
-  const unreadable = files.some((f) => f.problems.some((p) => p.code === 'unreadable'));
+  const unreadable = files.some((f) => f.problems.some((p) => p.code === 'unreadable' && p.severity === 'error'));
   if (result.missing.length || result.unsupported.length || unreadable) return 2;
   if (files.length === 0 && result.manifestProblems.length === 0) {
     io.err('hopscope check: no supported graph files found\n');

@@ -13,7 +13,7 @@ import * as path from 'node:path';
 import { readNpy } from '../../server/src/core/formats/npy';
 import { checkGraph } from '../../server/src/core/checks/graph-check';
 import { guessRole } from '../../server/src/core/checks/roles';
-import { analyseStructure, countComponents } from '../../server/src/core/graph/figures';
+import { analyseStructure, countComponentsCsr } from '../../server/src/core/graph/figures';
 import { buildSortedPair, hasEdge, transpose, buildCsr } from '../../server/src/core/graph/csr';
 import { DEFAULT_LIMITS, type DenseTensor } from '../../server/src/core/formats/types';
 
@@ -77,9 +77,27 @@ describe('CSR building blocks', () => {
     expect(Array.from(t2.indices)).toEqual(Array.from(fwd.indices));
   });
 
+  it('the radix build equals two counting-sort transposes for 1, 2 and 3 digit passes', () => {
+    let seed = 7;
+    const rnd = (m: number) => { seed = (Math.imul(seed, 1103515245) + 12345) >>> 0; return Math.floor((seed / 2 ** 32) * m); };
+    for (const n of [50, 70_000, 5_000_000]) {
+      const e = 20_000;
+      const src = Int32Array.from({ length: e }, () => rnd(n)), dst = Int32Array.from({ length: e }, () => rnd(n));
+      const { fwd, rev } = buildSortedPair(n, src, dst);
+      const f2 = transpose(transpose(buildCsr(n, src, dst)));
+      const r2 = transpose(buildCsr(n, src, dst));
+      expect(Array.from(fwd.indices)).toEqual(Array.from(f2.indices));
+      expect(Array.from(fwd.indptr)).toEqual(Array.from(f2.indptr));
+      expect(Array.from(rev.indices)).toEqual(Array.from(r2.indices));
+      expect(Array.from(rev.indptr)).toEqual(Array.from(r2.indptr));
+    }
+  });
+
   it('counts weakly connected components including isolated nodes', () => {
-    expect(countComponents(5, Int32Array.from([0, 3]), Int32Array.from([1, 3]))).toBe(4);
-    expect(countComponents(0, new Int32Array(0), new Int32Array(0))).toBe(0);
+    expect(countComponentsCsr(buildCsr(5, Int32Array.from([0, 3]), Int32Array.from([1, 3])))).toBe(4);
+    expect(countComponentsCsr(buildCsr(0, new Int32Array(0), new Int32Array(0)))).toBe(0);
+    // Components join through in-edges too (weak connectivity): 2 → 0 and 2 → 1 make one.
+    expect(countComponentsCsr(buildCsr(3, Int32Array.from([2, 2]), Int32Array.from([0, 1])))).toBe(1);
   });
 
   it('a self-loop alone leaves a node isolated; the reverse of a self-loop is itself', () => {

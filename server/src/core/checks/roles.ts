@@ -64,8 +64,25 @@ export function guessRole(t: Tensor): RoleGuess {
   if (t.declaredRole) return withSplit(t, { role: t.declaredRole, reason: 'declared' });
   if (t.kind === 'sparse') return { role: 'adjacency', reason: 'shape' };
   const byName = roleFromName(t.name);
-  if (byName) return withSplit(t, { role: byName, reason: 'name' });
+  if (byName && fitsRole(t, byName)) return withSplit(t, { role: byName, reason: 'name' });
   return withSplit(t, guessFromShape(t));
+}
+
+/**
+ * Whether a tensor's rank fits a role its name suggests. Bare names such as `weight` or `w` are
+ * common in model checkpoints (a layer's weight matrix): as an edge weight they must be a vector.
+ */
+function fitsRole(t: Tensor, role: Role): boolean {
+  const rank = t.shape.length;
+  const seg = lastSegment(t.name);
+  switch (role) {
+    case 'edge-weight':
+      return rank === 1 || (rank === 2 && t.shape[1] === 1) || !/^(weights?|w)$/.test(seg);
+    case 'mask':
+      return rank === 1 || (rank === 2 && t.shape[1] === 1) || /mask/.test(seg);
+    default:
+      return true;
+  }
 }
 
 function withSplit(t: Tensor, g: RoleGuess): RoleGuess {
