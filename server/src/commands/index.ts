@@ -7,10 +7,12 @@ import { fieldCommand } from './field';
 import { wlCommand } from './wl';
 import { compareCommand } from './compare';
 import { bottlenecksCommand } from './bottlenecks';
+import { spectrumCommand } from './spectrum';
 
 export const COMMANDS: Command[] = [
   fieldCommand,
   wlCommand,
   compareCommand,
   bottlenecksCommand,
+  spectrumCommand,
 ];
