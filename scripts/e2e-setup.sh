@@ -5,10 +5,13 @@
 #   - Node 24 and code-server into .cache/e2e/cs, a folder with its own package.json: code-server needs
 #     Node 24 while the extension's toolchain stays on the machine's Node. Installed only when the
 #     version there is not the expected one.
-# Safe to run again: with everything in place it only checks (about a second).
+# Safe to run again: with everything in place it only checks (a few seconds).
 # First run: about 120 MB of apt downloads and about 800 MB in .cache/e2e/cs, 3-6 minutes.
+# `--check` installs nothing: it exits 1 with a hint when something is missing.
 set -euo pipefail
 cd "$(dirname "$0")/.."
+check_only=false
+[ "${1:-}" = "--check" ] && check_only=true
 
 CODE_SERVER_VERSION=4.139.1
 CS_DIR="$PWD/.cache/e2e/cs"
@@ -19,6 +22,10 @@ need=()
 for pkg in chromium python3-debugpy libkrb5-dev libsecret-1-dev libx11-dev libxkbfile-dev; do
   dpkg -s "$pkg" >/dev/null 2>&1 || need+=("$pkg")
 done
+if [ ${#need[@]} -gt 0 ] && $check_only; then
+  echo "e2e setup: missing Debian packages: ${need[*]} (run: bash scripts/e2e-setup.sh)" >&2
+  exit 1
+fi
 if [ ${#need[@]} -gt 0 ]; then
   echo "== e2e setup: apt-get install ${need[*]}"
   sudo=()
@@ -33,6 +40,10 @@ installed_version() {
 }
 
 have=$(installed_version)
+if [ "$have" != "$CODE_SERVER_VERSION" ] && $check_only; then
+  echo "e2e setup: code-server $CODE_SERVER_VERSION is not in .cache/e2e/cs (found: ${have:-nothing}; run: bash scripts/e2e-setup.sh)" >&2
+  exit 1
+fi
 if [ "$have" != "$CODE_SERVER_VERSION" ]; then
   echo "== e2e setup: installing Node 24 + code-server $CODE_SERVER_VERSION into .cache/e2e/cs" \
        "(found: ${have:-nothing}; about 800 MB, 3-5 minutes)"
