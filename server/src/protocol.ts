@@ -130,6 +130,121 @@ export namespace RecheckRequest {
   export const method = 'hopscope/recheck';
 }
 
+/**
+ * Requests of the receptive-field panel (extension/src/panel.ts). Node ids are as written in the
+ * file (a 1-based file keeps its 1-based ids); every figure is computed by the server.
+ */
+
+/** Request, client → server: the receptive field of one node, with the nodes and edges to draw. */
+export namespace FieldViewRequest {
+  export const method = 'hopscope/field';
+  export interface Params {
+    uri: string;
+    node: number;
+    /** Message-passing layers, 0..64 (the panel offers 0..8). */
+    layers: number;
+    /** Default: the manifest's `flow`, else the `hopscope.flow` setting. */
+    flow?: 'source-to-target' | 'target-to-source';
+    /** Messages travel both ways along every edge. */
+    symmetrise?: boolean;
+    /** Every layer keeps the node's own state (default true): the field is every node within L hops. */
+    selfLoops?: boolean;
+    /** Most nodes to draw (`hopscope.panel.maxDrawnNodes`); the server keeps it within 10..20000. */
+    maxNodes?: number;
+  }
+}
+export interface FieldViewPayload {
+  file: string;
+  node: number;
+  layers: number;
+  flow: 'source-to-target' | 'target-to-source';
+  symmetrised: boolean;
+  selfLoops: boolean;
+  graphNodes: number;
+  indexBase: 0 | 1;
+  /** Field members per shortest hop distance 0..layers. */
+  perHop: number[];
+  total: number;
+  coverage: number;
+  centreInField: boolean;
+  /** Drawn nodes: the centre first, then by hop distance, then by id. */
+  ids: number[];
+  hops: number[];
+  /** Influence of each drawn node on the centre: row `node` of Â^L (GCN), or of (D^-1/2 A D^-1/2)^L without self-loops. */
+  weights: number[];
+  /** Per drawn node, the value of the label tensor when the graph has one. */
+  labels?: Array<string | number | null>;
+  /** Drawn field members ("showing shown of total"). */
+  shown: number;
+  shownPerHop: number[];
+  sampled: boolean;
+  /** Edges among the drawn nodes: index pairs (a < b) into `ids`, flattened. */
+  edges: number[];
+  /** Per edge: 1 = messages ids[a] → ids[b] only, 2 = ids[b] → ids[a] only, 3 = both ways. */
+  edgeDirs: number[];
+  /** Edges among the drawn nodes; above 30,000 only those nearest the centre are in `edges`. */
+  edgesTotal: number;
+  /** Median and 90th-percentile coverage for L = 1..8 over `sampled` nodes. */
+  coverageCurve: { layers: number[]; median: number[]; p90: number[]; sampled: number; allNodes: boolean };
+  hasFeatures: boolean;
+  /** Error-level problems of the file: the analyses use the edges that are in range. */
+  fileErrors: number;
+}
+
+/** Request, client → server: 1-WL colours of the drawn nodes and the groups that share one. */
+export namespace WlClassesRequest {
+  export const method = 'hopscope/wlClasses';
+  export interface Params { uri: string; nodes: number[] }
+}
+export interface WlClassesPayload {
+  classesPerRound: number[];
+  stableAfter: number | null;
+  /** Final colour per requested node, -1 for an id outside the graph. */
+  colours: number[];
+  /** Size of each requested node's class in the whole graph. */
+  classSizes: number[];
+  /** Requested nodes sharing a colour (two or more), largest group first. */
+  groups: Array<{ colour: number; nodes: number[]; inGraph: number }>;
+  sharedInGraph: number;
+  graphNodes: number;
+}
+
+/** Request, client → server: curvature and bridge flag of the drawn edges. */
+export namespace BottlenecksRequest {
+  export const method = 'hopscope/bottlenecks';
+  /** `edges`: node id pairs, flattened. */
+  export interface Params { uri: string; edges: number[] }
+}
+export interface BottlenecksPayload {
+  /** Per requested pair; null where the pair is not an edge (or balanced Forman was skipped). */
+  forman: Array<number | null>;
+  formanTriangles: Array<number | null>;
+  balancedForman: Array<number | null>;
+  triangles: number[];
+  bridge: boolean[];
+  balancedComputed: boolean;
+  bridgesInGraph: number;
+  undirectedEdges: number;
+}
+
+/** Request, client → server: Dirichlet energy of the features over 0..steps GCN steps. Null without features. */
+export namespace SmoothingRequest {
+  export const method = 'hopscope/smoothing';
+  export interface Params { uri: string; steps?: number }
+}
+export interface SmoothingPayload {
+  /** Degree-normalised energy (Cai & Wang 2020) after k = 0..steps steps of Â. */
+  caiWang: number[];
+  /** tr(XᵀLX), for reference only: it does not decay on irregular graphs. */
+  unnormalised: number[];
+  steps: number;
+  featureTensor: string;
+  cols: number;
+  /** The first colsUsed columns when the whole matrix would take too long. */
+  colsUsed: number;
+  nonFinite: number;
+}
+
 /** Initialization options the client sends (mirrors the `hopscope.*` settings). */
 export interface ServerSettings {
   /** Declared directedness when nothing else says: 'auto' (infer), 'directed', 'undirected'. */

@@ -61,7 +61,7 @@ export function escapeMarkdown(s: string): string {
 
 
 /** Markdown summary of a checked file, for hovers on its path. */
-export function fileSummaryMarkdown(name: string, report: FileReport, opts: { size?: number; graphFiles?: string[]; viewerCommand?: string } = {}): string {
+export function fileSummaryMarkdown(name: string, report: FileReport, opts: { size?: number; graphFiles?: string[]; viewerCommand?: string; fieldCommand?: string } = {}): string {
   const lines: string[] = [];
   const size = opts.size !== undefined ? ` · ${formatBytes(opts.size)}` : '';
   lines.push(`**${escapeMarkdown(name)}** — ${report.format}${size}`, '');
@@ -89,8 +89,16 @@ export function fileSummaryMarkdown(name: string, report: FileReport, opts: { si
   if (opts.graphFiles && opts.graphFiles.length > 1) {
     lines.push('', `Checked together with: ${opts.graphFiles.filter((f) => !f.endsWith(name)).map((f) => escapeMarkdown(baseName(f))).join(', ')}`);
   }
-  if (opts.viewerCommand) lines.push('', `[Open in the tensor viewer](${opts.viewerCommand})`);
+  const links: string[] = [];
+  if (opts.viewerCommand) links.push(`[Open in the tensor viewer](${opts.viewerCommand})`);
+  if (opts.fieldCommand && hasStructure(report)) links.push(`[Open the receptive-field panel](${opts.fieldCommand})`);
+  if (links.length) lines.push('', links.join(' · '));
   return lines.join('\n');
+}
+
+/** Whether the file holds the edges of a graph (the receptive-field panel needs them). */
+export function hasStructure(report: FileReport): boolean {
+  return report.tensors.some((t) => t.role === 'edge-index' || t.role === 'adjacency');
 }
 
 export function nodeInfoMarkdown(info: NodeInfo): string {

@@ -26,6 +26,7 @@ import {
   TensorPageRequest, TensorStatsRequest, type FileSummary, type ServerSettings, type StatusParams,
 } from '../protocol';
 import { writeFixedCopy, describeFixedCopy } from '../node/fixed-copy';
+import { registerAnalysisRequests } from './analysis';
 import {
   codeExplanationMarkdown, fileSummaryMarkdown, integerAt, nodeInfoMarkdown, pathLiteralAt,
 } from './hover-text';
@@ -308,8 +309,9 @@ export function startServer(connection: Connection, workerScript: string): void 
       return { contents: { kind: 'markdown', value: `**${path.basename(target)}** — checking…` }, range };
     }
     const open = `command:hopscope.openViewer?${encodeURIComponent(JSON.stringify([URI.file(target).toString()]))}`;
+    const field = `command:hopscope.openFieldPanel?${encodeURIComponent(JSON.stringify([URI.file(target).toString()]))}`;
     return {
-      contents: { kind: 'markdown', value: fileSummaryMarkdown(path.basename(target), summary.report, { ...(summary.size !== undefined ? { size: summary.size } : {}), ...(summary.graphFiles ? { graphFiles: summary.graphFiles } : {}), viewerCommand: open }) },
+      contents: { kind: 'markdown', value: fileSummaryMarkdown(path.basename(target), summary.report, { ...(summary.size !== undefined ? { size: summary.size } : {}), ...(summary.graphFiles ? { graphFiles: summary.graphFiles } : {}), viewerCommand: open, fieldCommand: field }) },
       range,
     };
   });
@@ -380,6 +382,7 @@ export function startServer(connection: Connection, workerScript: string): void 
     return describeFixedCopy(file, report);
   });
   connection.onRequest(RecheckRequest.method, async () => { await scanWorkspace(); return null; });
+  registerAnalysisRequests(connection, service);
 
   connection.onShutdown(async () => { await worker.dispose(); });
 

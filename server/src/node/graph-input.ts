@@ -26,6 +26,8 @@ export interface LoadedGraph {
   /** Problems found on the way (the analyses still run on the in-range edges). */
   problems: Problem[];
   options: GraphOptions;
+  /** The files the graph was read from (absolute): the structure file, siblings, manifest parts. */
+  files: string[];
 }
 
 export class GraphLoadError extends Error {
@@ -53,5 +55,6 @@ export function loadGraph(file: string, options: CheckSetOptions = {}): LoadedGr
     file, n: s.figures.nodes, src: s.src, dst: s.dst, fwd: s.fwd, rev: s.rev,
     ...(features ? { features } : {}), ...(labels ? { labels } : {}),
     figures: g.check.figures, problems: report.problems, options: g.check.options,
+    files: g.files.map((f) => path.resolve(f)),
   };
 }

@@ -11,6 +11,7 @@ import type { DenseTensor, Tensor } from '../core/formats/types';
 import { guessRole } from '../core/checks/roles';
 import { checkPaths, type LoadOptions } from './load';
 import type { ColumnStats, NodeInfo, TensorPage, TensorStats } from '../protocol';
+import { AnalysisService } from './analysis-service';
 
 interface CacheEntry {
   mtimeMs: number;
@@ -39,6 +40,8 @@ export class GraphService {
   private readonly structures = new Map<string, StructureInfo>();
   private readonly reports = new Map<string, FileReport>();
   private clock = 0;
+  /** The receptive-field panel's analyses (analysis-service.ts). */
+  readonly analysis = new AnalysisService();
 
   constructor(
     private options: CheckSetOptions = {},
@@ -51,6 +54,7 @@ export class GraphService {
     this.options = options;
     this.load = load;
     this.structures.clear();
+    this.analysis.configure(options);
   }
 
   /** Checks files/folders and remembers the reports and graph structures. */
@@ -81,7 +85,13 @@ export class GraphService {
     this.cache.delete(p);
     this.reports.delete(p);
     this.structures.delete(p);
+    this.analysis.forget(p);
   }
+
+  fieldView(...a: Parameters<AnalysisService['field']>) { return this.analysis.field(...a); }
+  wlClasses(...a: Parameters<AnalysisService['wlClasses']>) { return this.analysis.wlClasses(...a); }
+  bottlenecks(...a: Parameters<AnalysisService['bottlenecks']>) { return this.analysis.bottlenecks(...a); }
+  smoothing(...a: Parameters<AnalysisService['smoothing']>) { return this.analysis.smoothing(...a); }
 
   nodeInfo(file: string, node: number, maxNeighbours = 8): NodeInfo | undefined {
     const s = this.structures.get(path.resolve(file));

@@ -6,7 +6,8 @@
 import { Worker } from 'node:worker_threads';
 import type { GraphService } from './service';
 
-type Service = Pick<GraphService, 'configure' | 'check' | 'report' | 'forget' | 'nodeInfo' | 'tensorPage' | 'tensorStats'>;
+type Service = Pick<GraphService, 'configure' | 'check' | 'report' | 'forget' | 'nodeInfo' | 'tensorPage' | 'tensorStats'
+  | 'fieldView' | 'wlClasses' | 'bottlenecks' | 'smoothing'>;
 type Async<T> = { [K in keyof T]: T[K] extends (...a: infer A) => infer R ? (...a: A) => Promise<R> : never };
 
 export class WorkerService {

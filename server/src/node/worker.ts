@@ -7,7 +7,8 @@ import { GraphService } from './service';
 
 const service = new GraphService();
 
-type Method = 'configure' | 'check' | 'report' | 'forget' | 'nodeInfo' | 'tensorPage' | 'tensorStats';
+type Method = 'configure' | 'check' | 'report' | 'forget' | 'nodeInfo' | 'tensorPage' | 'tensorStats'
+  | 'fieldView' | 'wlClasses' | 'bottlenecks' | 'smoothing';
 
 parentPort?.on('message', (msg: { id: number; method: Method; args: unknown[] }) => {
   try {
