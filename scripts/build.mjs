@@ -21,6 +21,8 @@ const entries = [
   { ...common, entryPoints: ['server/src/node/worker.ts'], outfile: 'dist/worker.js', platform: 'node', format: 'cjs' },
   { ...common, entryPoints: ['server/src/cli.ts'], outfile: 'dist/cli.js', platform: 'node', format: 'cjs', banner: { js: '#!/usr/bin/env node' } },
   { ...common, entryPoints: ['webview/src/viewer.ts'], outfile: 'dist/webview/viewer.js', platform: 'browser', format: 'iife', target: 'es2022' },
+  { ...common, entryPoints: ['webview/src/panel.ts'], outfile: 'dist/webview/panel.js', platform: 'browser', format: 'iife', target: 'es2022' },
+  { ...common, entryPoints: ['webview/src/panel-layout-worker.ts'], outfile: 'dist/webview/panel-layout.js', platform: 'browser', format: 'iife', target: 'es2022' },
 ].filter((e) => existsSync(e.entryPoints[0]));
 
 if (watch) {

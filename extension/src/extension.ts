@@ -5,6 +5,7 @@
 import * as vscode from 'vscode';
 import { LanguageClient, TransportKind, type LanguageClientOptions, type ServerOptions } from 'vscode-languageclient/node';
 import { TensorViewerProvider, VIEW_TYPE } from './viewer';
+import { OPEN_FIELD_PANEL, registerPanel } from './panel';
 import { registerInspect } from './debug/inspect';
 import {
   DEFAULT_SETTINGS, FixedCopyRequest, RecheckRequest, StatusNotification,
@@ -32,6 +33,8 @@ export async function activate(context: vscode.ExtensionContext): Promise<void> 
     VIEW_TYPE, new TensorViewerProvider(context.extensionUri, () => client, writeFixedCopy),
     { supportsMultipleEditorsPerDocument: true, webviewOptions: { retainContextWhenHidden: false } },
   ));
+
+  registerPanel(context, () => client);
 
   const status = vscode.window.createStatusBarItem('hopscope.status', vscode.StatusBarAlignment.Left, 10);
   status.name = 'Hopscope';
@@ -68,7 +71,7 @@ export async function activate(context: vscode.ExtensionContext): Promise<void> 
     synchronize: { fileEvents: vscode.workspace.createFileSystemWatcher(GRAPH_GLOB) },
     outputChannel: output,
     initializationOptions: readSettings(),
-    markdown: { isTrusted: { enabledCommands: ['hopscope.openViewer'] } },
+    markdown: { isTrusted: { enabledCommands: ['hopscope.openViewer', OPEN_FIELD_PANEL] } },
   };
   client = new LanguageClient('hopscope', 'Hopscope', serverOptions, clientOptions);
   context.subscriptions.push(client.onNotification(StatusNotification.method, (s: StatusParams) => {

@@ -74,6 +74,9 @@ export class TensorViewerProvider implements vscode.CustomReadonlyEditorProvider
           case 'reopenAsText':
             await vscode.commands.executeCommand('vscode.openWith', document.uri, 'default');
             break;
+          case 'openFieldPanel':
+            await vscode.commands.executeCommand('hopscope.openFieldPanel', document.uri);
+            break;
         }
       } catch (e) {
         send({ type: 'error', message: (e as Error).message });

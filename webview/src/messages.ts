@@ -11,7 +11,8 @@ export type ViewerRequest =
   | { type: 'stats'; tensor: string }
   | { type: 'openProblemTable'; code: string }
   | { type: 'writeFixedCopy' }
-  | { type: 'reopenAsText' };
+  | { type: 'reopenAsText' }
+  | { type: 'openFieldPanel' };
 
 /** Extension host → webview. */
 export type ViewerMessage =

@@ -80,6 +80,11 @@ function header(format: string, g: NonNullable<FileSummary['report']>['graph']):
     for (const [k, v] of facts) dl.append(el('span', { class: 'fact' }, el('b', {}, v), k ? ` ${k}` : ''));
     h.append(dl);
   }
+  if (summary?.report?.tensors.some((t) => t.role === 'edge-index' || t.role === 'adjacency')) {
+    const field = el('vscode-button', { secondary: '', id: 'open-field-panel', title: 'What an L-layer message-passing model lets one node hear' }, 'Receptive field…');
+    field.addEventListener('click', () => post({ type: 'openFieldPanel' }));
+    h.append(field);
+  }
   if (summary?.graphFiles && summary.graphFiles.length > 1) {
     const others = summary.graphFiles.map((f) => f.split(/[\\/]/).pop()!).filter((f) => f !== fileName);
     h.append(el('p', { class: 'muted' }, `Checked as one graph with ${others.join(', ')}`));

@@ -1,0 +1,225 @@
+/**
+ * The receptive-field panel: a webview (webview/src/panel.ts) that shows what an L-layer
+ * message-passing model lets one node of a graph file hear. This side opens and restores panels,
+ * relays the webview's questions to the language server (protocol.ts: hopscope/field, wlClasses,
+ * bottlenecks, smoothing) and saves exported drawings where the user says.
+ *
+ * Opened by the `hopscope.openFieldPanel` command (palette, explorer menu, the tensor viewer's
+ * button, hover links); one panel per graph file. Panels come back after a reload through the
+ * serializer, with the state the webview saved.
+ */
+import * as vscode from 'vscode';
+import type { LanguageClient } from 'vscode-languageclient/node';
+import {
+  BottlenecksRequest, FieldViewRequest, FileSummaryRequest, SmoothingRequest, WlClassesRequest,
+  type BottlenecksPayload, type FieldViewPayload, type FileSummary, type SmoothingPayload, type WlClassesPayload,
+} from '../../server/src/protocol';
+import { PANEL_VIEW_TYPE, type PanelMessage, type PanelRequest, type PanelState } from '../../webview/src/panel-messages';
+import { makeNonce, panelHtml } from './panel-html';
+
+export const OPEN_FIELD_PANEL = 'hopscope.openFieldPanel';
+const GRAPH_FILES = '**/*.{npy,npz,safetensors,pt,pth,mtx,mtx.gz,edges,el,csv,tsv,txt,json}';
+const BINARY_FIRST = /\.(npy|npz|safetensors|pt|pth)$/i;
+
+type ClientGetter = () => LanguageClient | undefined;
+
+export function registerPanel(context: vscode.ExtensionContext, getClient: ClientGetter): void {
+  const hosts = new Map<string, FieldPanelHost>();
+  const open = (panel: vscode.WebviewPanel, uri: vscode.Uri, node: number | undefined) => {
+    const host = new FieldPanelHost(panel, uri, node, context.extensionUri, getClient);
+    hosts.set(uri.toString(), host);
+    panel.onDidDispose(() => { if (hosts.get(uri.toString()) === host) hosts.delete(uri.toString()); });
+  };
+
+  context.subscriptions.push(
+    vscode.commands.registerCommand(OPEN_FIELD_PANEL, async (arg?: vscode.Uri | string, nodeArg?: number) => {
+      const uri = typeof arg === 'string' ? vscode.Uri.parse(arg) : arg instanceof vscode.Uri ? arg : await pickGraphFile();
+      if (!uri) return;
+      const existing = hosts.get(uri.toString());
+      const node = typeof nodeArg === 'number' ? nodeArg : await askNode(uri, getClient());
+      if (node === undefined) return;
+      if (existing) { existing.show(node); return; }
+      const panel = vscode.window.createWebviewPanel(PANEL_VIEW_TYPE, panelTitle(uri), vscode.ViewColumn.Beside, webviewOptions(context.extensionUri));
+      open(panel, uri, node);
+    }),
+    vscode.window.registerWebviewPanelSerializer(PANEL_VIEW_TYPE, {
+      async deserializeWebviewPanel(panel: vscode.WebviewPanel, state: PanelState | undefined) {
+        if (!state?.uri) { panel.dispose(); return; }
+        // Reset the options so the restored page gets this install's resource roots.
+        panel.webview.options = webviewOptions(context.extensionUri);
+        open(panel, vscode.Uri.parse(state.uri), undefined);
+      },
+    }),
+  );
+}
+
+function webviewOptions(extensionUri: vscode.Uri): vscode.WebviewPanelOptions & vscode.WebviewOptions {
+  return {
+    enableScripts: true,
+    enableForms: false,
+    localResourceRoots: [vscode.Uri.joinPath(extensionUri, 'dist', 'webview'), vscode.Uri.joinPath(extensionUri, 'media')],
+  };
+}
+
+function panelTitle(uri: vscode.Uri, node?: number): string {
+  const name = uri.path.split('/').pop() ?? '';
+  return node === undefined ? `Receptive field · ${name}` : `Node ${node} · ${name}`;
+}
+
+async function pickGraphFile(): Promise<vscode.Uri | undefined> {
+  const files = await vscode.workspace.findFiles(GRAPH_FILES, '**/{node_modules,.git}/**', 2000);
+  if (!files.length) { void vscode.window.showInformationMessage('No graph files (.npy, .npz, .safetensors, .pt, .mtx, edge lists) in this workspace.'); return undefined; }
+  const items = files
+    .map((f) => ({ label: vscode.workspace.asRelativePath(f), uri: f }))
+    .sort((a, b) => Number(BINARY_FIRST.test(b.label)) - Number(BINARY_FIRST.test(a.label)) || a.label.localeCompare(b.label));
+  const pick = await vscode.window.showQuickPick(items, { placeHolder: 'Graph file (its edge index or adjacency) for the receptive-field panel', matchOnDescription: true });
+  return pick?.uri;
+}
+
+/** Asks for the centre node; the prompt names the id range when the server already knows the file. */
+async function askNode(uri: vscode.Uri, client: LanguageClient | undefined): Promise<number | undefined> {
+  let range: { lo: number; hi: number } | undefined;
+  try {
+    const s = await client?.sendRequest<FileSummary>(FileSummaryRequest.method, { uri: uri.toString(), wait: false });
+    const g = s?.report?.graph;
+    if (g && g.nodes > 0) range = { lo: g.indexBase, hi: g.nodes - 1 + g.indexBase };
+  } catch {
+    /* no range in the prompt */
+  }
+  const text = await vscode.window.showInputBox({
+    title: `Receptive field in ${vscode.workspace.asRelativePath(uri)}`,
+    prompt: range ? `Centre node id (${range.lo}–${range.hi})` : 'Centre node id',
+    value: String(range?.lo ?? 0),
+    validateInput: (v) => {
+      if (!/^\s*\d+\s*$/.test(v)) return 'A node id is a whole number, 0 or more.';
+      const x = Number(v);
+      if (range && (x < range.lo || x > range.hi)) return `This graph's ids run from ${range.lo} to ${range.hi}.`;
+      return undefined;
+    },
+  });
+  return text === undefined ? undefined : Number(text.trim());
+}
+
+class FieldPanelHost {
+  private readonly subs: vscode.Disposable[] = [];
+  private pendingNode: number | undefined;
+
+  constructor(
+    private readonly panel: vscode.WebviewPanel,
+    private readonly uri: vscode.Uri,
+    node: number | undefined,
+    extensionUri: vscode.Uri,
+    private readonly client: ClientGetter,
+  ) {
+    this.pendingNode = node;
+    const webview = panel.webview;
+    webview.options = webviewOptions(extensionUri);
+    const res = (...p: string[]) => webview.asWebviewUri(vscode.Uri.joinPath(extensionUri, ...p)).toString();
+    webview.html = panelHtml({
+      cspSource: webview.cspSource, nonce: makeNonce(),
+      script: res('dist', 'webview', 'panel.js'), worker: res('dist', 'webview', 'panel-layout.js'), style: res('media', 'panel.css'),
+    });
+    panel.title = panelTitle(uri, node);
+    this.subs.push(webview.onDidReceiveMessage((m: PanelRequest) => { void this.handle(m); }));
+
+    // The graph may span sibling files (x.npy next to edge_index.npy): follow the whole folder.
+    const watcher = vscode.workspace.createFileSystemWatcher(new vscode.RelativePattern(vscode.Uri.joinPath(uri, '..'), '*'));
+    let timer: NodeJS.Timeout | undefined;
+    const changed = () => { clearTimeout(timer); timer = setTimeout(() => this.post({ type: 'changed' }), 500); };
+    this.subs.push(watcher, watcher.onDidChange(changed), watcher.onDidCreate(changed), watcher.onDidDelete(changed));
+    panel.onDidDispose(() => { clearTimeout(timer); this.subs.forEach((d) => d.dispose()); });
+  }
+
+  /** Brings the panel forward, centred on `node`. */
+  show(node: number): void {
+    if (this.panel.visible) {
+      this.post({ type: 'init', file: this.fileInfo(), node, maxNodes: maxDrawn(this.uri) });
+    } else {
+      // A hidden panel's page is reloaded on reveal and asks with 'ready'.
+      this.pendingNode = node;
+    }
+    this.panel.reveal();
+  }
+
+  private fileInfo() {
+    return { uri: this.uri.toString(), name: this.uri.path.split('/').pop() ?? '' };
+  }
+
+  private post(m: PanelMessage): void {
+    void this.panel.webview.postMessage(m);
+  }
+
+  private async handle(m: PanelRequest): Promise<void> {
+    const client = this.client();
+    const uri = this.uri.toString();
+    const seq = 'seq' in m ? m.seq : undefined;
+    try {
+      switch (m.type) {
+        case 'ready':
+          this.post({ type: 'init', file: this.fileInfo(), ...(this.pendingNode !== undefined ? { node: this.pendingNode } : {}), maxNodes: maxDrawn(this.uri) });
+          this.pendingNode = undefined;
+          return;
+        case 'exportSvg':
+          await this.save(new TextEncoder().encode(m.text), m.name, { 'SVG image': ['svg'] });
+          return;
+        case 'exportPng':
+          await this.save(asBytes(m.bytes), m.name, { 'PNG image': ['png'] });
+          return;
+      }
+      if (!client) { this.post({ type: 'error', ...(seq !== undefined ? { seq } : {}), message: 'The Hopscope language server is not running (see Hopscope: Show Log).' }); return; }
+      switch (m.type) {
+        case 'field': {
+          const view = await client.sendRequest<FieldViewPayload>(FieldViewRequest.method, { uri, ...m.query, maxNodes: maxDrawn(this.uri) });
+          this.panel.title = panelTitle(this.uri, view.node);
+          this.post({ type: 'field', seq: m.seq, view });
+          break;
+        }
+        case 'wl': {
+          const data = await client.sendRequest<WlClassesPayload>(WlClassesRequest.method, { uri, nodes: m.nodes });
+          this.post({ type: 'wl', seq: m.seq, data });
+          break;
+        }
+        case 'bottlenecks': {
+          const data = await client.sendRequest<BottlenecksPayload>(BottlenecksRequest.method, { uri, edges: m.edges });
+          this.post({ type: 'bottlenecks', seq: m.seq, data });
+          break;
+        }
+        case 'smoothing': {
+          try {
+            const data = await client.sendRequest<SmoothingPayload | null>(SmoothingRequest.method, { uri, steps: 8 });
+            this.post({ type: 'smoothing', data });
+          } catch (e) {
+            this.post({ type: 'smoothing', data: null, note: (e as Error).message });
+          }
+          break;
+        }
+      }
+    } catch (e) {
+      this.post({ type: 'error', ...(seq !== undefined ? { seq } : {}), message: (e as Error).message });
+    }
+  }
+
+  /** Asks where to save (the dialog itself confirms replacing a file) and writes there. */
+  private async save(bytes: Uint8Array, name: string, filters: Record<string, string[]>): Promise<void> {
+    const target = await vscode.window.showSaveDialog({
+      defaultUri: vscode.Uri.joinPath(this.uri, '..', name.replace(/[\\/]/g, '_')),
+      filters, saveLabel: 'Save', title: 'Save the receptive-field drawing',
+    });
+    if (!target) return;
+    await vscode.workspace.fs.writeFile(target, bytes);
+    this.post({ type: 'exported', path: vscode.workspace.asRelativePath(target) });
+  }
+}
+
+function maxDrawn(uri: vscode.Uri): number {
+  return vscode.workspace.getConfiguration('hopscope', uri).get<number>('panel.maxDrawnNodes', 2000);
+}
+
+/** Bytes posted by the webview arrive as a Uint8Array, or as a plain array / object of numbers from older hosts. */
+function asBytes(b: unknown): Uint8Array {
+  if (b instanceof Uint8Array) return b;
+  if (b instanceof ArrayBuffer) return new Uint8Array(b);
+  if (Array.isArray(b)) return Uint8Array.from(b as number[]);
+  if (b && typeof b === 'object') return Uint8Array.from(Object.values(b as Record<string, number>));
+  throw new Error('no image bytes received');
+}

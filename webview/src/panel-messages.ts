@@ -1,0 +1,60 @@
+/**
+ * Messages between the receptive-field panel webview (webview/src/panel.ts) and the extension host
+ * (extension/src/panel.ts). Both import this file, so each message is checked on both sides.
+ * The host relays requests to the language server; the webview draws what comes back.
+ */
+import type { BottlenecksPayload, FieldViewPayload, SmoothingPayload, WlClassesPayload } from '../../server/src/protocol';
+
+export type Flow = 'source-to-target' | 'target-to-source';
+export type ViewMode = 'hops' | 'wl' | 'bottlenecks';
+
+/** What the webview asks the server for (through the host). */
+export interface FieldQuery {
+  node: number;
+  layers: number;
+  /** Omitted: the file's own flow (manifest or setting). */
+  flow?: Flow;
+  symmetrise: boolean;
+  selfLoops: boolean;
+}
+
+/** Webview → extension host. `seq` ties an answer to its question; older answers are dropped. */
+export type PanelRequest =
+  | { type: 'ready' }
+  | { type: 'field'; seq: number; query: FieldQuery }
+  | { type: 'wl'; seq: number; nodes: number[] }
+  | { type: 'bottlenecks'; seq: number; edges: number[] }
+  | { type: 'smoothing' }
+  | { type: 'exportSvg'; text: string; name: string }
+  | { type: 'exportPng'; bytes: Uint8Array; name: string };
+
+/** Extension host → webview. */
+export type PanelMessage =
+  | { type: 'init'; file: { uri: string; name: string }; node?: number; maxNodes: number }
+  | { type: 'field'; seq: number; view: FieldViewPayload }
+  | { type: 'wl'; seq: number; data: WlClassesPayload }
+  | { type: 'bottlenecks'; seq: number; data: BottlenecksPayload }
+  /** `note`: why there is no curve (e.g. the feature matrix does not fit the graph). */
+  | { type: 'smoothing'; data: SmoothingPayload | null; note?: string }
+  | { type: 'error'; seq?: number; message: string }
+  /** The file changed on disk: ask again. */
+  | { type: 'changed' }
+  | { type: 'exported'; path: string };
+
+/** What survives hiding and reloading the panel (vscode.setState; the serializer gets it back). */
+export interface PanelState {
+  uri?: string;
+  name?: string;
+  node?: number;
+  layers?: number;
+  flow?: Flow;
+  symmetrise?: boolean;
+  selfLoops?: boolean;
+  mode?: ViewMode;
+  /** d3-zoom transform of the drawing. */
+  zoom?: { k: number; x: number; y: number };
+  /** Node id selected in the drawing. */
+  selected?: number;
+}
+
+export const PANEL_VIEW_TYPE = 'hopscope.fieldPanel';
