@@ -10,7 +10,7 @@ import { describe, expect, it } from 'vitest';
 import fc from 'fast-check';
 import { expected, fixture, fromPairs } from './structure-fixtures';
 import { findBridges } from '../../server/src/core/graph/bridges';
-import { CancelledError, undirectedFromEdges } from '../../server/src/core/graph/undirected';
+import { AnalysisCancelled, undirectedFromEdges } from '../../server/src/core/graph/undirected';
 
 const pairsOf = (b: { u: Int32Array; v: Int32Array }) => Array.from(b.u, (u, k) => [u, b.v[k]!]);
 
@@ -87,7 +87,7 @@ describe('bridges: structure and scale', () => {
     const n = 200_000;
     const src = new Int32Array(n - 1), dst = new Int32Array(n - 1);
     for (let i = 0; i < n - 1; i++) { src[i] = i; dst[i] = i + 1; }
-    expect(() => findBridges(undirectedFromEdges(n, src, dst), { cancel: { isCancellationRequested: true } })).toThrow(CancelledError);
+    expect(() => findBridges(undirectedFromEdges(n, src, dst), { cancel: { isCancellationRequested: true } })).toThrow(AnalysisCancelled);
   });
 
   it('property: every edge of a random tree is a bridge; adding a parallel copy removes it', () => {

@@ -14,7 +14,7 @@ import { describe, expect, it } from 'vitest';
 import fc from 'fast-check';
 import { expected, fixture, fromPairs } from './structure-fixtures';
 import { edgeCurvature, mostNegativeFirst, type EdgeCurvature } from '../../server/src/core/graph/curvature';
-import { CancelledError } from '../../server/src/core/graph/undirected';
+import { AnalysisCancelled } from '../../server/src/core/graph/undirected';
 
 const EPS = 12; // digits for toBeCloseTo: exact fractions up to float rounding
 
@@ -222,7 +222,7 @@ describe('ordering and options', () => {
     const c = edgeCurvature(g, { balanced: false });
     expect(Number.isNaN(c.balancedForman[0])).toBe(true);
     expect(Array.from(c.forman).reduce((s, x) => s + x, 0)).toBe(-900);
-    expect(() => edgeCurvature(g, { cancel: { isCancellationRequested: true } })).toThrow(CancelledError);
+    expect(() => edgeCurvature(g, { cancel: { isCancellationRequested: true } })).toThrow(AnalysisCancelled);
   });
 });
 

@@ -16,7 +16,7 @@ import { fixture, expected, fromPairs, partitionOf } from './structure-fixtures'
 import {
   colourGroups, compareGraphs, compareWl, isomorphic, refineWl, rowColours, sharedColourCount,
 } from '../../server/src/core/graph/wl';
-import { CancelledError, undirectedFromEdges, type UndirectedGraph } from '../../server/src/core/graph/undirected';
+import { AnalysisCancelled, undirectedFromEdges, type UndirectedGraph } from '../../server/src/core/graph/undirected';
 import { readEdgeIndexNpy, STRUCTURE_DIR } from './structure-fixtures';
 import * as fs from 'node:fs';
 import * as path from 'node:path';
@@ -138,7 +138,7 @@ describe('refinement details', () => {
   it('empty graph and cancellation', () => {
     expect(refineWl(fromPairs(0, []))).toMatchObject({ classesPerRound: [0], stableAfter: 0 });
     expect(refineWl(fromPairs(3, []))).toMatchObject({ classesPerRound: [1], stableAfter: 0 });
-    expect(() => refineWl(fixture('karate').g, { cancel: { isCancellationRequested: true } })).toThrow(CancelledError);
+    expect(() => refineWl(fixture('karate').g, { cancel: { isCancellationRequested: true } })).toThrow(AnalysisCancelled);
   });
 });
 

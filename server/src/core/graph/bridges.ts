@@ -8,7 +8,7 @@
  * entries; an edge whose multiplicity is 2 or more (stored twice in each direction) is a cycle of
  * its own and never a bridge.
  */
-import type { Cancellation, UndirectedGraph } from './undirected';
+import type { Cancel, UndirectedGraph } from './undirected';
 import { throwIfCancelled } from './undirected';
 
 export interface Bridges {
@@ -18,7 +18,7 @@ export interface Bridges {
   v: Int32Array;
 }
 
-export function findBridges(g: UndirectedGraph, options: { cancel?: Cancellation } = {}): Bridges {
+export function findBridges(g: UndirectedGraph, options: { cancel?: Cancel } = {}): Bridges {
   const { n, indptr, indices, mult } = g;
   const disc = new Int32Array(n).fill(-1);
   const low = new Int32Array(n);

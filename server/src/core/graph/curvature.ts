@@ -19,7 +19,7 @@
  * end, either scan k's row against the marks or binary-search the other end's candidates in it.
  * One edge costs O(d_i + d_j + Σ_k min(d_k, d · log d_k)); heavy around hubs, hence cancellable.
  */
-import type { Cancellation, UndirectedGraph } from './undirected';
+import type { Cancel, UndirectedGraph } from './undirected';
 import { throwIfCancelled } from './undirected';
 import { lowerBound } from './csr';
 
@@ -42,7 +42,7 @@ export interface EdgeCurvature {
 export interface CurvatureOptions {
   /** Compute balanced Forman curvature (the costly part); default true. */
   balanced?: boolean;
-  cancel?: Cancellation;
+  cancel?: Cancel;
 }
 
 export function edgeCurvature(g: UndirectedGraph, options: CurvatureOptions = {}): EdgeCurvature {

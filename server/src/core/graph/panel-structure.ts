@@ -15,7 +15,7 @@
  * neighbourhood of the drawing.
  */
 import { lowerBound } from './csr';
-import { undirectedView, type Cancellation, type UndirectedGraph } from './undirected';
+import { undirectedView, type Cancel, type UndirectedGraph } from './undirected';
 import { colourGroups, refineWl, type WlResult } from './wl';
 import { findBridges, type Bridges } from './bridges';
 import { edgeCurvature } from './curvature';
@@ -69,7 +69,7 @@ export class StructureAnalyzer {
   }
 
   /** 1-WL refinement of the whole graph (computed once). */
-  wl(cancel?: Cancellation): WlResult {
+  wl(cancel?: Cancel): WlResult {
     if (!this.wlResult) {
       this.wlResult = refineWl(this.undirected(), cancel ? { cancel } : {});
       const c = this.wlResult.colours;
@@ -82,7 +82,7 @@ export class StructureAnalyzer {
     return this.wlResult;
   }
 
-  wlFor(nodes: ArrayLike<number>, cancel?: Cancellation): WlForNodes {
+  wlFor(nodes: ArrayLike<number>, cancel?: Cancel): WlForNodes {
     const r = this.wl(cancel);
     const size = this.classSize!;
     const m = nodes.length;
@@ -115,7 +115,7 @@ export class StructureAnalyzer {
   }
 
   /** Bridges of the whole graph (computed once). */
-  bridges(cancel?: Cancellation): Bridges {
+  bridges(cancel?: Cancel): Bridges {
     if (!this.bridgeList) {
       this.bridgeList = findBridges(this.undirected(), cancel ? { cancel } : {});
       const keys = new Set<number>();
@@ -126,7 +126,7 @@ export class StructureAnalyzer {
   }
 
   /** Curvature and bridge flag of each pair (pairs[2k], pairs[2k+1]), node ids 0..n-1. */
-  curvatureFor(pairs: ArrayLike<number>, cancel?: Cancellation): CurvatureForEdges {
+  curvatureFor(pairs: ArrayLike<number>, cancel?: Cancel): CurvatureForEdges {
     const g = this.undirected();
     const n = g.n;
     this.bridges(cancel);

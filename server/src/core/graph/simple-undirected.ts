@@ -5,22 +5,9 @@
  */
 import type { Csr } from './csr';
 
-/** Anything with the shape of a VS Code / LSP cancellation token. */
-export interface Cancel {
-  readonly isCancellationRequested: boolean;
-}
+import { throwIfCancelled, type Cancel } from '../cancel';
 
-/** Thrown by an analysis when its `cancel` token was set between two chunks of work. */
-export class AnalysisCancelled extends Error {
-  override readonly name = 'AnalysisCancelled';
-  constructor() {
-    super('analysis cancelled');
-  }
-}
-
-export function throwIfCancelled(cancel: Cancel | undefined): void {
-  if (cancel?.isCancellationRequested) throw new AnalysisCancelled();
-}
+export { AnalysisCancelled, throwIfCancelled, type Cancel } from '../cancel';
 
 /** Rows (nodes) handled between two looks at the cancellation token. */
 const ROW_CHUNK = 1 << 15;

@@ -13,29 +13,14 @@
  */
 import { buildSortedPair, type Csr } from './csr';
 
+export { AnalysisCancelled, throwIfCancelled, type Cancel } from '../cancel';
+
 export interface UndirectedGraph extends Csr {
   /** Row u: the neighbours of u, sorted ascending, no repeats, never u itself. */
   readonly indptr: Int32Array;
   readonly indices: Int32Array;
   /** Multiplicity of each adjacency entry (aligned with `indices`). */
   readonly mult: Int32Array;
-}
-
-/** Optional cooperative cancellation, checked between chunks of work. */
-export interface Cancellation {
-  isCancellationRequested: boolean;
-}
-
-export class CancelledError extends Error {
-  override readonly name = 'CancelledError';
-  constructor() {
-    super('cancelled');
-  }
-}
-
-/** Throws CancelledError when the token asks for it. */
-export function throwIfCancelled(cancel: Cancellation | undefined): void {
-  if (cancel?.isCancellationRequested) throw new CancelledError();
 }
 
 /**

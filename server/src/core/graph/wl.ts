@@ -20,7 +20,7 @@
  */
 import {
   disjointUnion, throwIfCancelled, undirectedEdgeCount,
-  type Cancellation, type UndirectedGraph,
+  type Cancel, type UndirectedGraph,
 } from './undirected';
 import { lowerBound } from './csr';
 
@@ -229,7 +229,7 @@ export interface WlOptions {
   maxRounds?: number;
   /** Start colours (dense ids 0..k-1, e.g. from `rowColours`); default: one colour for all. */
   initial?: Int32Array;
-  cancel?: Cancellation;
+  cancel?: Cancel;
 }
 
 export interface WlResult {
@@ -395,7 +395,7 @@ export interface IsomorphismOptions {
   maxNodes?: number;
   /** Most individualise-and-refine steps (default 20000). */
   budget?: number;
-  cancel?: Cancellation;
+  cancel?: Cancel;
 }
 
 /**
