@@ -15,43 +15,20 @@ export interface PanelPageParts {
   worker: string;
 }
 
-const escapeAttribute = (s: string) => s.replace(/&/g, '&amp;').replace(/"/g, '&quot;').replace(/</g, '&lt;').replace(/>/g, '&gt;');
+import { makeNonce, pageCsp, webviewPage } from './webview-page';
+
+export { makeNonce };
+
+const WORKER_CSP = (cspSource: string) => [`connect-src ${cspSource}`, 'worker-src blob:'];
 
 export function panelCsp(p: Pick<PanelPageParts, 'cspSource' | 'nonce'>): string {
-  return [
-    "default-src 'none'",
-    `style-src ${p.cspSource}`,
-    `img-src ${p.cspSource} data:`,
-    `font-src ${p.cspSource}`,
-    `script-src 'nonce-${p.nonce}'`,
-    `connect-src ${p.cspSource}`,
-    'worker-src blob:',
-  ].join('; ');
+  return pageCsp({ ...p, extraCsp: WORKER_CSP(p.cspSource) });
 }
 
 export function panelHtml(p: PanelPageParts): string {
-  return `<!DOCTYPE html>
-<html lang="en">
-<head>
-<meta charset="UTF-8">
-<meta http-equiv="Content-Security-Policy" content="${escapeAttribute(panelCsp(p))}">
-<meta name="viewport" content="width=device-width, initial-scale=1.0">
-<meta id="hopscope-panel-config" data-layout-worker="${escapeAttribute(p.worker)}">
-<link rel="stylesheet" href="${escapeAttribute(p.style)}">
-<title>Receptive field</title>
-</head>
-<body>
-<main id="app"></main>
-<script nonce="${escapeAttribute(p.nonce)}" src="${escapeAttribute(p.script)}"></script>
-</body>
-</html>`;
-}
-
-export function makeNonce(): string {
-  const chars = 'ABCDEFGHIJKLMNOPQRSTUVWXYZabcdefghijklmnopqrstuvwxyz0123456789';
-  let s = '';
-  const bytes = new Uint8Array(32);
-  globalThis.crypto.getRandomValues(bytes);
-  for (const b of bytes) s += chars.charAt(b % chars.length);
-  return s;
+  return webviewPage({
+    cspSource: p.cspSource, nonce: p.nonce, script: p.script, style: p.style, title: 'Receptive field',
+    extraCsp: WORKER_CSP(p.cspSource),
+    config: { id: 'hopscope-panel-config', data: { 'layout-worker': p.worker } },
+  });
 }

@@ -9,6 +9,7 @@ import {
   type FileSummary, type TensorPage, type TensorStats,
 } from '../../server/src/protocol';
 import type { ViewerMessage, ViewerRequest } from '../../webview/src/messages';
+import { makeNonce, webviewPage } from './webview-page';
 
 export const VIEW_TYPE = 'hopscope.tensorViewer';
 
@@ -96,35 +97,11 @@ export class TensorViewerProvider implements vscode.CustomReadonlyEditorProvider
 }
 
 function viewerHtml(webview: vscode.Webview, extensionUri: vscode.Uri): string {
-  const nonce = makeNonce();
-  const script = webview.asWebviewUri(vscode.Uri.joinPath(extensionUri, 'dist', 'webview', 'viewer.js'));
-  const style = webview.asWebviewUri(vscode.Uri.joinPath(extensionUri, 'media', 'viewer.css'));
-  const csp = [
-    "default-src 'none'",
-    `style-src ${webview.cspSource}`,
-    `img-src ${webview.cspSource}`,
-    `font-src ${webview.cspSource}`,
-    `script-src 'nonce-${nonce}'`,
-  ].join('; ');
-  return `<!DOCTYPE html>
-<html lang="en">
-<head>
-<meta charset="UTF-8">
-<meta http-equiv="Content-Security-Policy" content="${csp}">
-<meta name="viewport" content="width=device-width, initial-scale=1.0">
-<link rel="stylesheet" href="${style}">
-<title>Tensor viewer</title>
-</head>
-<body>
-<main id="app"></main>
-<script nonce="${nonce}" src="${script}"></script>
-</body>
-</html>`;
-}
-
-function makeNonce(): string {
-  const chars = 'ABCDEFGHIJKLMNOPQRSTUVWXYZabcdefghijklmnopqrstuvwxyz0123456789';
-  let s = '';
-  for (let i = 0; i < 32; i++) s += chars.charAt(Math.floor(Math.random() * chars.length));
-  return s;
+  return webviewPage({
+    cspSource: webview.cspSource,
+    nonce: makeNonce(),
+    script: webview.asWebviewUri(vscode.Uri.joinPath(extensionUri, 'dist', 'webview', 'viewer.js')).toString(),
+    style: webview.asWebviewUri(vscode.Uri.joinPath(extensionUri, 'media', 'viewer.css')).toString(),
+    title: 'Tensor viewer',
+  });
 }
