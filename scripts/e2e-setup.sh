@@ -62,4 +62,4 @@ if [ "$have" != "$CODE_SERVER_VERSION" ]; then
     exit 1
   fi
 fi
-echo "== e2e setup: chromium $(/usr/bin/chromium --version 2>/dev/null | awk '{print $2}'), code-server $have, $("$NODE24_BIN/node" --version) in .cache/e2e/cs"
+echo "== e2e setup: chromium $(/usr/bin/chromium --version 2>/dev/null | awk '{print $2}'), code-server $have, $("$NODE24_BIN/node" --version) in .cache/e2e/cs (${SECONDS} s)"

@@ -1,6 +1,7 @@
-// Fixtures for the end-to-end tests: one code-server per Playwright worker with the packaged .vsix
-// installed (fresh temp folders), and per test a fresh copy of demo/ opened in a fresh browser
-// context. On failure the extension host log and Hopscope's output channel are attached and printed.
+// Fixtures for the end-to-end tests: per Playwright worker, one code-server with the packaged .vsix
+// installed (fresh temp folders) and one workbench on a fresh copy of demo/; each test starts with
+// no editor open. On failure the extension host log and Hopscope's output channel are attached and
+// printed (Playwright adds the screenshot and trace).
 import { test as base, expect, type Locator, type Page } from '@playwright/test';
 import { existsSync, mkdirSync, mkdtempSync, readFileSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
@@ -111,8 +112,6 @@ export class Workbench {
   }
 }
 
-let current: Workbench | undefined;
-
 export const test = base.extend<{ workbench: Workbench; failureLogs: void }, { server: Server; sharedWorkbench: Workbench }>({
   server: [async ({}, use) => {
     if (!codeServerInstalled()) throw new Error('code-server is missing: run `bash scripts/e2e-setup.sh` first');
@@ -140,9 +139,7 @@ export const test = base.extend<{ workbench: Workbench; failureLogs: void }, { s
     await page.locator('.explorer-folders-view .monaco-list-row', { hasText: 'lanes' }).first().waitFor({ timeout: 90_000 });
     const dialog = page.locator('.monaco-dialog-box');
     if (await dialog.isVisible()) await page.keyboard.press('Escape');
-    current = new Workbench(page, folder);
-    await use(current);
-    current = undefined;
+    await use(new Workbench(page, folder));
     await context.close();
   }, { scope: 'worker', timeout: 120_000 }],
 
@@ -157,8 +154,6 @@ export const test = base.extend<{ workbench: Workbench; failureLogs: void }, { s
   failureLogs: [async ({ server }, use, testInfo) => {
     await use();
     if (testInfo.status === testInfo.expectedStatus) return;
-    const shot = await current?.page.screenshot().catch(() => undefined);
-    if (shot) await testInfo.attach('workbench.png', { body: shot, contentType: 'image/png' });
     for (const f of [...extensionHostLogs(server.profile), server.profile.log]) {
       if (!existsSync(f)) continue;
       const text = readFileSync(f, 'utf8');

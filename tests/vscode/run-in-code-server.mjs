@@ -16,6 +16,7 @@ import {
 import { buildSuite } from './build.mjs';
 
 const TIMEOUT_MS = 300_000;
+const REPORT_MARK = '\u200b'; // see tests/vscode/suite/index.ts
 
 if (!codeServerInstalled()) {
   console.error('code-server is missing: run `bash scripts/e2e-setup.sh` first');
@@ -38,11 +39,13 @@ try {
   cs = await startCodeServer(profile, { extraArgs: ['--vscode-option', 'enable-smoke-test-driver'] });
   browser = await chromium.launch({ executablePath: CHROMIUM, args: CHROMIUM_ARGS });
   const page = await browser.newPage();
-  // The workbench forwards its log and the extension host's console here; keep the test output and
-  // errors, drop the workbench's routine chatter.
+  // The workbench forwards its log and the extension host's console here: print the test report
+  // (its lines start with the suite's marker) and errors, not the workbench's routine chatter.
   await page.exposeFunction('codeAutomationLog', (level, args) => {
     const line = format(...(Array.isArray(args) ? args : [args]));
-    if (/^\s*(✔|✓|\d+\) |\d+ passing|\d+ failing|\d+ pending|Error|AssertionError|at |Hopscope|- |\+ |\s*expected|\s*actual)/.test(line) || level >= 4) console.log(line);
+    const at = line.indexOf(REPORT_MARK);
+    if (at >= 0) console.log(line.slice(at + REPORT_MARK.length));
+    else if (level >= 5) console.log(line); // errors
   });
   const exited = new Promise((resolve) => { void page.exposeFunction('codeAutomationExit', (c) => resolve(c)); });
   const payload = [
