@@ -31,7 +31,8 @@ if [ ${#need[@]} -gt 0 ]; then
   sudo=()
   [ "$(id -u)" -eq 0 ] || sudo=(sudo)
   "${sudo[@]}" apt-get update -qq
-  "${sudo[@]}" apt-get install -y -qq --no-install-recommends "${need[@]}"
+  # With recommended packages, as verified (fonts for the workbench, among others).
+  "${sudo[@]}" apt-get install -y -qq "${need[@]}"
 fi
 
 installed_version() {
