@@ -14,18 +14,6 @@ async function problemsMatching(wb: Workbench, text: string) {
   return page.locator('.markers-panel .monaco-list-row');
 }
 
-/** Boxes of the squiggles of one kind drawn on a 1-based line of the active editor. */
-async function squiggles(wb: Workbench, line: number, kind: 'error' | 'warning' | 'info') {
-  return await wb.page.locator('.part.editor .editor-group-container.active .monaco-editor').first().evaluate((ed, [n, k]) => {
-    const margin = [...ed.querySelectorAll<HTMLElement>('.margin-view-overlays > div')]
-      .find((d) => d.querySelector('.line-numbers')?.textContent?.trim() === String(n));
-    if (!margin) return [];
-    return [...ed.querySelectorAll<HTMLElement>(`.squiggly-${k}`)]
-      .filter((s) => s.parentElement?.style.top === margin.style.top)
-      .map((s) => { const r = s.getBoundingClientRect(); return { x: r.left, y: r.top, width: r.width, height: r.height }; });
-  }, [line, kind] as const);
-}
-
 test.describe('workspace', () => {
   // First in the file: no test has opened anything yet in this worker's workbench.
   test('the start-up scan reports files that were never opened (truncated archive: unreadable)', async ({ workbench: wb }) => {
@@ -94,8 +82,8 @@ test.describe('lanes/lanes.csv in the editor', () => {
     await wb.page.locator('.monaco-editor .squiggly-error').first().waitFor({ timeout: 60_000 });
     await wb.goToLine(32);
     expect(await wb.lineText(32)).toBe('5,48,61');
-    await expect.poll(() => squiggles(wb, 32, 'error').then((s) => s.length)).toBe(1);
-    const [sq] = await squiggles(wb, 32, 'error');
+    await expect.poll(() => wb.squiggles(32, 'error').then((s) => s.length)).toBe(1);
+    const [sq] = await wb.squiggles(32, 'error');
     const value = await wb.columnBox(32, 3, 5); // "48" is columns 3-4
     expect(Math.abs(sq.x - value.x)).toBeLessThan(2);
     expect(Math.abs(sq.width - value.width)).toBeLessThan(2);

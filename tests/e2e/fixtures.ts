@@ -19,6 +19,7 @@ const pkg = JSON.parse(readFileSync(join(ROOT, 'package.json'), 'utf8')) as { pu
 export const EXTENSION_ID = `${pkg.publisher}.${pkg.name}`;
 
 interface Server { cs: CodeServer; profile: Profile }
+export interface Box { x: number; y: number; width: number; height: number }
 
 /** The editor area of the active editor group. */
 function activeEditor(page: Page): Locator {
@@ -67,36 +68,51 @@ export class Workbench {
     await input.waitFor({ state: 'hidden' });
   }
 
-  /** Text of a rendered line, with the editor's non-breaking spaces made plain. */
+  /**
+   * `top` of a rendered 1-based line of the active editor: line numbers, text and decorations are
+   * separate layers whose rows share it. Undefined when the line is not rendered.
+   */
+  private async lineTop(line: number): Promise<string | undefined> {
+    return await activeEditor(this.page).evaluate((ed, n) => [...ed.querySelectorAll<HTMLElement>('.margin-view-overlays > div')]
+      .find((d) => d.querySelector('.line-numbers')?.textContent?.trim() === String(n))?.style.top, line);
+  }
+
+  /** Text of a rendered line ('' when not rendered), with the editor's non-breaking spaces made plain. */
   async lineText(line: number): Promise<string> {
-    const page = this.page;
-    return await activeEditor(page).evaluate((ed, n) => {
-      const margin = [...ed.querySelectorAll<HTMLElement>('.margin-view-overlays > div')]
-        .find((d) => d.querySelector('.line-numbers')?.textContent?.trim() === String(n));
-      if (!margin) return '';
-      const row = [...ed.querySelectorAll<HTMLElement>('.view-lines .view-line')].find((v) => v.style.top === margin.style.top);
+    const top = await this.lineTop(line);
+    if (top === undefined) return '';
+    return await activeEditor(this.page).evaluate((ed, t) => {
+      const row = [...ed.querySelectorAll<HTMLElement>('.view-lines .view-line')].find((v) => v.style.top === t);
       return (row?.textContent ?? '').replace(/\u00a0/g, ' ');
-    }, line);
+    }, top);
   }
 
   /** Screen box of columns [start, end) (1-based) of a rendered line, from the monospace advance. */
-  async columnBox(line: number, start: number, end: number): Promise<{ x: number; y: number; width: number; height: number }> {
-    const box = await activeEditor(this.page).evaluate((ed, n) => {
-      const margin = [...ed.querySelectorAll<HTMLElement>('.margin-view-overlays > div')]
-        .find((d) => d.querySelector('.line-numbers')?.textContent?.trim() === String(n));
-      const row = margin && [...ed.querySelectorAll<HTMLElement>('.view-lines .view-line')].find((v) => v.style.top === margin.style.top);
-      const span = row?.firstElementChild as HTMLElement | null | undefined;
-      if (!row || !span) return null;
+  async columnBox(line: number, start: number, end: number): Promise<Box> {
+    const top = await this.lineTop(line);
+    const box = top === undefined ? null : await activeEditor(this.page).evaluate((ed, t) => {
+      const row = [...ed.querySelectorAll<HTMLElement>('.view-lines .view-line')].find((v) => v.style.top === t);
+      const span = row?.firstElementChild;
+      if (!span) return null;
       const r = span.getBoundingClientRect();
-      const chars = (span.textContent ?? '').length;
-      return { left: r.left, top: r.top, height: r.height, advance: r.width / Math.max(chars, 1) };
-    }, line);
+      return { left: r.left, top: r.top, height: r.height, advance: r.width / Math.max((span.textContent ?? '').length, 1) };
+    }, top);
     if (!box) throw new Error(`line ${line} is not rendered`);
     return { x: box.left + (start - 1) * box.advance, y: box.top, width: (end - start) * box.advance, height: box.height };
   }
 
+  /** Screen boxes of the squiggles of one severity drawn on a rendered line. */
+  async squiggles(line: number, kind: 'error' | 'warning' | 'info'): Promise<Box[]> {
+    const top = await this.lineTop(line);
+    if (top === undefined) return [];
+    return await activeEditor(this.page).evaluate((ed, [t, k]) => [...ed.querySelectorAll<HTMLElement>(`.squiggly-${k}`)]
+      .filter((s) => s.parentElement?.style.top === t)
+      .map((s) => { const r = s.getBoundingClientRect(); return { x: r.left, y: r.top, width: r.width, height: r.height }; }),
+    [top, kind] as const);
+  }
+
   /** Hovers the mouse over a box and returns the hover widget that contains `text`. */
-  async hoverAt(box: { x: number; y: number; width: number; height: number }, text: string | RegExp): Promise<Locator> {
+  async hoverAt(box: Box, text: string | RegExp): Promise<Locator> {
     const page = this.page;
     await page.mouse.move(box.x + box.width / 2 + 20, box.y - 30);
     await page.mouse.move(box.x + box.width / 2, box.y + box.height / 2, { steps: 4 });
