@@ -53,68 +53,72 @@ export function transpose(g: Csr, out?: Int32Array): Csr {
 /**
  * Forward and reverse CSR, both with sorted rows, from an edge list.
  *
- * Least-significant-digit radix sort over (source, target) pairs with 2^ceil(log2(N)/2) buckets per
- * pass (1,024 for a million nodes): every pass streams through the arrays and writes into a few thousand sequential runs, so
- * it stays cache-friendly on graphs far larger than the cache (a plain counting sort into N
- * buckets costs one cache miss per edge per pass once N is large; measured 2x slower at
- * E = 10M, N = 1M). Six streaming passes for N > 2^11 (three below).
- * Memory: four Int32Arrays of length E while sorting, two of them kept.
+ * A plain counting sort into N buckets costs a cache miss per edge once N is large. Instead the
+ * edges are bucketed by node with a least-significant-digit radix sort of at most 2^11 buckets per
+ * pass (every pass streams, writing (key, payload) pairs side by side into a few thousand runs),
+ * then each forward row is sorted in place (rows are short and in cache). The reverse graph is a
+ * stable radix sort of the sorted forward entries by target, so its rows come out sorted too.
+ * Measured at E = 10M, N = 1M on 2 cores: about 2 s against 4 s for three counting-sort passes.
+ * Memory: one interleaved buffer of 2E int32 while sorting, plus the two index arrays kept.
  */
 export function buildSortedPair(n: number, src: Int32Array, dst: Int32Array): { fwd: Csr; rev: Csr } {
   const e = src.length;
   const bits = Math.max(1, 32 - Math.clz32(Math.max(1, n - 1)));
-  // One digit up to 2^11 nodes, else two (up to 2^16 buckets each: ids are below 2^31). With two
-  // digits the reverse sort below has the spare buffers it needs while the forward rows stay.
-  const digits = bits <= 11 ? 1 : 2;
-  const width = Math.ceil(bits / digits);
-  const count = new Int32Array(1 << width);
+  // One digit up to 2^11 nodes, else two (ids are below 2^31, so at most 2^16 buckets).
+  const width = bits <= 11 ? bits : Math.ceil(bits / 2);
   const mask = (1 << width) - 1;
-  const buf = [new Int32Array(e), new Int32Array(e), new Int32Array(e), new Int32Array(e)];
-  /** One stable pass: (inK, inP) reordered by digit `shift` of the key into (outK, outP); keys dropped when outK is null. */
-  const pass = (inK: Int32Array, inP: Int32Array, outK: Int32Array | null, outP: Int32Array, shift: number) => {
+  const count = new Int32Array(1 << width);
+  const pairs = bits <= 11 ? null : new Int32Array(2 * e);
+  const fwdIndices = new Int32Array(e);
+  const revIndices = new Int32Array(e);
+
+  /**
+   * Stable sort of the pairs (keys[k], payload[k]) by key; writes the payloads in key order to
+   * `out` and the sorted keys to `keysOut`. Two digits go through the interleaved `pairs` buffer.
+   */
+  const sortPayloads = (keys: Int32Array, payload: Int32Array, out: Int32Array, keysOut: Int32Array) => {
     count.fill(0);
-    for (let k = 0; k < e; k++) count[(inK[k]! >>> shift) & mask]!++;
-    let s = 0;
-    for (let i = 0; i < count.length; i++) { const c = count[i]!; count[i] = s; s += c; }
-    if (outK) {
-      for (let k = 0; k < e; k++) {
-        const key = inK[k]!;
-        const p = count[(key >>> shift) & mask]!++;
-        outK[p] = key;
-        outP[p] = inP[k]!;
-      }
-    } else {
-      for (let k = 0; k < e; k++) outP[count[(inK[k]! >>> shift) & mask]!++] = inP[k]!;
+    for (let k = 0; k < e; k++) count[keys[k]! & mask]!++;
+    let sum = 0;
+    for (let i = 0; i < count.length; i++) { const c = count[i]!; count[i] = sum; sum += c; }
+    if (!pairs) {
+      for (let k = 0; k < e; k++) { const key = keys[k]!; const p = count[key & mask]!++; out[p] = payload[k]!; keysOut[p] = key; }
+      return;
+    }
+    for (let k = 0; k < e; k++) {
+      const key = keys[k]!;
+      const p = count[key & mask]!++ << 1;
+      pairs[p] = key;
+      pairs[p + 1] = payload[k]!;
+    }
+    count.fill(0);
+    for (let k = 0; k < e; k++) count[pairs[k << 1]! >>> width]!++;
+    sum = 0;
+    for (let i = 0; i < count.length; i++) { const c = count[i]!; count[i] = sum; sum += c; }
+    for (let k = 0; k < e; k++) {
+      const key = pairs[k << 1]!;
+      const p = count[key >>> width]!++;
+      out[p] = pairs[(k << 1) + 1]!;
+      keysOut[p] = key;
     }
   };
-  /** Stable sort of (keys, payload) by key, using the buffers not in `busy`. */
-  const sortBy = (keys: Int32Array, payload: Int32Array, busy: Int32Array[], keepKeys: boolean): [Int32Array | null, Int32Array] => {
-    let inK = keys, inP = payload;
-    for (let d = 0; d < digits; d++) {
-      const last = d === digits - 1;
-      const spare = buf.filter((b) => b !== inK && b !== inP && !busy.includes(b));
-      const outK = last && !keepKeys ? null : spare[0]!;
-      const outP = last && !keepKeys ? spare[0]! : spare[1]!;
-      pass(inK, inP, outK, outP, d * width);
-      if (!outK) return [null, outP];
-      inK = outK; inP = outP;
-    }
-    return [inK, inP];
-  };
-  // Sort by target, then stably by source: rows in source order, targets ascending in each row.
-  const [byTarget, srcByTarget] = sortBy(dst, src, [], true) as [Int32Array, Int32Array];
-  const [fu, fv] = sortBy(srcByTarget, byTarget, [], true) as [Int32Array, Int32Array];
-  const fwd: Csr = { n, indptr: rowPointers(n, fu), indices: fv };
-  // Reverse: (target, source) pairs in forward order, stably sorted by target. The forward
-  // indices stay untouched; the target counts give the row pointers.
-  const [, rp] = sortBy(fv, fu, [fv], false);
-  const indptr = new Int32Array(n + 1);
-  for (let k = 0; k < e; k++) indptr[dst[k]! + 1]!++;
-  for (let i = 0; i < n; i++) indptr[i + 1]! += indptr[i]!;
-  return { fwd, rev: { n, indptr, indices: rp } };
+
+  // Forward: targets bucketed by source (file order within a row), then each row sorted. The
+  // sorted sources land in revIndices for now (free until the reverse sort).
+  sortPayloads(src, dst, fwdIndices, revIndices);
+  const fptr = rowPointers(n, revIndices);
+  sortRows(fptr, fwdIndices);
+  // Reverse: the forward entries (source ascending) stably bucketed by target; the sorted targets
+  // overwrite the expanded sources once those have been read.
+  const fsrc = expandRows(n, fptr);
+  // With one digit the payloads are read in the same pass that writes keys: keep them apart.
+  const revKeys = pairs ? fsrc : new Int32Array(e);
+  sortPayloads(fwdIndices, fsrc, revIndices, revKeys);
+  const rptr = rowPointers(n, revKeys);
+  return { fwd: { n, indptr: fptr, indices: fwdIndices }, rev: { n, indptr: rptr, indices: revIndices } };
 }
 
-/** Row pointers (length n + 1) from row ids sorted ascending: one sequential pass. */
+/** Row pointers (length n + 1) from the row id of every entry, sorted ascending: one sequential pass. */
 function rowPointers(n: number, sortedRows: Int32Array): Int32Array {
   const indptr = new Int32Array(n + 1);
   const e = sortedRows.length;
@@ -125,6 +129,32 @@ function rowPointers(n: number, sortedRows: Int32Array): Int32Array {
   }
   indptr[n] = e;
   return indptr;
+}
+
+/** The row id of every entry of a CSR (sequential writes). */
+function expandRows(n: number, indptr: Int32Array): Int32Array {
+  const out = new Int32Array(indptr[n]!);
+  for (let u = 0; u < n; u++) out.fill(u, indptr[u]!, indptr[u + 1]!);
+  return out;
+}
+
+/** Sorts every row ascending in place: insertion sort for short rows, typed-array sort otherwise. */
+function sortRows(indptr: Int32Array, indices: Int32Array): void {
+  const n = indptr.length - 1;
+  for (let u = 0; u < n; u++) {
+    const a = indptr[u]!, b = indptr[u + 1]!;
+    if (b - a < 2) continue;
+    if (b - a <= 32) {
+      for (let i = a + 1; i < b; i++) {
+        const x = indices[i]!;
+        let j = i - 1;
+        while (j >= a && indices[j]! > x) { indices[j + 1] = indices[j]!; j--; }
+        indices[j + 1] = x;
+      }
+    } else {
+      indices.subarray(a, b).sort();
+    }
+  }
 }
 
 /** Lower bound of `v` in the sorted slice indices[lo, hi). */
