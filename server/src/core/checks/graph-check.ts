@@ -225,7 +225,7 @@ export function checkGraph(parts: GraphPart[], opts: GraphOptions = {}): GraphCh
       : `Node ids must lie in ${indexBase}..${n - 1 + indexBase}.`;
     report(sp, 'index-out-of-range',
       `${outOfRange} edge entr${outOfRange === 1 ? 'y refers' : 'ies refer'} to nodes that do not exist: ${ex}. ${hint} ` +
-      `Out-of-range entries are left out of the figures below; gather/scatter on them fails or reads another node's row.`,
+      `Those entries are left out of the graph figures; gather/scatter on them fails or reads another node's row.`,
       outOfRange, locs);
   }
 
@@ -393,8 +393,9 @@ function edgesFromIndex(part: GraphPart, report: Reporter): EdgeSource | undefin
       }
       const i = flat(k, side);
       const sp = spanOf(t, i);
-      return { tensor: t.name, index: i, ...(sp ? { line: sp.line, column: sp.column, length: sp.length } : {}),
-        detail: transposed ? `${t.name}[${k}, ${side}]` : `${t.name}[${side}, ${k}]` };
+      // In a text file the line says where; name the column's meaning instead of a tensor index.
+      if (sp) return { tensor: t.name, index: i, line: sp.line, column: sp.column, length: sp.length, detail: side === 0 ? 'source' : 'target' };
+      return { tensor: t.name, index: i, detail: transposed ? `${t.name}[${k}, ${side}]` : `${t.name}[${side}, ${k}]` };
     },
   };
   if (nonInteger > 0) {
