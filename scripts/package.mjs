@@ -6,10 +6,10 @@
 // takes half a minute. Runs without prompts: no repository field is needed, and README links stay
 // relative (the extension details page resolves them inside the installed extension, which ships media/).
 import { spawnSync } from 'node:child_process';
-import { cpSync, existsSync, mkdirSync, mkdtempSync, readFileSync, rmSync, statSync } from 'node:fs';
+import { cpSync, existsSync, mkdirSync, mkdtempSync, readFileSync, renameSync, rmSync, statSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { createRequire } from 'node:module';
-import { dirname, join, resolve } from 'node:path';
+import { basename, dirname, join, resolve } from 'node:path';
 import { fileURLToPath } from 'node:url';
 
 const root = join(dirname(fileURLToPath(import.meta.url)), '..');
@@ -32,9 +32,12 @@ try {
   for (const entry of new Set(['package.json', ...files.map((f) => f.split('/')[0])])) {
     if (existsSync(join(root, entry))) cpSync(join(root, entry), join(stage, entry), { recursive: true });
   }
-  // --allow-unused-files-pattern: media/ may be empty.
+  // Written under another name, then renamed: a test installing the previous package meanwhile never
+  // reads a half-written file. --allow-unused-files-pattern: media/ may be empty.
+  const partial = join(dirname(out), `.${basename(out, '.vsix')}-${process.pid}.vsix`);
   run([vsce, 'package', '--no-dependencies', '--allow-missing-repository', '--no-rewrite-relative-links',
-    '--allow-unused-files-pattern', '--out', out], stage);
+    '--allow-unused-files-pattern', '--out', partial], stage);
+  renameSync(partial, out);
 } finally {
   rmSync(stage, { recursive: true, force: true });
 }
