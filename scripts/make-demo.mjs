@@ -1,7 +1,7 @@
 // Writes the demo workspace demo/: the (fictional) Larkhaven bike-dock network, with files that are
 // broken on purpose so that every Hopscope problem code shows up. Deterministic; run it with
 // `node scripts/make-demo.mjs` and commit the output. All data here is invented.
-import { mkdirSync, writeFileSync, rmSync } from 'node:fs';
+import { mkdirSync, readdirSync, writeFileSync, rmSync } from 'node:fs';
 import { join } from 'node:path';
 import { deflateRawSync } from 'node:zlib';
 
@@ -56,8 +56,9 @@ function npz(members, compress = false) {
 
 const write = (rel, content) => { mkdirSync(join(root, rel, '..'), { recursive: true }); writeFileSync(join(root, rel), content); };
 
-rmSync(root, { recursive: true, force: true });
+// demo/checkpoints/ is written by scripts/make_demo_pt.py (it needs PyTorch) and demo/README.md by hand: keep them.
 mkdirSync(root, { recursive: true });
+for (const entry of readdirSync(root)) if (entry !== 'checkpoints' && entry !== 'README.md') rmSync(join(root, entry), { recursive: true, force: true });
 
 // --- the lane network: 48 docks, lanes between nearby docks ------------------------------------
 const N = 48;
@@ -173,11 +174,13 @@ write('hopscope.json', JSON.stringify({
 // A training script that names the files (hovers on these paths show their shapes in the editor).
 write('train_docks.py', `"""Predicts dock demand in the Larkhaven bike network (demo)."""
 import numpy as np
+import torch
 
 edges = np.loadtxt("lanes/lanes.csv", delimiter=",", skiprows=2, usecols=(0, 1), dtype=np.int64)
 x = np.load("lanes/dock_features.npy")
 y = np.load("lanes/demand.npy")
 splits = np.load("lanes/splits.npz")
 depot_edges = np.load("depots/edge_index.npy")
+checkpoint = torch.load("checkpoints/dock_graph.pt")
 `);
 console.log('demo written to', root);

@@ -51,7 +51,7 @@ beforeAll(async () => {
     capabilities: { textDocument: { publishDiagnostics: { relatedInformation: true } }, workspace: { configuration: true }, window: { workDoneProgress: true } },
   });
   await conn.sendNotification('initialized', {});
-  await waitFor(() => statuses.some((s) => !s.busy && s.filesChecked >= 16), 60_000);
+  await waitFor(() => statuses.some((s) => !s.busy && s.filesChecked >= 17), 60_000);
 }, 90_000);
 
 afterAll(async () => {
@@ -93,6 +93,19 @@ describe('language server over stdio', () => {
     expect(h.contents.value).toContain('[48, 6]');
     expect(h.contents.value).toContain('features');
     expect(h.contents.value).toMatch(/non-finite-features/);
+  });
+
+  it('a PyTorch checkpoint is checked and hovered like any other file', async () => {
+    // demo/checkpoints/dock_graph.pt: written by the real torch.save (scripts/make_demo_pt.py),
+    // with two training docks planted in the test mask.
+    expect(diags('checkpoints/dock_graph.pt').map((d) => d.code)).toEqual(['mask-overlap']);
+    const text = fs.readFileSync(path.join(ws, 'train_docks.py'), 'utf8');
+    const lines = text.split('\n');
+    const line = lines.findIndex((l) => l.includes('checkpoints/dock_graph.pt'));
+    const character = lines[line]!.indexOf('dock_graph') + 2;
+    const h = await conn.sendRequest('textDocument/hover', { textDocument: { uri: uri('train_docks.py') }, position: { line, character } }) as { contents: { value: string } };
+    expect(h.contents.value).toMatch(/— pt/);
+    expect(h.contents.value).toContain('| edge\\_index | int64 | [2, 112] | edge-index |');
   });
 
   it('hover on a node id in an edge list shows its degree and neighbours', async () => {
