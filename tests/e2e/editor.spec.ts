@@ -18,14 +18,15 @@ test.describe('workspace', () => {
   // First in the file: no test has opened anything yet in this worker's workbench.
   test('the start-up scan reports files that were never opened (truncated archive: unreadable)', async ({ workbench: wb }) => {
     // Nothing is opened: the server checks every graph file of the workspace when it starts.
-    const rows = await problemsMatching(wb, 'unreadable');
+    const rows = await problemsMatching(wb, 'unreadable, **/archive/snapshot_2024.npz');
     // A file row (name, folder, count) followed by the problem row.
     await expect(rows.first()).toContainText('snapshot_2024.npz', { timeout: 60_000 });
     await expect(rows).toHaveCount(2);
     expect(await rows.nth(1).innerText()).toMatch(/\nhopscope\nunreadable\n/);
     // And the edge list's problems are there without opening it.
-    const oor = await problemsMatching(wb, 'index-out-of-range');
-    await expect(oor.filter({ hasText: 'lanes.csv' })).toHaveCount(1);
+    const oor = await problemsMatching(wb, 'index-out-of-range, **/lanes/lanes.csv');
+    await expect(oor.first()).toContainText('lanes.csv');
+    await expect(oor.filter({ hasText: /\[Ln 32, Col 3\]/ })).toHaveCount(1);
   });
 
   test('hovering a data path in the training script shows the tensor shape', async ({ workbench: wb }) => {
