@@ -5,12 +5,14 @@
 // for an extension host to start, and the exit code comes back through window.codeAutomationExit.
 // Needs scripts/e2e-setup.sh and a built dist/ (npm run build or npm run package). Exit code 0 = passed.
 import { chromium } from 'playwright-core';
+import { spawnSync } from 'node:child_process';
 import { existsSync, mkdtempSync, readFileSync, rmSync } from 'node:fs';
+import { createRequire } from 'node:module';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { format } from 'node:util';
 import {
-  CHROMIUM, CHROMIUM_ARGS, ROOT, codeServerInstalled, copyDemo, extensionHostLogs, makeProfile,
+  CHROMIUM, CHROMIUM_ARGS, ROOT, codeServerInstalled, copyDemo, extensionHostLogs, installVsix, makeProfile,
   remoteUri, startCodeServer, workbenchUrl,
 } from '../../scripts/code-server.mjs';
 import { buildSuite } from './build.mjs';
@@ -30,6 +32,16 @@ const suite = await buildSuite();
 
 const base = mkdtempSync(join(tmpdir(), 'hopscope-exthost-'));
 const profile = makeProfile(base);
+// The test-only debugger type for Python (tests/debug/debugpy-extension, never shipped) goes into this
+// profile as an installed extension: code-server loads only one extensionDevelopmentPath.
+{
+  const vsce = join(createRequire(import.meta.url).resolve('@vscode/vsce/package.json'), '..', 'vsce');
+  const vsix = join(base, 'debugpy-test-adapter.vsix');
+  const r = spawnSync(process.execPath, [vsce, 'package', '--no-dependencies', '--allow-missing-repository', '--skip-license', '-o', vsix],
+    { cwd: join(ROOT, 'tests/debug/debugpy-extension'), encoding: 'utf8' });
+  if (r.status !== 0) console.error(`packaging the test debugger failed; the Python debug test will be skipped:\n${r.stdout}${r.stderr}`);
+  else installVsix(profile, vsix);
+}
 const folder = copyDemo(join(base, 'demo'));
 const started = Date.now();
 let code = 1;
