@@ -158,6 +158,16 @@ describe('shape and index conventions (common practice: PyTorch Geometric-style 
     const c = run(t('edge_index', [2, 3], [1, 2, 3, 2, 3, 1]), t('x', [3, 1], [0, 0, 0], 'float32'));
     expect(codes(c)).toEqual(expect.arrayContaining(['one-based-index', 'index-out-of-range']));
   });
+  it('node count: feature rows first, then the declaration (the check contract); a disagreement is reported on the features', () => {
+    const e = t('edge_index', [2, 2], [0, 1, 1, 0]);
+    const x = t('x', [3, 1], [0, 0, 0], 'float32');
+    const c = checkGraph([e, x].map((z) => ({ file: z.name, tensor: z, guess: guessRole(z) })), { nodes: 4 });
+    expect(c.figures!.nodes).toBe(3);
+    const p = c.problems.find((q) => q.problem.code === 'feature-rows-mismatch')!;
+    expect(p.file).toBe('x');
+    expect(p.problem.message).toMatch(/3 rows but the declared node count is 4/);
+    expect(checkGraph([{ file: 'e', tensor: e, guess: guessRole(e) }], { nodes: 4 }).figures!.nodes).toBe(4);
+  });
   it('a declared index base of 1 shifts ids', () => {
     const e = t('edge_index', [2, 3], [1, 2, 3, 2, 3, 1]);
     const c = checkGraph([{ file: 'e', tensor: e, guess: guessRole(e) }], { indexBase: 1 });

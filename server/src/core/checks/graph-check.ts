@@ -131,16 +131,18 @@ export function checkGraph(parts: GraphPart[], opts: GraphOptions = {}): GraphCh
   let n: number;
   let nSource: string;
   let blameFeatures = false;
-  if (declaredN !== undefined) {
-    n = declaredN;
-    nSource = opts.nodes !== undefined ? 'the declared node count' : edges?.naturalN !== undefined ? 'the adjacency shape' : 'the size stated in the file';
-  } else if (featureRows !== undefined) {
-    if (agreed !== undefined && agreed !== featureRows && maxId < agreed) {
+  const declaredSource = opts.nodes !== undefined ? 'the declared node count' : edges?.naturalN !== undefined ? 'the adjacency shape' : 'the size stated in the file';
+  // The contract: feature rows, else the declared count, else the largest id + 1.
+  if (featureRows !== undefined) {
+    if (declaredN === undefined && agreed !== undefined && agreed !== featureRows && maxId < agreed) {
       // Labels, masks and edge ids agree on another count: the feature matrix is the odd one out.
       n = agreed; nSource = 'the labels and masks'; blameFeatures = true;
     } else {
       n = featureRows; nSource = `the rows of ${features!.tensor.name}`;
     }
+  } else if (declaredN !== undefined) {
+    n = declaredN;
+    nSource = declaredSource;
   } else if (agreed !== undefined && agreed > maxId) {
     n = agreed; nSource = 'the length of the labels/masks';
   } else {
@@ -151,13 +153,18 @@ export function checkGraph(parts: GraphPart[], opts: GraphOptions = {}): GraphCh
   const nKnown = edges !== undefined || declaredN !== undefined || featureRows !== undefined;
 
   // ---- 3. per-node tensors ------------------------------------------------------------------
-  if (features && featureRows !== undefined && featureRows !== n) {
-    const why = blameFeatures
-      ? `the labels/masks and the edge ids all describe ${n} nodes`
-      : `the graph has ${n} nodes (${nSource})`;
-    report(features, 'feature-rows-mismatch',
-      `${features.tensor.name} has ${featureRows} rows but ${why}. Every node needs exactly one feature row; ` +
-      `${featureRows < n ? `${n - featureRows} row(s) are missing` : `${featureRows - n} row(s) too many`}.`, Math.abs(featureRows - n));
+  if (features && featureRows !== undefined) {
+    // Either the other per-node tensors and the ids outvote the feature rows, or a declaration
+    // (manifest, --num-nodes, the adjacency shape) disagrees with them.
+    const expected = blameFeatures ? n : declaredN;
+    if (expected !== undefined && expected !== featureRows) {
+      const why = blameFeatures
+        ? `the labels/masks and the edge ids all describe ${expected} nodes`
+        : `${declaredSource} is ${expected}`;
+      report(features, 'feature-rows-mismatch',
+        `${features.tensor.name} has ${featureRows} rows but ${why}. Every node needs exactly one feature row; ` +
+        `${featureRows < expected ? `${expected - featureRows} row(s) are missing` : `${featureRows - expected} row(s) too many`}.`, Math.abs(featureRows - expected));
+    }
   }
   if (features) checkNonFinite(features, report, 'feature');
   if (labels) checkLabels(labels, nKnown ? n : -1, report);
