@@ -108,14 +108,17 @@ export function startServer(connection: Connection, workerScript: string): void 
       settings = { ...DEFAULT_SETTINGS, ...(h ?? {}) };
       filesExclude = Object.entries(files?.exclude ?? {}).filter(([, on]) => on).map(([g]) => g);
     }
+    excludeMatch = globMatcher([...filesExclude, ...(settings.exclude ?? [])]);
     const opts: CheckSetOptions = { severity: settings.severity ?? {} };
     if (settings.defaultDirectedness !== 'auto') opts.defaults = { directed: settings.defaultDirectedness === 'directed' };
     opts.defaults = { ...(opts.defaults ?? {}), flow: settings.flow };
     await service.configure(opts, { maxFileBytes: Math.max(1, settings.maxFileSizeMB) * 1024 ** 2 });
   }
 
+  // Rebuilt only when the settings change: `excluded` runs for every entry of a workspace walk.
+  let excludeMatch = globMatcher([]);
   function excluded(abs: string): boolean {
-    const match = globMatcher([...filesExclude, ...(settings.exclude ?? [])]);
+    const match = excludeMatch;
     for (const f of folders) {
       const root = URI.parse(f.uri).fsPath;
       const rel = path.relative(root, abs);

@@ -6,20 +6,17 @@
 
 const MAGIC = [0x93, 0x4e, 0x55, 0x4d, 0x50, 0x59];
 
-/** NumPy format 1.0 .npy of an int64 C-order array (header padded to a multiple of 64 bytes). */
-export function encodeNpyInt64(shape: number[], values: ArrayLike<number>): Uint8Array {
-  const shp = shape.length === 1 ? `(${shape[0]},)` : `(${shape.join(', ')})`;
-  let header = `{'descr': '<i8', 'fortran_order': False, 'shape': ${shp}, }`;
-  const total = Math.ceil((10 + header.length + 1) / 64) * 64;
-  header = header.padEnd(total - 11, ' ') + '\n';
-  const out = new Uint8Array(total + values.length * 8);
-  out.set(MAGIC);
-  out[6] = 1; out[7] = 0;
-  out[8] = header.length & 0xff; out[9] = header.length >> 8;
-  for (let i = 0; i < header.length; i++) out[10 + i] = header.charCodeAt(i);
-  const dv = new DataView(out.buffer, total);
+/** Little-endian int64 bytes of whole numbers. */
+export function int64Bytes(values: ArrayLike<number>): Uint8Array {
+  const out = new Uint8Array(values.length * 8);
+  const dv = new DataView(out.buffer);
   for (let i = 0; i < values.length; i++) dv.setBigInt64(i * 8, BigInt(values[i]!), true);
   return out;
+}
+
+/** NumPy format 1.0 .npy of an int64 C-order array (header padded to a multiple of 64 bytes). */
+export function encodeNpyInt64(shape: number[], values: ArrayLike<number>): Uint8Array {
+  return encodeNpy('<i8', shape, int64Bytes(values));
 }
 
 const CRC_TABLE = (() => {
@@ -102,9 +99,7 @@ export function replaceSafetensor(bytes: Uint8Array, name: string, shape: number
     let data: Uint8Array;
     let dtype = entry.dtype, shp = entry.shape;
     if (key === name) {
-      data = new Uint8Array(values.length * 8);
-      const dv = new DataView(data.buffer);
-      for (let i = 0; i < values.length; i++) dv.setBigInt64(i * 8, BigInt(values[i]!), true);
+      data = int64Bytes(values);
       dtype = 'I64'; shp = shape;
     } else {
       data = bytes.subarray(base + entry.data_offsets[0], base + entry.data_offsets[1]);
