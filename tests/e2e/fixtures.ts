@@ -29,8 +29,12 @@ function activeEditor(page: Page): Locator {
 export class Workbench {
   constructor(readonly page: Page, readonly folder: string) {}
 
-  /** Runs a command by its title through the command palette. */
-  async runCommand(title: string): Promise<void> {
+  /**
+   * Runs a command by its title through the command palette. A command that asks for input reuses
+   * the same quick-input widget, so it may never hide: with `asks`, wait instead until the widget
+   * carries the command's own prompt (its aria-label).
+   */
+  async runCommand(title: string, asks?: string | RegExp): Promise<void> {
     const page = this.page;
     await page.keyboard.press('F1');
     const input = page.locator('.quick-input-widget .quick-input-box input');
@@ -38,7 +42,8 @@ export class Workbench {
     await input.fill('>' + title);
     await page.locator('.quick-input-widget .quick-input-list .monaco-list-row', { hasText: title }).first().waitFor();
     await page.keyboard.press('Enter');
-    await input.waitFor({ state: 'hidden' });
+    if (asks === undefined) await input.waitFor({ state: 'hidden' });
+    else await expect(input).toHaveAttribute('aria-label', asks, { timeout: 30_000 });
   }
 
   /** Opens a workspace file through Quick Open and waits for its text to show. */

@@ -8,10 +8,9 @@ import { expect, test, EXTENSION_ID } from './fixtures';
 
 test('open the receptive-field panel from the palette and slide the layer count', async ({ workbench: wb }) => {
   const page = wb.page;
-  await wb.runCommand('Hopscope: Open Receptive-Field Panel');
   // File quick pick, then the centre node.
+  await wb.runCommand('Hopscope: Open Receptive-Field Panel', /^Graph file/);
   const input = page.locator('.quick-input-widget .quick-input-box input');
-  await input.waitFor({ state: 'visible' });
   await input.fill('depots/edge_index.npy');
   await page.locator('.quick-input-widget .quick-input-list .monaco-list-row', { hasText: 'edge_index.npy' }).first().waitFor();
   await page.keyboard.press('Enter');
