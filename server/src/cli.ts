@@ -5,6 +5,7 @@
 import * as fs from 'node:fs';
 import * as path from 'node:path';
 import { checkPaths, loadManifest } from './node/load';
+import { useParallelPairBuilder } from './node/pair-build';
 import type { CheckSetOptions, FileReport } from './core/checks/check-set';
 import type { Problem, Severity } from './core/formats/types';
 import { severityAtLeast } from './core/checks/codes';
@@ -260,6 +261,7 @@ function fileSize(p: string): number {
 
 if (typeof require !== 'undefined' && typeof module !== 'undefined' && require.main === module) {
   const color = Boolean(process.stdout.isTTY) && !process.env.NO_COLOR;
+  useParallelPairBuilder();
   const code = main(process.argv.slice(2), {
     out: (s) => process.stdout.write(s),
     err: (s) => process.stderr.write(s),

@@ -77,12 +77,16 @@ describe('CSR building blocks', () => {
     expect(Array.from(t2.indices)).toEqual(Array.from(fwd.indices));
   });
 
-  it('the radix build equals two counting-sort transposes for 1, 2 and 3 digit passes', () => {
+  it('the bucketed build equals two counting-sort transposes (one pass, bucket edges, skewed rows)', () => {
     let seed = 7;
     const rnd = (m: number) => { seed = (Math.imul(seed, 1103515245) + 12345) >>> 0; return Math.floor((seed / 2 ** 32) * m); };
-    for (const n of [50, 70_000, 5_000_000]) {
+    // 2048 is the largest node count sorted in one counting pass, 2049 the smallest bucketed one;
+    // the last case puts most entries in the rows of two nodes (one bucket holds nearly all).
+    const cases: [number, boolean][] = [[1, false], [50, false], [2048, false], [2049, false], [70_000, false], [5_000_000, false], [70_000, true]];
+    for (const [n, skewed] of cases) {
       const e = 20_000;
-      const src = Int32Array.from({ length: e }, () => rnd(n)), dst = Int32Array.from({ length: e }, () => rnd(n));
+      const pick = () => (skewed && rnd(10) < 8 ? rnd(2) : rnd(n));
+      const src = Int32Array.from({ length: e }, pick), dst = Int32Array.from({ length: e }, pick);
       const { fwd, rev } = buildSortedPair(n, src, dst);
       const f2 = transpose(transpose(buildCsr(n, src, dst)));
       const r2 = transpose(buildCsr(n, src, dst));

@@ -12,6 +12,7 @@ import { checkSet, type CheckSetOptions, type CheckSetResult, type LoadedFile, t
 import { ManifestError, parseManifest } from '../core/checks/manifest';
 import { roleFromName } from '../core/checks/roles';
 import { timed } from '../core/timing';
+import { readNpyStreaming } from './npy-stream';
 import type { FileCache } from './service';
 
 export interface LoadOptions {
@@ -92,8 +93,9 @@ export function loadFile(p: string, opts: LoadOptions = {}): LoadedFile {
     if (size > max) {
       return { path: p, format: reader.format, error: { message: `the file is ${(size / 1024 ** 2).toFixed(0)} MiB, above the ${(max / 1024 ** 2).toFixed(0)} MiB limit for checking` } };
     }
-    const bytes = timed('read', () => readWhole(p, size));
-    const result = timed('read', () => reader.read(bytes, p, opts.limits ?? DEFAULT_LIMITS));
+    const limits = opts.limits ?? DEFAULT_LIMITS;
+    const result = (reader.format === 'npy' ? timed('read', () => readNpyStreaming(p, size, limits)) : null)
+      ?? timed('read', () => reader.read(readWhole(p, size), p, limits));
     const loaded: LoadedFile = { path: p, format: result.format, result };
     opts.cache?.set(abs, st.mtimeMs, size, loaded);
     return loaded;

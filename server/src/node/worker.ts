@@ -4,6 +4,9 @@
  */
 import { parentPort } from 'node:worker_threads';
 import { GraphService } from './service';
+import { useParallelPairBuilder } from './pair-build';
+
+useParallelPairBuilder();
 
 const service = new GraphService();
 

@@ -129,6 +129,30 @@ function narrow64(words: Int32Array, count: number, signed: boolean): Int32Array
 }
 
 /**
+ * Narrows `count` host-order 64-bit integers (as 2·count int32 words) into out[at, at + count)
+ * when every value fits in int32; returns false, leaving `out` partly written, when one does not.
+ * One pass that checks and copies together: the streaming reader's inner loop.
+ */
+export function narrowInt64Into(words: Int32Array, count: number, signed: boolean, out: Int32Array, at: number): boolean {
+  const lo = HOST_LITTLE_ENDIAN ? 0 : 1;
+  const hi = 1 - lo;
+  if (signed) {
+    for (let i = 0, j = 0; i < count; i++, j += 2) {
+      const v = words[j + lo]!;
+      if (words[j + hi] !== (v >> 31)) return false;
+      out[at + i] = v;
+    }
+  } else {
+    for (let i = 0, j = 0; i < count; i++, j += 2) {
+      const v = words[j + lo]!;
+      if (words[j + hi] !== 0 || v < 0) return false;
+      out[at + i] = v;
+    }
+  }
+  return true;
+}
+
+/**
  * Decodes `count` elements of a numeric `dtype` starting at `offset` of `bytes`, stored
  * little- or big-endian, into the normalised storage of types.ts.
  */

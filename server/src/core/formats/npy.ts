@@ -156,7 +156,7 @@ class HeaderParser {
 // ---------------------------------------------------------------------------------------------
 // dtype descriptors
 
-interface Descr {
+export interface Descr {
   dtype: DType;
   itemSize: number;
   littleEndian: boolean;
@@ -238,9 +238,25 @@ function decodeStrings(bytes: Uint8Array, offset: number, count: number, d: Desc
 
 // ---------------------------------------------------------------------------------------------
 
-/** Parses one .npy file (or .npz member) into a dense tensor named `name`. */
-export function parseNpy(bytes: Uint8Array, name: string, limits: ReadLimits = DEFAULT_LIMITS): DenseTensor {
-  const len = bytes.length;
+/** What a .npy header says: element type, order, shape and where the data starts. */
+export interface NpyLayout {
+  descr: Descr;
+  fortran: boolean;
+  shape: number[];
+  /** Number of elements (product of the shape). */
+  count: number;
+  /** Byte offset of the first element. */
+  dataStart: number;
+}
+
+/**
+ * Parses and validates the preamble and header of a .npy file of `fileSize` bytes, of which
+ * `bytes` holds a prefix (or all). Checks that the data the header describes fits in the file.
+ * Returns null when the prefix ends before the header does (read more and call again).
+ */
+export function parseNpyHeader(bytes: Uint8Array, fileSize: number, limits: ReadLimits = DEFAULT_LIMITS): NpyLayout | null {
+  const len = fileSize;
+  if (bytes.length < Math.min(len, 12)) return null;
   for (let i = 0; i < MAGIC.length; i++) {
     if (bytes[i] !== MAGIC[i]) {
       if (i >= len) throw new UnreadableError(`file is too short for .npy (${len} bytes)`, len);
@@ -277,6 +293,7 @@ export function parseNpy(bytes: Uint8Array, name: string, limits: ReadLimits = D
     );
   }
 
+  if (dataStart > bytes.length) return null;
   const raw = bytes.subarray(headerStart, dataStart);
   let text: string;
   if (major === 3) {
@@ -340,7 +357,13 @@ export function parseNpy(bytes: Uint8Array, name: string, limits: ReadLimits = D
       dataStart,
     );
   }
+  return { descr, fortran, shape, count, dataStart };
+}
 
+/** Parses one .npy file (or .npz member) into a dense tensor named `name`. */
+export function parseNpy(bytes: Uint8Array, name: string, limits: ReadLimits = DEFAULT_LIMITS): DenseTensor {
+  const layout = parseNpyHeader(bytes, bytes.length, limits)!;
+  const { descr, fortran, shape, count, dataStart } = layout;
   if (descr.dtype === 'bytes' || descr.dtype === 'str') {
     let strings = decodeStrings(bytes, dataStart, count, descr);
     if (fortran && shape.length > 1) {

@@ -35,7 +35,8 @@ export interface Structure {
 /** Ids in src/dst must already be in [0, n). */
 export function analyseStructure(n: number, src: Int32Array, dst: Int32Array): Structure {
   const e = src.length;
-  const { fwd, rev } = timed('build', () => buildSortedPair(n, src, dst));
+  const build = timed('build', () => buildSortedPair(n, src, dst, { components: true }));
+  const { fwd, rev } = build;
 
   let selfLoops = 0;
   for (let k = 0; k < e; k++) if (src[k] === dst[k]) selfLoops++;
@@ -83,7 +84,7 @@ export function analyseStructure(n: number, src: Int32Array, dst: Int32Array): S
       asymmetricPairs: asymmetric,
       distinctNonLoopPairs: distinctNonLoop,
       isolatedNodes: isolated,
-      components: countComponentsCsr(fwd),
+      components: build.components ? build.components() : countComponentsCsr(fwd),
     },
   };
 }
@@ -118,14 +119,28 @@ export function countComponentsCsr(g: Csr): number {
 
 /**
  * Edge ids (positions in src/dst) of the first `limit` entries that repeat an earlier (u, v),
- * in file order. Needs the sorted forward graph. O(E log d) until `limit` is reached.
+ * in file order. Needs the sorted forward graph. Only entries whose source row holds a repeated
+ * target are looked up (one pass over the rows marks those sources), so the file-order scan is a
+ * sequential read for most entries. O(N + E + R log d) for R looked-up entries.
  */
 export function duplicateExamples(fwd: Csr, src: Int32Array, dst: Int32Array, limit: number): number[] {
-  const seen = new Uint8Array(fwd.indices.length);
+  const { n, indptr, indices } = fwd;
+  const hasRepeat = new Uint8Array(n);
+  let any = false;
+  for (let u = 0; u < n; u++) {
+    const end = indptr[u + 1]!;
+    for (let p = indptr[u]! + 1; p < end; p++) {
+      if (indices[p] === indices[p - 1]) { hasRepeat[u] = 1; any = true; break; }
+    }
+  }
   const out: number[] = [];
+  if (!any) return out;
+  // Positions already met, by CSR position (lower bound of the pair in its sorted row).
+  const seen = new Uint8Array(indices.length);
   for (let k = 0; k < src.length && out.length < limit; k++) {
     const u = src[k]!;
-    const p = lowerBound(fwd.indices, fwd.indptr[u]!, fwd.indptr[u + 1]!, dst[k]!);
+    if (!hasRepeat[u]) continue;
+    const p = lowerBound(indices, indptr[u]!, indptr[u + 1]!, dst[k]!);
     if (seen[p]) out.push(k);
     else seen[p] = 1;
   }

@@ -1,0 +1,63 @@
+// The two-thread graph builder (node/pair-build.ts) must return exactly what the one-thread core
+// builder returns, and count the same components; when its helper cannot start it must fall back.
+// It runs the bundled helper from dist/ (`npm test` builds first). Ground truth for the figures
+// themselves is in graph-figures.test.ts (NetworkX/SciPy); this file compares two builders.
+import * as path from 'node:path';
+import { afterAll, describe, expect, it } from 'vitest';
+import { sequentialPair, setPairBuilder, buildSortedPair } from '../../server/src/core/graph/csr';
+import { countComponentsCsr } from '../../server/src/core/graph/figures';
+import { PARALLEL_MIN_EDGES, parallelPair, sharedInt32, useParallelPairBuilder } from '../../server/src/node/pair-build';
+
+const HELPER = path.join(__dirname, '../../dist/pair-worker.js');
+
+function randomGraph(n: number, e: number, seed: number, share: boolean): { src: Int32Array; dst: Int32Array } {
+  let s = seed;
+  const rnd = (m: number) => { s = (Math.imul(s, 1103515245) + 12345) >>> 0; return Math.floor((s / 2 ** 32) * m); };
+  const src = share ? sharedInt32(e) : new Int32Array(e), dst = share ? sharedInt32(e) : new Int32Array(e);
+  // Clustered ids (many components) plus a few hubs (long rows that take the typed-array sort).
+  for (let k = 0; k < e; k++) {
+    const block = rnd(n >> 6) << 6;
+    src[k] = k % 97 === 0 ? rnd(4) : block + rnd(64);
+    dst[k] = Math.min(n - 1, block + rnd(64));
+  }
+  return { src, dst };
+}
+
+function same(a: Int32Array, b: Int32Array): boolean {
+  if (a.length !== b.length) return false;
+  for (let i = 0; i < a.length; i++) if (a[i] !== b[i]) return false;
+  return true;
+}
+
+afterAll(() => setPairBuilder(null));
+
+describe('two-thread CSR build', () => {
+  it('equals the one-thread build and its component count (shared and ordinary inputs)', () => {
+    useParallelPairBuilder(HELPER);
+    for (const share of [true, false]) {
+      const n = 300_000, e = PARALLEL_MIN_EDGES + 12_345;
+      const { src, dst } = randomGraph(n, e, share ? 11 : 12, share);
+      const par = buildSortedPair(n, src, dst, { components: true });
+      const seq = sequentialPair(n, src, dst);
+      expect(same(par.fwd.indptr, seq.fwd.indptr) && same(par.fwd.indices, seq.fwd.indices)).toBe(true);
+      expect(same(par.rev.indptr, seq.rev.indptr) && same(par.rev.indices, seq.rev.indices)).toBe(true);
+      // Built on the helper thread, in shared memory.
+      expect(par.rev.indices.buffer).toBeInstanceOf(SharedArrayBuffer);
+      expect(par.components).toBeTypeOf('function');
+      const comps = countComponentsCsr(seq.fwd);
+      expect(comps).toBeGreaterThan(100);
+      expect(par.components!()).toBe(comps);
+    }
+  });
+
+  it('builds on this thread when the helper bundle is missing', () => {
+    useParallelPairBuilder(path.join(__dirname, 'no-such-helper.js'));
+    const n = 5000, e = PARALLEL_MIN_EDGES;
+    const { src, dst } = randomGraph(n, e, 3, false);
+    const par = parallelPair(n, src, dst, { components: true });
+    const seq = sequentialPair(n, src, dst);
+    expect(par.rev.indices.buffer).not.toBeInstanceOf(SharedArrayBuffer);
+    expect(same(par.rev.indices, seq.rev.indices) && same(par.fwd.indices, seq.fwd.indices)).toBe(true);
+    expect(par.components).toBeUndefined();
+  });
+});
