@@ -115,7 +115,10 @@ export function checkGraph(parts: GraphPart[], opts: GraphOptions = {}): GraphCh
   const agreed = otherLens.length > 0 && otherLens.every((x) => x === otherLens[0]) ? otherLens[0] : undefined;
 
   let maxId = -1, minId = Infinity;
-  if (edges) {
+  if (edges && !edges.flags) {
+    const a = int32Range(edges.src), b = int32Range(edges.dst);
+    minId = Math.min(a[0], b[0]); maxId = Math.max(maxId, a[1], b[1]);
+  } else if (edges) {
     const { src, dst, flags } = edges;
     for (let k = 0; k < src.length; k++) {
       if (flags && flags[k]) continue;
@@ -204,7 +207,9 @@ export function checkGraph(parts: GraphPart[], opts: GraphOptions = {}): GraphCh
   let outOfRange = 0;
   const oorExamples: number[] = [];
   const flags = edges.flags;
-  for (let k = 0; k < e; k++) {
+  // Every id flagged or in range is known from the range alone: the common case skips the pass.
+  const allInRange = !flags && (e === 0 || (minId >= 0 && maxId < n));
+  for (let k = 0; k < e && !allInRange; k++) {
     const f = flags ? flags[k]! : 0;
     const a = src[k]!, b = dst[k]!;
     if ((f & 3) !== 0) continue; // non-integer: reported separately, left out
@@ -650,6 +655,18 @@ function checkMaskOverlap(masks: GraphPart[], n: number, report: Reporter): void
 }
 
 // ---------------------------------------------------------------------------------------------
+
+/** [min, max] of a non-empty array ([Infinity, -1] when empty), in a loop that only sees Int32Array. */
+function int32Range(a: Int32Array): [number, number] {
+  if (a.length === 0) return [Infinity, -1];
+  let lo = a[0]!, hi = a[0]!;
+  for (let k = 1; k < a.length; k++) {
+    const v = a[k]!;
+    if (v < lo) lo = v;
+    else if (v > hi) hi = v;
+  }
+  return [lo, hi];
+}
 
 function shift(a: Int32Array): Int32Array {
   const out = new Int32Array(a.length);
