@@ -1,5 +1,5 @@
 // Bundles the entry points into dist/: extension host (cjs), language server (cjs), its check
-// worker and graph-build helper threads (cjs),
+// worker and helper threads (cjs),
 // command line (cjs with a shebang) and webview (browser iife). Type checking is `npm run typecheck`.
 import * as esbuild from 'esbuild';
 import { existsSync } from 'node:fs';
@@ -19,7 +19,7 @@ const entries = [
   { ...common, entryPoints: ['extension/src/extension.ts'], outfile: 'dist/extension.js', platform: 'node', format: 'cjs', external: ['vscode'] },
   { ...common, entryPoints: ['server/src/lsp/server.ts'], outfile: 'dist/server.js', platform: 'node', format: 'cjs' },
   { ...common, entryPoints: ['server/src/node/worker.ts'], outfile: 'dist/worker.js', platform: 'node', format: 'cjs' },
-  { ...common, entryPoints: ['server/src/node/pair-worker.ts'], outfile: 'dist/pair-worker.js', platform: 'node', format: 'cjs' },
+  { ...common, entryPoints: ['server/src/node/helper-worker.ts'], outfile: 'dist/helper.js', platform: 'node', format: 'cjs' },
   { ...common, entryPoints: ['server/src/cli.ts'], outfile: 'dist/cli.js', platform: 'node', format: 'cjs', banner: { js: '#!/usr/bin/env node' } },
   { ...common, entryPoints: ['webview/src/viewer.ts'], outfile: 'dist/webview/viewer.js', platform: 'browser', format: 'iife', target: 'es2022' },
   { ...common, entryPoints: ['webview/src/panel.ts'], outfile: 'dist/webview/panel.js', platform: 'browser', format: 'iife', target: 'es2022' },

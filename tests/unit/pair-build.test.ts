@@ -6,9 +6,10 @@ import * as path from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
 import { sequentialPair, setPairBuilder, buildSortedPair } from '../../server/src/core/graph/csr';
 import { countComponentsCsr } from '../../server/src/core/graph/figures';
-import { PARALLEL_MIN_EDGES, parallelPair, sharedInt32, useParallelPairBuilder } from '../../server/src/node/pair-build';
+import { PARALLEL_MIN_EDGES, parallelPair, useParallelPairBuilder } from '../../server/src/node/pair-build';
+import { sharedInt32 } from '../../server/src/node/helper-thread';
 
-const HELPER = path.join(__dirname, '../../dist/pair-worker.js');
+const HELPER = path.join(__dirname, '../../dist/helper.js');
 
 function randomGraph(n: number, e: number, seed: number, share: boolean): { src: Int32Array; dst: Int32Array } {
   let s = seed;

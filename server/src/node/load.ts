@@ -7,12 +7,14 @@ import * as path from 'node:path';
 import * as v8 from 'node:v8';
 import * as vm from 'node:vm';
 import { MANIFEST_NAME, readerFor } from '../core/formats';
-import { DEFAULT_LIMITS, UnreadableError, type ReadLimits } from '../core/formats/types';
+import { DEFAULT_LIMITS, UnreadableError, type ReadLimits, type ReadResult } from '../core/formats/types';
 import { checkSet, type CheckSetOptions, type CheckSetResult, type LoadedFile, type LoadedManifest } from '../core/checks/check-set';
 import { ManifestError, parseManifest } from '../core/checks/manifest';
 import { roleFromName } from '../core/checks/roles';
 import { timed } from '../core/timing';
 import { readNpyStreaming } from './npy-stream';
+import { readArriving } from './file-stream';
+import { readEdgeList } from '../core/formats/edgelist';
 import type { FileCache } from './service';
 
 export interface LoadOptions {
@@ -94,7 +96,7 @@ export function loadFile(p: string, opts: LoadOptions = {}): LoadedFile {
       return { path: p, format: reader.format, error: { message: `the file is ${(size / 1024 ** 2).toFixed(0)} MiB, above the ${(max / 1024 ** 2).toFixed(0)} MiB limit for checking` } };
     }
     const limits = opts.limits ?? DEFAULT_LIMITS;
-    const result = (reader.format === 'npy' ? timed('read', () => readNpyStreaming(p, size, limits)) : null)
+    const result = timed('read', () => readLarge(p, reader.format, size, limits))
       ?? timed('read', () => reader.read(readWhole(p, size), p, limits));
     const loaded: LoadedFile = { path: p, format: result.format, result };
     opts.cache?.set(abs, st.mtimeMs, size, loaded);
@@ -110,6 +112,19 @@ export function loadFile(p: string, opts: LoadOptions = {}): LoadedFile {
     // Anything else is a bug in a reader; never let it take down the caller, but say so plainly.
     return { path: p, format: reader.format, error: { message: `internal reader error: ${(e as Error)?.message ?? String(e)}` } };
   }
+}
+
+/**
+ * The large-file paths: integer .npy edge indices streamed into int32, plain-text edge lists
+ * parsed while the helper thread reads them. Null when neither applies (read the whole file).
+ */
+function readLarge(p: string, format: string, size: number, limits: ReadLimits): ReadResult | null {
+  if (format === 'npy') return readNpyStreaming(p, size, limits);
+  if (format === 'edgelist' && !p.toLowerCase().endsWith('.gz')) {
+    const a = readArriving(p, size);
+    if (a) return readEdgeList(a.bytes, p, limits, a.arriving);
+  }
+  return null;
 }
 
 /** Reads a file into one Uint8Array (not a pooled Buffer slice), in 64 MiB steps. */

@@ -8,11 +8,9 @@
  * the core's synchronous API is kept. Any failure — the helper script missing, the helper not
  * answering, an exception in it — falls back to building on this thread.
  */
-import * as fs from 'node:fs';
-import * as path from 'node:path';
-import { Worker } from 'node:worker_threads';
 import { sequentialPair, setPairBuilder, sortedCsr, type Csr, type PairBuild, type PairBuilder } from '../core/graph/csr';
 import { countComponentsCsr } from '../core/graph/figures';
+import { dropHelper, getHelper, setHelperScript, sharedInt32, signal, waitWhile } from './helper-thread';
 
 /** Below this many edge entries the second thread is not worth its start-up (~30 ms). */
 export const PARALLEL_MIN_EDGES = 1 << 20;
@@ -23,6 +21,7 @@ const STATE = 0, COMPONENTS = 1;
 const WAITING = 0, REVERSE_READY = 1, COMPONENTS_READY = 2, FAILED = -1;
 
 export interface PairJob {
+  kind: 'pair';
   n: number;
   src: Int32Array;
   dst: Int32Array;
@@ -32,48 +31,12 @@ export interface PairJob {
   components: boolean;
 }
 
-let helper: Worker | null | undefined;
-/** The bundled helper entry; beside this bundle in dist/. */
-let helperScript = path.join(__dirname, 'pair-worker.js');
-
-function getHelper(): Worker | null {
-  if (helper !== undefined) return helper;
-  const script = helperScript;
-  if (!fs.existsSync(script)) return (helper = null);
-  try {
-    const w = new Worker(script);
-    w.unref();
-    w.on('error', () => { if (helper === w) helper = null; });
-    w.on('exit', () => { if (helper === w) helper = null; });
-    helper = w;
-  } catch {
-    helper = null;
-  }
-  return helper;
-}
-
 /** An Int32Array over shared memory with the contents of `a` (`a` itself when already shared). */
 function shared(a: Int32Array): Int32Array {
   if (a.buffer instanceof SharedArrayBuffer) return a;
   const s = new Int32Array(new SharedArrayBuffer(a.byteLength));
   s.set(a);
   return s;
-}
-
-/** An Int32Array of `length` zeros over shared memory. */
-export function sharedInt32(length: number): Int32Array {
-  return new Int32Array(new SharedArrayBuffer(length * 4));
-}
-
-/** Waits until the helper's state leaves `from`; false on timeout. */
-function waitWhile(control: Int32Array, from: number, ms: number): boolean {
-  const deadline = Date.now() + ms;
-  while (Atomics.load(control, STATE) === from) {
-    const left = deadline - Date.now();
-    if (left <= 0) return false;
-    Atomics.wait(control, STATE, from, left);
-  }
-  return true;
 }
 
 /** Generous bound on the helper's time: its work is a few passes over the edges. */
@@ -87,22 +50,21 @@ export const parallelPair: PairBuilder = (n, src, dst, opts) => {
   if (!w) return sequentialPair(n, src, dst, opts);
   const control = sharedInt32(2);
   const job: PairJob = {
-    n, src: shared(src), dst: shared(dst), revIndptr: sharedInt32(n + 1), revIndices: sharedInt32(e),
+    kind: 'pair', n, src: shared(src), dst: shared(dst), revIndptr: sharedInt32(n + 1), revIndices: sharedInt32(e),
     control, components: opts?.components === true,
   };
   w.postMessage(job);
   const fwd = sortedCsr(n, src, dst);
-  if (!waitWhile(control, WAITING, patienceMs(e)) || Atomics.load(control, STATE) === FAILED) {
-    // Never block on that helper again.
-    helper = null;
-    void w.terminate();
+  if (!waitWhile(control, STATE, WAITING, patienceMs(e))) {
+    dropHelper(w);
     return sequentialPair(n, src, dst, opts);
   }
+  if (Atomics.load(control, STATE) === FAILED) return sequentialPair(n, src, dst, opts);
   const rev: Csr = { n, indptr: job.revIndptr, indices: job.revIndices };
   const result: PairBuild = { fwd, rev };
   if (job.components) {
     result.components = () => {
-      if (waitWhile(control, REVERSE_READY, patienceMs(e)) && Atomics.load(control, STATE) === COMPONENTS_READY) {
+      if (waitWhile(control, STATE, REVERSE_READY, patienceMs(e)) && Atomics.load(control, STATE) === COMPONENTS_READY) {
         return Atomics.load(control, COMPONENTS);
       }
       return countComponentsCsr(fwd);
@@ -116,10 +78,7 @@ export const parallelPair: PairBuilder = (n, src, dst, opts) => {
  * bundle is (tests run from source, where it is not beside this file).
  */
 export function useParallelPairBuilder(script?: string): void {
-  if (script !== undefined && script !== helperScript) {
-    helperScript = script;
-    helper = undefined;
-  }
+  if (script !== undefined) setHelperScript(script);
   setPairBuilder(parallelPair);
 }
 
@@ -128,15 +87,12 @@ export function runPairJob(job: PairJob): void {
   const { control } = job;
   try {
     const rev = sortedCsr(job.n, job.dst, job.src, { indptr: job.revIndptr, indices: job.revIndices });
-    Atomics.store(control, STATE, REVERSE_READY);
-    Atomics.notify(control, STATE);
+    signal(control, STATE, REVERSE_READY);
     if (job.components) {
       Atomics.store(control, COMPONENTS, countComponentsCsr(rev));
-      Atomics.store(control, STATE, COMPONENTS_READY);
-      Atomics.notify(control, STATE);
+      signal(control, STATE, COMPONENTS_READY);
     }
   } catch {
-    Atomics.store(control, STATE, FAILED);
-    Atomics.notify(control, STATE);
+    signal(control, STATE, FAILED);
   }
 }

@@ -85,6 +85,8 @@ const DELIMS: ReadonlyArray<[number, Delimiter]> = [
 ];
 
 interface Layout {
+  /** Offset where sniffing stopped. */
+  scanned: number;
   delim: number;
   delimiter: Delimiter;
   /** Expected fields per line (≥ 2). */
@@ -100,11 +102,41 @@ interface Layout {
   bytesPerLine: number;
 }
 
-export function readEdgeList(bytes: Uint8Array, fileName: string, limits: ReadLimits): EdgeListReadResult {
-  const b = textBytes(bytes, fileName, limits);
+/**
+ * Bytes that arrive while the reader works: `bytes` has its final length, but only a prefix is
+ * filled so far (the node layer reads the file on another thread). Not for compressed files.
+ */
+export interface ArrivingBytes {
+  /** Blocks until more than `have` bytes from offset 0 are filled (or all are); returns how many are. */
+  waitBeyond(have: number): number;
+}
+
+/** Bytes a streamed reader waits for before sniffing the layout (the first lines). */
+const SNIFF_PREFIX = 4 * 1024 * 1024;
+
+export function readEdgeList(bytes: Uint8Array, fileName: string, limits: ReadLimits, arriving?: ArrivingBytes): EdgeListReadResult {
+  let avail = bytes.length;
+  if (arriving) {
+    if (fileName.toLowerCase().endsWith('.gz')) throw new Error('a compressed file cannot be read while it arrives');
+    avail = 0;
+    while (avail < Math.min(bytes.length, SNIFF_PREFIX)) avail = arriving.waitBeyond(avail);
+  }
+  let b: Uint8Array;
+  if (arriving) {
+    textBytes(bytes.subarray(0, avail), fileName, limits); // the text checks, on the first bytes
+    b = bytes;
+  } else {
+    b = textBytes(bytes, fileName, limits);
+    avail = b.length;
+  }
   const n = b.length;
   const first = bomLength(b);
-  const layout = sniffLayout(b, first);
+  let layout = sniffLayout(b.subarray(0, avail), first);
+  if (layout.scanned >= avail && avail < n) {
+    // The first lines run past the prefix (long comments or lines): sniff on the whole file.
+    while (avail < n) avail = arriving!.waitBeyond(avail);
+    layout = sniffLayout(b, first);
+  }
   const C = layout.fieldCount;
   const nw = C > 2 ? 1 : 0;
   const na = C > 3 ? C - 3 : 0;
@@ -129,13 +161,30 @@ export function readEdgeList(bytes: Uint8Array, fileName: string, limits: ReadLi
   // Lines that start at or before the last LF are scanned without bounds checks: every scan
   // stops at that line's LF at the latest. The fast path takes plain `int<sep>int[<sep>num…]`
   // lines with exactly the expected fields; anything else goes through the general path.
-  let lastLF = n - 1;
+  let lastLF = avail - 1;
   while (lastLF >= first && b[lastLF] !== LF) lastLF--;
   const fastOk = !dict;
+
+  // Two plain non-negative columns (the most common file): whole runs of such lines go through
+  // a small function that V8 optimises on its own (about 1.4x the general loop's speed).
+  const pairsOnly = fastOk && C === 2;
 
   let pos = first;
   let line = 0;
   while (pos < n) {
+    while (pos > lastLF && avail < n) {
+      // Wait for the rest of this line (and whatever else has arrived).
+      const had = avail;
+      avail = arriving!.waitBeyond(avail);
+      for (let k = avail - 1; k >= had; k--) if (b[k] === LF) { lastLF = k; break; }
+    }
+    if (pairsOnly && pos <= lastLF && E < cap) {
+      const before = E;
+      E = plainPairs(b, pos, lastLF, delim, headerAt, ids, cap, offs, E);
+      line += E - before;
+      pos = pairsPos;
+      if (pos >= n) break;
+    }
     line++;
     const lineStart = pos;
     let i = pos;
@@ -317,6 +366,53 @@ export function readEdgeList(bytes: Uint8Array, fileName: string, limits: ReadLi
   };
   if (layout.columns) result.columns = layout.columns;
   return result;
+}
+
+/** Where `plainPairs` stopped: the start of the first line it did not take. */
+let pairsPos = 0;
+
+/**
+ * Reads consecutive lines of the form `u<sep>v` (non-negative ids of at most 9 digits, optional
+ * trailing blanks/CR) from `pos`, which must start a line at or before `lastLF`, into slot E
+ * onwards; stops at the first other line (left to the general loop), at `lastLF`, or when `cap`
+ * slots are full. Returns the new edge count; `pairsPos` is where it stopped.
+ */
+function plainPairs(b: Uint8Array, pos: number, lastLF: number, delim: number, headerAt: number,
+  ids: Int32Array, cap: number, offs: Uint32Array, E: number): number {
+  while (pos <= lastLF && E < cap && pos !== headerAt) {
+    let j = pos;
+    let c = b[j]!;
+    let d = c - 48;
+    if (d < 0 || d > 9) break;
+    let u = 0;
+    const s0 = j;
+    do { u = u * 10 + d; c = b[++j]!; d = c - 48; } while (d >= 0 && d <= 9);
+    if (j - s0 > 9) break;
+    if (delim === 0) {
+      if (c !== SPACE && c !== TAB) break;
+      do c = b[++j]!; while (c === SPACE || c === TAB);
+    } else {
+      while (c === SPACE) c = b[++j]!;
+      if (c !== delim) break;
+      c = b[++j]!;
+      while (c === SPACE) c = b[++j]!;
+    }
+    d = c - 48;
+    if (d < 0 || d > 9) break;
+    let v = 0;
+    const s1 = j;
+    do { v = v * 10 + d; c = b[++j]!; d = c - 48; } while (d >= 0 && d <= 9);
+    if (j - s1 > 9) break;
+    while (c === SPACE || c === TAB || c === CR) c = b[++j]!;
+    if (c !== LF) break;
+    ids[E] = u;
+    ids[cap + E] = v;
+    offs[E] = pos;
+    E++;
+    pos = j + 1;
+  }
+  pairsPos = pos;
+  return E;
 }
 
 /** Turns parse failures into problems; builds locations only while they are still kept. */
@@ -525,7 +621,7 @@ function sniffLayout(b: Uint8Array, first: number): Layout {
       if (names) columns = fieldTexts(b, sp).slice(0, fieldCount);
     }
   }
-  return { delim, delimiter, fieldCount, headerAt, columns, dict, trailingEmpty, bytesPerLine };
+  return { delim, delimiter, fieldCount, headerAt, columns, dict, trailingEmpty, bytesPerLine, scanned: pos };
 }
 
 function isNumeric(b: Uint8Array, s: number, e: number): boolean {

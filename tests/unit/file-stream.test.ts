@@ -1,0 +1,85 @@
+// Text edge lists parsed while the helper thread reads them (node/file-stream.ts) must give
+// exactly what the whole-file read gives: tensors, problems with their lines and columns, and
+// locations. The fixtures in tests/fixtures/text were written by NumPy/NetworkX/pandas-style tools
+// (tests/fixtures/make_text_fixtures.py); the large files below are generated here to cross the
+// 4 MiB chunk and sniffing boundaries, and only compare the two paths with each other.
+import * as fs from 'node:fs';
+import * as os from 'node:os';
+import * as path from 'node:path';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { readEdgeList } from '../../server/src/core/formats/edgelist';
+import { DEFAULT_LIMITS, UnreadableError, type DenseTensor } from '../../server/src/core/formats/types';
+import { readArriving } from '../../server/src/node/file-stream';
+import { setHelperScript } from '../../server/src/node/helper-thread';
+
+const dir = path.join(__dirname, '../fixtures/text');
+let tmp = '';
+
+beforeAll(() => {
+  setHelperScript(path.join(__dirname, '../../dist/helper.js'));
+  tmp = fs.mkdtempSync(path.join(os.tmpdir(), 'hopscope-stream-'));
+});
+afterAll(() => fs.rmSync(tmp, { recursive: true, force: true }));
+
+/** Everything a caller can observe of a read, in comparable form. */
+function observe(r: ReturnType<typeof readEdgeList>) {
+  return {
+    delimiter: r.delimiter, columns: r.columns, problems: r.problems,
+    tensors: r.tensors.map((t) => {
+      const d = t as DenseTensor;
+      const n = d.shape[0] === 2 ? d.shape[1]! : d.shape[0]!;
+      const picks = [0, 1, 2, Math.floor(n / 2), n - 1].filter((k) => k >= 0 && k < n);
+      return {
+        name: d.name, dtype: d.dtype, shape: d.shape, data: Array.from(d.data as ArrayLike<number>),
+        spans: picks.map((k) => d.locator?.locate(k)),
+      };
+    }),
+  };
+}
+
+function both(p: string) {
+  const whole = readEdgeList(new Uint8Array(fs.readFileSync(p)), p, DEFAULT_LIMITS);
+  const a = readArriving(p, fs.statSync(p).size, 0);
+  expect(a).not.toBeNull();
+  const streamed = readEdgeList(a!.bytes, p, DEFAULT_LIMITS, a!.arriving);
+  return { whole, streamed };
+}
+
+describe('edge lists read while they arrive', () => {
+  const files = fs.readdirSync(dir).filter((f) => /\.(txt|edges|el|csv|tsv)$/.test(f));
+  it('covers the text fixtures', () => expect(files.length).toBeGreaterThan(8));
+  for (const f of files) {
+    it(f, () => {
+      const { whole, streamed } = both(path.join(dir, f));
+      expect(observe(streamed)).toEqual(observe(whole));
+    });
+  }
+
+  it('large files: lines across 4 MiB chunks, odd lines late in the file, 5 MB of comments first', () => {
+    const body: string[] = [];
+    for (let i = 0; i < 700_000; i++) body.push(`${(i * 7919) % 500_000} ${(i * 104729) % 500_000}`);
+    body[400_000] = '12 -3';          // negative id: general path
+    body[500_000] = '   7\t8  ';      // blanks around the ids
+    body[600_000] = '9 x';            // not an integer: a problem with line and column
+    const plain = path.join(tmp, 'big.txt');
+    fs.writeFileSync(plain, body.join('\n')); // no final LF
+    const a = both(plain);
+    expect(fs.statSync(plain).size).toBeGreaterThan(8 * 1024 ** 2);
+    expect(observe(a.streamed)).toEqual(observe(a.whole));
+    expect(a.whole.problems.length).toBeGreaterThan(0);
+
+    const commented = path.join(tmp, 'commented.csv');
+    const comments = '# note about the docks\n'.repeat(230_000); // about 5 MB before the first edge
+    fs.writeFileSync(commented, comments + 'src,dst\n' + body.slice(0, 50_000).map((l) => l.trim().replace(/\s+/, ',')).join('\n') + '\n');
+    const c = both(commented);
+    expect(c.whole.columns).toEqual(['src', 'dst']);
+    expect(observe(c.streamed)).toEqual(observe(c.whole));
+  });
+
+  it('a file shorter than announced is unreadable, not parsed from zeros', () => {
+    const p = path.join(tmp, 'short.txt');
+    fs.writeFileSync(p, '0 1\n1 2\n2 0\n');
+    const a = readArriving(p, 64 * 1024, 0)!;
+    expect(() => readEdgeList(a.bytes, p, DEFAULT_LIMITS, a.arriving)).toThrow(UnreadableError);
+  });
+});
