@@ -13,7 +13,7 @@
 import { describe, expect, it } from 'vitest';
 import fc from 'fast-check';
 import { expected, fixture, fromPairs } from './structure-fixtures';
-import { edgeCurvature, mostNegativeFirst, type EdgeCurvature } from '../../server/src/core/graph/curvature';
+import { edgeCurvature, lowestBalancedForman, mostNegativeFirst, type EdgeCurvature } from '../../server/src/core/graph/curvature';
 import { AnalysisCancelled } from '../../server/src/core/graph/undirected';
 
 const EPS = 12; // digits for toBeCloseTo: exact fractions up to float rounding
@@ -264,5 +264,47 @@ describe('property (fast-check): the fast 4-cycle count equals the set-based rea
         expect(c.balancedForman[e]).toBeCloseTo(naiveBalancedForman(adj, c.u[e]!, c.v[e]!), 12);
       }
     }), { numRuns: 300 });
+  });
+});
+
+describe('top list without computing every edge (lowestBalancedForman)', () => {
+  // The bounded search must list exactly what sorting the full computation lists; the full
+  // computation is itself held to REFERENCES.md §6 above. Forced onto the bounded path.
+  it('equals the first T of mostNegativeFirst on fixture graphs and random clustered graphs', () => {
+    const graphs = ['karate', 'les_miserables'].map((name) => fixture(name).g);
+    let seed = 9;
+    const rnd = (m: number) => { seed = (Math.imul(seed, 1103515245) + 12345) >>> 0; return Math.floor((seed / 2 ** 32) * m); };
+    for (const n of [300, 3000]) {
+      const pairs: [number, number][] = [];
+      for (let k = 0; k < 6 * n; k++) {
+        const a = rnd(n);
+        // Mostly short-range edges (triangles and 4-cycles), some long ones (negative curvature).
+        pairs.push([a, k % 5 === 0 ? rnd(n) : (a + 1 + rnd(6)) % n]);
+      }
+      graphs.push(fromPairs(n, pairs));
+    }
+    for (const g of graphs) {
+      const full = edgeCurvature(g);
+      const want = mostNegativeFirst(full);
+      for (const top of [1, 5, 40]) {
+        const r = lowestBalancedForman(g, top, { fullBelow: 0 });
+        expect(Array.from(r.order)).toEqual(Array.from(want.subarray(0, Math.min(top, full.m))));
+        for (const e of r.order) expect(r.curvature.balancedForman[e]).toBe(full.balancedForman[e]);
+        expect(r.computed).toBeLessThanOrEqual(full.m);
+      }
+    }
+  });
+
+  it('computes only a part of a large sparse graph', () => {
+    let seed = 3;
+    const rnd = (m: number) => { seed = (Math.imul(seed, 1103515245) + 12345) >>> 0; return Math.floor((seed / 2 ** 32) * m); };
+    const n = 40_000;
+    const pairs: [number, number][] = [];
+    for (let k = 0; k < 5 * n; k++) pairs.push([rnd(n), rnd(n)]);
+    const g = fromPairs(n, pairs);
+    const r = lowestBalancedForman(g, 20, { fullBelow: 0 });
+    const full = edgeCurvature(g);
+    expect(Array.from(r.order)).toEqual(Array.from(mostNegativeFirst(full).subarray(0, 20)));
+    expect(r.computed).toBeLessThan(full.m / 4);
   });
 });

@@ -6,7 +6,7 @@ import type { CliIo, Command } from './types';
 import { UsageError } from './types';
 import { guarded, loadUndirected, optionalWhole, parseArgs, plural, styler } from './structure-args';
 import { findBridges } from '../core/graph/bridges';
-import { edgeCurvature, mostNegativeFirst } from '../core/graph/curvature';
+import { lowestBalancedForman } from '../core/graph/curvature';
 
 const DEFAULT_TOP = 20;
 
@@ -34,6 +34,10 @@ JSON: { "bridges": [[u, v], ...], "bridgeCount", "edges": [{ "u", "v", "formanCu
 "balancedFormanCurvature", "triangles", "bridge" }], "summary" }. "bridges" lists every bridge
 as a [u, v] pair (u < v); "edges" holds the T edges of lowest balanced Forman curvature, most
 negative first; "summary" gives the edge count and the minimum, maximum and mean curvatures.
+Above 200,000 edges balanced Forman curvature is computed only on the edges that can rank among
+the T listed (a lower bound from degrees and triangles rules the others out), so the list and the
+minimum stay exact while "balancedFormanMax"/"balancedFormanMean" are null;
+"balancedFormanComputed" says on how many edges it was computed.
 
 Exit codes: 0 = done; 2 = usage error or the file could not be read.`;
 
@@ -45,8 +49,8 @@ function run(argv: string[], io: CliIo): number {
     const file = args.files[0]!;
     const { g, base } = loadUndirected(file, args.options, 'bottlenecks', io);
     const br = findBridges(g);
-    const curv = edgeCurvature(g);
-    const order = mostNegativeFirst(curv, 'balancedForman');
+    const { curvature: curv, order, computed } = lowestBalancedForman(g, top);
+    const complete = computed === curv.m;
     const bridgeKeys = new Set<number>();
     for (let k = 0; k < br.count; k++) bridgeKeys.add(br.u[k]! * g.n + br.v[k]!);
     const isBridge = (e: number) => bridgeKeys.has(curv.u[e]! * g.n + curv.v[e]!);
@@ -57,16 +61,21 @@ function run(argv: string[], io: CliIo): number {
       if (f < fMin) fMin = f;
       if (f > fMax) fMax = f;
       fSum += f;
+      if (b !== b) continue; // not computed (large graphs: only what the top list needs)
       if (b < bMin) bMin = b;
       if (b > bMax) bMax = b;
       bSum += b;
     }
+    // On large graphs balanced Forman curvature is computed only as far as the top list needs it
+    // (exact for those edges); its minimum is then still exact, its maximum and mean unknown.
     const summary = curv.m === 0 ? { edges: 0 } : {
       edges: curv.m,
       formanMin: fMin, formanMax: fMax, formanMean: fSum / curv.m,
-      balancedFormanMin: bMin, balancedFormanMax: bMax, balancedFormanMean: bSum / curv.m,
+      balancedFormanMin: order.length ? curv.balancedForman[order[0]!]! : bMin,
+      balancedFormanMax: complete ? bMax : null, balancedFormanMean: complete ? bSum / curv.m : null,
+      balancedFormanComputed: computed,
     };
-    const shown = Array.from(order.subarray(0, Math.min(top, curv.m)));
+    const shown = Array.from(order);
 
     if (args.switches.has('--json')) {
       const out = {
@@ -106,10 +115,12 @@ function run(argv: string[], io: CliIo): number {
         const mark = isBridge(e) ? c(33, '  bridge') : '';
         lines.push(`  ${label}   ${b < 0 ? c(31, bs) : bs}   ${String(curv.forman[e]).padStart(6)}   ${String(curv.triangles[e]).padStart(9)}${mark}`);
       }
-      const s = summary as { balancedFormanMean: number; formanMean: number; balancedFormanMin: number; balancedFormanMax: number };
+      const s = summary as { balancedFormanMean: number | null; formanMean: number; balancedFormanMin: number; balancedFormanMax: number | null };
       lines.push('');
-      lines.push(c(2, `  balanced Forman: min ${s.balancedFormanMin.toFixed(4)}, max ${s.balancedFormanMax.toFixed(4)}, mean ${s.balancedFormanMean.toFixed(4)};` +
-        ` Forman: min ${fMin}, max ${fMax}, mean ${s.formanMean.toFixed(3)}`));
+      const bf = complete
+        ? `balanced Forman: min ${s.balancedFormanMin.toFixed(4)}, max ${s.balancedFormanMax!.toFixed(4)}, mean ${s.balancedFormanMean!.toFixed(4)}`
+        : `balanced Forman: min ${s.balancedFormanMin.toFixed(4)} (computed on the ${plural(computed, 'edge')} that could rank in the list)`;
+      lines.push(c(2, `  ${bf}; Forman: min ${fMin}, max ${fMax}, mean ${s.formanMean.toFixed(3)}`));
     }
     io.out(lines.join('\n') + '\n');
     return 0;
