@@ -7,49 +7,30 @@
  * (REFERENCES.md §5); karate curvature and the bridge (0, 11) (REFERENCES.md §6).
  */
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { spawn, type ChildProcess } from 'node:child_process';
 import * as fs from 'node:fs';
 import * as os from 'node:os';
 import * as path from 'node:path';
-import { createMessageConnection, ResponseError, StreamMessageReader, StreamMessageWriter, type MessageConnection } from 'vscode-jsonrpc/node';
+import { ResponseError, type MessageConnection } from 'vscode-jsonrpc/node';
 import { URI } from 'vscode-uri';
 import type { BottlenecksPayload, FieldViewPayload, SmoothingPayload, WlClassesPayload } from '../../server/src/protocol';
 
-const root = path.join(__dirname, '../..');
+import { ROOT as root, startServer, stopServer, type ServerSession } from './lsp-client';
+
 const expected = JSON.parse(fs.readFileSync(path.join(root, 'tests/fixtures/analysis/expected.json'), 'utf8'));
 let ws: string;
-let child: ChildProcess;
+let session: ServerSession | undefined;
 let conn: MessageConnection;
 const uri = (rel: string) => URI.file(path.join(ws, rel)).toString();
 
 beforeAll(async () => {
-  const server = path.join(root, 'dist/server.js');
-  if (!fs.existsSync(server)) throw new Error('dist/server.js missing: run npm run build (npm test does)');
   ws = fs.mkdtempSync(path.join(os.tmpdir(), 'hopscope-panel-lsp-'));
   fs.cpSync(path.join(root, 'tests/fixtures/analysis/karate'), path.join(ws, 'karate'), { recursive: true });
   fs.writeFileSync(path.join(ws, 'train.py'), 'import numpy as np\nedges = np.load("karate/edge_index.npy")\nx = np.load("karate/x.npy")\n');
-  child = spawn(process.execPath, [server, '--stdio'], { stdio: ['pipe', 'pipe', 'inherit'] });
-  child.stdin!.on('error', () => { /* the server may exit before the last write */ });
-  conn = createMessageConnection(new StreamMessageReader(child.stdout!), new StreamMessageWriter(child.stdin!));
-  conn.onNotification('textDocument/publishDiagnostics', () => {});
-  conn.onNotification('hopscope/status', () => {});
-  conn.onRequest('workspace/configuration', () => [null, null]);
-  conn.onRequest('client/registerCapability', () => null);
-  conn.onRequest('window/workDoneProgress/create', () => null);
-  conn.listen();
-  await conn.sendRequest('initialize', {
-    processId: process.pid, rootUri: URI.file(ws).toString(), workspaceFolders: [{ uri: URI.file(ws).toString(), name: 'karate' }],
-    capabilities: { workspace: { configuration: true }, window: { workDoneProgress: true } },
-  });
-  await conn.sendNotification('initialized', {});
+  session = await startServer(ws, 'karate');
+  conn = session.conn;
 }, 90_000);
 
-afterAll(async () => {
-  try { await conn.sendRequest('shutdown'); } catch { /* already gone */ }
-  child?.kill();
-  conn?.dispose();
-  fs.rmSync(ws, { recursive: true, force: true });
-});
+afterAll(() => stopServer(session, ws));
 
 describe('panel requests over stdio', () => {
   it('hopscope/field: node 0, two layers', async () => {

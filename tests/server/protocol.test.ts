@@ -4,16 +4,16 @@
  * changes. Expected line numbers are those listed in demo/README.md.
  */
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { spawn, type ChildProcess } from 'node:child_process';
 import * as fs from 'node:fs';
 import * as os from 'node:os';
 import * as path from 'node:path';
-import { createMessageConnection, StreamMessageReader, StreamMessageWriter, type MessageConnection } from 'vscode-jsonrpc/node';
+import type { MessageConnection } from 'vscode-jsonrpc/node';
 import { URI } from 'vscode-uri';
 
-const root = path.join(__dirname, '../..');
+import { ROOT as root, startServer, stopServer, type ServerSession } from './lsp-client';
+
 let ws: string;
-let child: ChildProcess;
+let session: ServerSession | undefined;
 let conn: MessageConnection;
 const diagnostics = new Map<string, Array<{ code: string; severity: number; range: { start: { line: number; character: number }; end: { line: number; character: number } }; message: string; codeDescription?: { href: string }; relatedInformation?: unknown[] }>>();
 const waiters: Array<() => void> = [];
@@ -30,36 +30,20 @@ const uri = (rel: string) => URI.file(path.join(ws, rel)).toString();
 const diags = (rel: string) => diagnostics.get(uri(rel)) ?? [];
 
 beforeAll(async () => {
-  const server = path.join(root, 'dist/server.js');
-  if (!fs.existsSync(server)) throw new Error('dist/server.js missing: run npm run build (npm test does)');
   ws = fs.mkdtempSync(path.join(os.tmpdir(), 'hopscope-lsp-'));
   fs.cpSync(path.join(root, 'demo'), ws, { recursive: true });
-  child = spawn(process.execPath, [server, '--stdio'], { stdio: ['pipe', 'pipe', 'inherit'] });
-  child.stdin!.on('error', () => { /* the server may exit before the last write */ });
-  conn = createMessageConnection(new StreamMessageReader(child.stdout!), new StreamMessageWriter(child.stdin!));
-  conn.onNotification('textDocument/publishDiagnostics', (p: { uri: string; diagnostics: never[] }) => {
-    diagnostics.set(p.uri, p.diagnostics);
-    waiters.forEach((w) => w());
-  });
-  conn.onNotification('hopscope/status', (s: { filesChecked: number; busy: boolean; errors: number }) => { statuses.push(s); waiters.forEach((w) => w()); });
-  conn.onRequest('workspace/configuration', () => [null, null]);
-  conn.onRequest('client/registerCapability', () => null);
-  conn.onRequest('window/workDoneProgress/create', () => null);
-  conn.listen();
-  await conn.sendRequest('initialize', {
-    processId: process.pid, rootUri: URI.file(ws).toString(), workspaceFolders: [{ uri: URI.file(ws).toString(), name: 'demo' }],
-    capabilities: { textDocument: { publishDiagnostics: { relatedInformation: true } }, workspace: { configuration: true }, window: { workDoneProgress: true } },
-  });
-  await conn.sendNotification('initialized', {});
+  session = await startServer(ws, 'demo', (c) => {
+    c.onNotification('textDocument/publishDiagnostics', (p: { uri: string; diagnostics: never[] }) => {
+      diagnostics.set(p.uri, p.diagnostics);
+      waiters.forEach((w) => w());
+    });
+    c.onNotification('hopscope/status', (s: { filesChecked: number; busy: boolean; errors: number }) => { statuses.push(s); waiters.forEach((w) => w()); });
+  }, { textDocument: { publishDiagnostics: { relatedInformation: true } } });
+  conn = session.conn;
   await waitFor(() => statuses.some((s) => !s.busy && s.filesChecked >= 17), 60_000);
 }, 90_000);
 
-afterAll(async () => {
-  try { await conn.sendRequest('shutdown'); } catch { /* already gone */ }
-  child?.kill();
-  conn?.dispose();
-  fs.rmSync(ws, { recursive: true, force: true });
-});
+afterAll(() => stopServer(session, ws));
 
 describe('language server over stdio', () => {
   it('checks the whole workspace at start-up, binary files included', () => {

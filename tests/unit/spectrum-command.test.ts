@@ -143,7 +143,7 @@ describe('hopscope spectrum', () => {
     const cases: [string, string[], RegExp][] = [
       ['no --k', [KARATE], /--k is required/],
       ['--k 0', [KARATE, '--k', '0'], /--k must be between 1/],
-      ['--k not a number', [KARATE, '--k', 'three'], /--k must be a whole number/],
+      ['--k not a number', [KARATE, '--k', 'three'], /--k must be a non-negative whole number/],
       ['--k above N', [KARATE, '--k', '35'], /--k 35 is more than the 34 nodes/],
       ['--k without value', [KARATE, '--k'], /--k needs a value/],
       ['bad --laplacian', [KARATE, '--k', '2', '--laplacian', 'random-walk'], /--laplacian must be combinatorial or normalized/],

@@ -5,6 +5,7 @@
  */
 import type { CliIo, Command } from './types';
 import { UsageError } from './types';
+import { optionalWhole, parseArgs, wholeNumber } from './structure-args';
 import { GraphLoadError, loadGraph, type LoadedGraph } from '../node/graph-input';
 import type { CheckSetOptions } from '../core/checks/check-set';
 import { FieldWalker, coverageCurve, type Flow } from '../core/graph/field';
@@ -56,68 +57,25 @@ interface FieldArgs {
   options: CheckSetOptions;
 }
 
-function wholeNumber(flag: string, v: string, max?: number): number {
-  if (!/^\d+$/.test(v)) throw new UsageError(`${flag} must be a non-negative whole number, got "${v}"`);
-  const x = Number(v);
-  if (!Number.isSafeInteger(x) || (max !== undefined && x > max)) {
-    throw new UsageError(`${flag} must be at most ${max ?? Number.MAX_SAFE_INTEGER}, got ${v}`);
-  }
-  return x;
-}
-
-function parseArgs(argv: string[]): FieldArgs {
-  const files: string[] = [];
-  let node: number | undefined, layers: number | undefined, flow: Flow | undefined, top: number | undefined;
-  let symmetrise = false, randomWalk = false, curve = false, json = false;
-  const options: CheckSetOptions = {};
-  for (let i = 0; i < argv.length; i++) {
-    const arg = argv[i]!;
-    const eq = arg.startsWith('--') ? arg.indexOf('=') : -1;
-    const flag = eq > 0 ? arg.slice(0, eq) : arg;
-    const take = (): string => {
-      if (eq > 0) return arg.slice(eq + 1);
-      const v = argv[i + 1];
-      if (v === undefined || (v.startsWith('-') && !/^-\d/.test(v))) throw new UsageError(`${flag} needs a value`);
-      i++;
-      return v;
-    };
-    switch (flag) {
-      case '--node': {
-        const v = take();
-        if (/^-\d/.test(v)) throw new UsageError(`--node must be a node id (0 or more), got "${v}"`);
-        node = wholeNumber('--node', v);
-        break;
-      }
-      case '--layers': layers = wholeNumber('--layers', take(), MAX_LAYERS); break;
-      case '--top': top = wholeNumber('--top', take()); break;
-      case '--flow': {
-        const v = take();
-        if (v !== 'source-to-target' && v !== 'target-to-source') throw new UsageError(`--flow must be source-to-target or target-to-source, got "${v}"`);
-        flow = v;
-        break;
-      }
-      case '--symmetrise': case '--symmetrize': symmetrise = true; break;
-      case '--random-walk': randomWalk = true; break;
-      case '--curve': curve = true; break;
-      case '--json': json = true; break;
-      case '--num-nodes': options.nodes = wholeNumber('--num-nodes', take()); break;
-      case '--index-base': {
-        const v = take();
-        if (v !== '0' && v !== '1') throw new UsageError(`--index-base must be 0 or 1, got "${v}"`);
-        options.indexBase = v === '1' ? 1 : 0;
-        break;
-      }
-      default:
-        if (arg.startsWith('-') && arg !== '-') throw new UsageError(`unknown option ${arg}`);
-        files.push(arg);
-    }
-  }
-  if (files.length === 0) throw new UsageError('no FILE given');
-  if (files.length > 1) throw new UsageError(`one FILE at a time, got ${files.length}: ${files.join(' ')}`);
-  if (node === undefined) throw new UsageError('--node is required');
+function parseFieldArgs(argv: string[]): FieldArgs {
+  const a = parseArgs(argv, ['--node', '--layers', '--top', '--flow'], ['--symmetrise', '--symmetrize', '--random-walk', '--curve', '--json']);
+  if (a.files.length === 0) throw new UsageError('no FILE given');
+  if (a.files.length > 1) throw new UsageError(`one FILE at a time, got ${a.files.length}: ${a.files.join(' ')}`);
+  const nodeText = a.values.get('--node');
+  if (nodeText === undefined) throw new UsageError('--node is required');
+  if (/^-\d/.test(nodeText)) throw new UsageError(`--node must be a node id (0 or more), got "${nodeText}"`);
+  const node = wholeNumber('--node', nodeText);
+  const layers = optionalWhole(a, '--layers', 0, MAX_LAYERS);
   if (layers === undefined) throw new UsageError('--layers is required');
+  const top = optionalWhole(a, '--top');
+  const flow = a.values.get('--flow');
+  if (flow !== undefined && flow !== 'source-to-target' && flow !== 'target-to-source') {
+    throw new UsageError(`--flow must be source-to-target or target-to-source, got "${flow}"`);
+  }
+  const on = (f: string) => a.switches.has(f);
   return {
-    file: files[0]!, node, layers, symmetrise, randomWalk, curve, json, options,
+    file: a.files[0]!, node, layers, options: a.options,
+    symmetrise: on('--symmetrise') || on('--symmetrize'), randomWalk: on('--random-walk'), curve: on('--curve'), json: on('--json'),
     ...(flow ? { flow } : {}), ...(top !== undefined ? { top } : {}),
   };
 }
@@ -125,7 +83,7 @@ function parseArgs(argv: string[]): FieldArgs {
 function run(argv: string[], io: CliIo): number {
   let args: FieldArgs;
   try {
-    args = parseArgs(argv);
+    args = parseFieldArgs(argv);
   } catch (e) {
     if (e instanceof UsageError) { io.err(`hopscope field: ${e.message}\n\n${USAGE}\n`); return 2; }
     throw e;

@@ -1,5 +1,5 @@
 /**
- * Shared bits of the structure commands (`wl`, `compare`, `bottlenecks`): argument parsing,
+ * Shared bits of the analysis commands (`field`, `wl`, `compare`, `bottlenecks`, `spectrum`): argument parsing,
  * loading a graph into its undirected view, and exit-code handling.
  */
 import type { CliIo } from './types';
@@ -56,10 +56,10 @@ export function parseArgs(argv: string[], valueFlags: readonly string[], switchF
 }
 
 export function wholeNumber(flag: string, v: string, min = 0, max = Number.MAX_SAFE_INTEGER): number {
-  if (!/^\d+$/.test(v)) throw new UsageError(`${flag} must be a whole number, got "${v}"`);
+  if (!/^\d+$/.test(v)) throw new UsageError(`${flag} must be a non-negative whole number, got "${v}"`);
   const x = Number(v);
   if (!Number.isSafeInteger(x) || x < min || x > max) {
-    throw new UsageError(`${flag} must be between ${min} and ${max}, got ${v}`);
+    throw new UsageError(min === 0 ? `${flag} must be at most ${max}, got ${v}` : `${flag} must be between ${min} and ${max}, got ${v}`);
   }
   return x;
 }
