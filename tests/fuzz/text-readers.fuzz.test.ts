@@ -150,3 +150,31 @@ describe('text readers under random input', () => {
     );
   });
 });
+
+describe('node-link JSON under random content', () => {
+  it('random ids, attributes and links → tensors of the right sizes, located links, only UnreadableError', () => {
+    const id = fc.oneof(fc.integer({ min: -3, max: 20 }), fc.string({ maxLength: 4 }), fc.constant(null), fc.boolean());
+    const attrs = fc.dictionary(fc.constantFrom('x', 'y', 'weight', 'train_mask', 'club'), fc.jsonValue({ maxDepth: 2 }), { maxKeys: 3 });
+    const doc = fc.record({
+      directed: fc.boolean(),
+      nodes: fc.array(fc.tuple(id, attrs).map(([i, a]) => ({ ...a, id: i })), { maxLength: 12 }),
+      links: fc.array(fc.tuple(id, id, attrs).map(([s, t, a]) => ({ ...a, source: s, target: t })), { minLength: 1, maxLength: 20 }),
+    });
+    fc.assert(
+      fc.property(doc, fc.boolean(), (d, indent) => {
+        const bytes = enc.encode(JSON.stringify(d, null, indent ? 1 : 0));
+        let r: ReadResult;
+        try {
+          r = readJson(bytes, 'fuzz.json', LIMITS);
+        } catch (e) {
+          if (e instanceof UnreadableError) return;
+          throw e;
+        }
+        checkResult(r);
+        const ei = r.tensors.find((t) => t.name === 'edge_index');
+        expect(ei).toBeDefined();
+      }),
+      { numRuns: 400 },
+    );
+  });
+});

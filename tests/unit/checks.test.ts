@@ -199,3 +199,23 @@ function npyF32(shape: number[], values: number[]): Uint8Array {
   new Float32Array(out.buffer, 10 + header.length).set(values);
   return out;
 }
+
+describe('node-link JSON through the checks (figures from NetworkX 2.8, tests/fixtures/text/expected.json)', () => {
+  const textDir = path.join(__dirname, '../fixtures/text');
+  const exp = JSON.parse(fs.readFileSync(path.join(textDir, 'expected.json'), 'utf8'));
+
+  it('karate_nodelink.json: 34 nodes, 78 undirected edges as 156 entries, one component, nothing to report', () => {
+    const f = checkPaths([path.join(textDir, 'karate_nodelink.json')]).files[0]!;
+    const e = exp['karate_nodelink.json'];
+    expect(f.graph).toMatchObject({ nodes: e.nodes, edges: 2 * e.edges, directed: false, asymmetricPairs: 0, components: e.components });
+    expect(f.problems).toEqual([]);
+  });
+
+  it('docks_nodelink.json: the missing node, the self-loop and the weak components', () => {
+    const f = checkPaths([path.join(textDir, 'docks_nodelink.json')]).files[0]!;
+    const e = exp['docks_nodelink.json'];
+    expect(f.graph).toMatchObject({ nodes: e.nodes, edges: e.edges, selfLoops: e.selfLoops, components: e.weakComponents });
+    expect(f.problems.map((p) => p.code).sort()).toEqual(['index-out-of-range', 'isolated-nodes', 'self-loops']);
+    expect(f.tensors.map((t) => `${t.name}:${t.role}`)).toEqual(['edge_index:edge-index', 'edge_weight:edge-weight', 'x:features', 'y:labels', 'train_mask:mask']);
+  });
+});

@@ -182,3 +182,59 @@ describe('hostile shapes', () => {
     expect(r.tensors).toEqual([]);
   });
 });
+
+// Node-link JSON written by NetworkX 2.8's json_graph.node_link_data (make_text_fixtures.py);
+// node counts, edge counts, self-loops and components in expected.json are NetworkX's own.
+describe('node-link JSON (NetworkX node_link_data)', () => {
+  it('reads an undirected graph as both directions with its link weights (karate_nodelink.json)', () => {
+    const exp = expected['karate_nodelink.json'];
+    const r = read(fixture('karate_nodelink.json'));
+    expect(exp.directed).toBe(false);
+    expect(r.hints).toEqual({ nodes: exp.nodes, directed: false });
+    const ei = dense(r, 'edge_index');
+    expect(ei.declaredRole).toBe('edge-index');
+    expect(ei.shape).toEqual([2, 2 * exp.edges - exp.selfLoops]); // 156 = 2 · 78 (REFERENCES.md §2.1)
+    const got = pairs(ei);
+    const want = (exp.links as number[][]).flatMap(([u, v]) => (u === v ? [[u, v]] : [[u, v], [v, u]]));
+    expect(got).toEqual(want);
+    const w = dense(r, 'edge_weight');
+    expect(Array.from(w.data)).toEqual((exp.weights as number[]).flatMap((x) => [x, x]));
+    // `club` holds strings: not a tensor.
+    expect(r.tensors.map((t) => t.name)).toEqual(['edge_index', 'edge_weight']);
+    // The target of link 3 (stored), and its reverse entry pointing back at the same token.
+    const s = ei.locator!.locate(156 + 6)!;
+    const text = new TextDecoder().decode(fixture('karate_nodelink.json'));
+    const at = text.split('\n')[s.line - 1]!.slice(s.column - 1, s.column - 1 + s.length);
+    expect(Number(at)).toBe(exp.links[3][1]);
+    expect(ei.locator!.locate(7)).toEqual(s); // entry 7 = reverse of link 3: its source is link 3's target
+  });
+
+  it('maps string ids to node order, reads per-node tensors and reports a link to a missing node (docks_nodelink.json)', () => {
+    const exp = expected['docks_nodelink.json'];
+    const r = read(fixture('docks_nodelink.json'));
+    expect(r.hints).toEqual({ nodes: exp.nodes, directed: true });
+    const ei = dense(r, 'edge_index');
+    expect(pairs(ei)).toEqual((exp.links as string[][]).map(([a, b]) => [exp.index[a!], exp.index[b!]]));
+    expect(Array.from(dense(r, 'edge_weight').data)).toEqual(exp.weights);
+    const x = dense(r, 'x');
+    expect(x.shape).toEqual([exp.nodes, 2]);
+    expect(x.dtype).toBe('float64');
+    expect(Array.from(x.data)).toEqual(exp.x.flat());
+    expect(dense(r, 'y').dtype).toBe('int64');
+    expect(Array.from(dense(r, 'y').data)).toEqual(exp.y);
+    expect(dense(r, 'train_mask').dtype).toBe('bool');
+    expect(Array.from(dense(r, 'train_mask').data)).toEqual(exp.train_mask.map((b: boolean) => (b ? 1 : 0)));
+    expect(r.problems).toHaveLength(1);
+    const p = r.problems[0]!;
+    expect(p.code).toBe('index-out-of-range');
+    expect(p.message).toContain('"dock-z"');
+    expect({ line: p.line, column: p.column, length: p.locations![0]!.length }).toEqual(exp.missing);
+  });
+
+  it('the "edges" key of newer NetworkX, numeric and string ids kept apart, and a non-node-link object left alone', () => {
+    const r = readText('{"directed": true, "nodes": [{"id": 1}, {"id": "1"}], "edges": [{"source": 1, "target": "1"}]}');
+    expect(pairs(dense(r, 'edge_index'))).toEqual([[0, 1]]);
+    const plain = readText('{"nodes": [1, 2], "links": [[0, 1]]}');
+    expect(plain.tensors.map((t) => t.name)).toEqual(['nodes', 'links']);
+  });
+});

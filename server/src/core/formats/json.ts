@@ -1,9 +1,11 @@
 /**
- * JSON reader. Two shapes are graph data:
+ * JSON reader. Three shapes are graph data:
  * (a) an array of pairs, `[[0, 1], [1, 2]]` → `edge_index` [2, E] (a top-level [2, E] array with
  *     E ≠ 2 is taken as it stands); any other top-level array becomes one tensor named `data`;
  * (b) an object of named arrays, possibly nested: every array becomes one DenseTensor named by its
  *     key path joined with '.' (`masks.train`); the checks layer reads roles from the last key.
+ * (c) node-link JSON (NetworkX's node_link_data; node-link.ts): nodes and links become edge_index
+ *     and per-node tensors.
  * Arrays holding strings or objects are not tensors and are skipped, as are scalars. Ragged arrays
  * are unreadable. dtype: all booleans → bool; all whole numbers written without '.'/exponent →
  * int64 (Int32Array when every value fits, else Float64Array); anything else (a float, a null,
@@ -25,6 +27,7 @@ import {
   type TextSpan,
 } from './types';
 import { INT32_MAX, StringLines, assertText } from './text-common';
+import { isNodeLink, readNodeLink } from './node-link';
 
 /** Deepest array nesting taken as a tensor, and deepest object nesting walked for names. */
 const MAX_DIMS = 32;
@@ -59,6 +62,10 @@ export function readJson(bytes: Uint8Array, _fileName: string, _limits: ReadLimi
   if (Array.isArray(root)) {
     const t = toTensor(root, '', 'data', doc);
     if (t) tensors.push(asEdgeIndex(t, doc) ?? t);
+  } else if (isObject(root) && isNodeLink(root)) {
+    const linksKey = Array.isArray(root['links']) ? 'links' : 'edges';
+    const nl = readNodeLink(root, text, doc.lines, doc.spans.get(linksKey)?.start);
+    return { format: 'json', tensors: nl.tensors, problems: nl.problems, hints: nl.hints };
   } else if (isObject(root)) {
     walk(root, '', 0, doc, tensors);
     const nodes = root['num_nodes'];
