@@ -8,15 +8,16 @@
  * ignored (the graph is symmetrised), self-loops dropped and repeated edges merged. A directed
  * message-passing model can separate more than this view shows.
  *
- * One refinement round, in O(N + E + K log K) over typed arrays:
- *  1. order the nodes by colour with a counting sort, then scatter each node's colour into the rows
- *     of its neighbours in that order, so every row of neighbour colours comes out sorted;
+ * One refinement round, in O(N + E·log d + K) over typed arrays:
+ *  1. gather each node's neighbour colours into its row and sort the row (rows are short and in
+ *     cache; this reads memory in order, unlike scattering colours into neighbours' rows);
  *  2. hash the signature (old colour, sorted neighbour colours) of every node;
  *  3. group equal signatures in an open-addressing table, comparing signatures exactly whenever two
  *     hashes meet (no hash collision can merge two colours);
  *  4. number the groups in an order fixed by the signatures alone (old colour, hash, then the
- *     signature itself), so the colours do not depend on node numbering and two graphs refined
- *     together in one disjoint union get comparable colours.
+ *     signature itself; radix passes, a comparison sort only for hash ties), so the colours do not
+ *     depend on node numbering and two graphs refined together in one disjoint union get
+ *     comparable colours.
  */
 import {
   disjointUnion, throwIfCancelled, undirectedEdgeCount,
@@ -62,6 +63,8 @@ class ClassTable {
     n: number, hash: Int32Array,
     same: (x: number, y: number) => boolean, cmp: (x: number, y: number) => number,
     out: Int32Array,
+    /** When `cmp` orders first by primary[x] (dense ids below primaryCount), then by hash[x] unsigned. */
+    primary?: { keys: Int32Array; count: number },
   ): number {
     let size = 16;
     while (size < 2 * n) size *= 2;
@@ -89,12 +92,48 @@ class ClassTable {
         pos = (pos + 1) & mask;
       }
     }
-    const ids = new Int32Array(k);
-    for (let p = 0; p < k; p++) ids[p] = p;
-    ids.sort((p, q) => cmp(rep[p]!, rep[q]!));
+    const ids = primary && k > 4096 ? this.radixOrder(k, hash, primary, cmp) : new Int32Array(k);
+    if (!(primary && k > 4096)) {
+      for (let p = 0; p < k; p++) ids[p] = p;
+      ids.sort((p, q) => cmp(rep[p]!, rep[q]!));
+    }
     for (let r = 0; r < k; r++) rank[ids[r]!] = r;
     for (let v = 0; v < n; v++) out[v] = rank[prov[v]!]!;
     return k;
+  }
+
+  /**
+   * The k classes in `cmp` order without a comparison sort of all of them: a stable radix sort by
+   * the representative's hash (two 16-bit digits), then a stable counting sort by its primary key,
+   * gives the order by (primary, hash); only runs that tie on both (hash collisions between
+   * different classes) are then sorted with `cmp`. Same result as sorting everything with `cmp`.
+   */
+  private radixOrder(k: number, hash: Int32Array, primary: { keys: Int32Array; count: number }, cmp: (x: number, y: number) => number): Int32Array {
+    const rep = this.rep;
+    // Class ids with their two keys side by side, so every pass reads in order.
+    let ids = new Int32Array(k), hs = new Int32Array(k), ps = new Int32Array(k);
+    let ids2 = new Int32Array(k), hs2 = new Int32Array(k), ps2 = new Int32Array(k);
+    for (let p = 0; p < k; p++) { const r = rep[p]!; ids[p] = p; hs[p] = hash[r]!; ps[p] = primary.keys[r]!; }
+    const count = new Int32Array(Math.max(65536, primary.count) + 1);
+    for (let digit = 0; digit < 3; digit++) {
+      const buckets = digit < 2 ? 65536 : primary.count;
+      const key = (i: number) => (digit === 0 ? hs[i]! & 0xffff : digit === 1 ? hs[i]! >>> 16 : ps[i]!);
+      count.fill(0, 0, buckets + 1);
+      for (let i = 0; i < k; i++) count[key(i) + 1]!++;
+      for (let c = 0; c < buckets; c++) count[c + 1]! += count[c]!;
+      for (let i = 0; i < k; i++) {
+        const q = count[key(i)]!++;
+        ids2[q] = ids[i]!; hs2[q] = hs[i]!; ps2[q] = ps[i]!;
+      }
+      [ids, ids2] = [ids2, ids]; [hs, hs2] = [hs2, hs]; [ps, ps2] = [ps2, ps];
+    }
+    for (let i = 0; i < k;) {
+      let j = i + 1;
+      while (j < k && ps[j] === ps[i] && hs[j] === hs[i]) j++;
+      if (j - i > 1) ids.subarray(i, j).sort((p, q) => cmp(rep[p]!, rep[q]!));
+      i = j;
+    }
+    return ids;
   }
 }
 
@@ -153,17 +192,12 @@ export function rowColours(data: ArrayLike<number>, n: number, width: number): {
 
 /** Runs refinement rounds on one graph; keeps its scratch buffers between rounds. */
 class Refiner {
-  private readonly order: Int32Array;
-  private readonly fill: Int32Array;
   private readonly nb: Int32Array;
   private readonly hash: Int32Array;
   private readonly table: ClassTable;
-  private counts = new Int32Array(0);
 
   constructor(readonly g: UndirectedGraph) {
     const n = g.n;
-    this.order = new Int32Array(n);
-    this.fill = new Int32Array(n);
     this.nb = new Int32Array(g.indptr[n]!);
     this.hash = new Int32Array(n);
     this.table = new ClassTable(n);
@@ -175,21 +209,22 @@ class Refiner {
    */
   step(cur: Int32Array, k: number, next: Int32Array): number {
     const { n, indptr, indices } = this.g;
-    const { order, fill, nb, hash } = this;
-    // Counting sort of the nodes by colour.
-    if (this.counts.length < k + 1) this.counts = new Int32Array(k + 1);
-    const cnt = this.counts;
-    cnt.fill(0, 0, k + 1);
-    for (let v = 0; v < n; v++) cnt[cur[v]! + 1]!++;
-    for (let c = 0; c < k; c++) cnt[c + 1]! += cnt[c]!;
-    for (let v = 0; v < n; v++) order[cnt[cur[v]!]!++] = v;
-    // Scatter colours into neighbour rows in colour order: every row ends up sorted.
-    fill.set(indptr.subarray(0, n));
-    for (let i = 0; i < n; i++) {
-      const w = order[i]!;
-      const c = cur[w]!;
-      const end = indptr[w + 1]!;
-      for (let p = indptr[w]!; p < end; p++) nb[fill[indices[p]!]!++] = c;
+    const { nb, hash } = this;
+    // Each node's neighbour colours, gathered row by row (sequential writes, one read of `cur`
+    // per entry) and sorted in place: short rows by insertion, long ones by the typed-array sort.
+    for (let v = 0; v < n; v++) {
+      const lo = indptr[v]!, hi = indptr[v + 1]!;
+      for (let p = lo; p < hi; p++) nb[p] = cur[indices[p]!]!;
+      if (hi - lo <= 32) {
+        for (let i = lo + 1; i < hi; i++) {
+          const x = nb[i]!;
+          let j = i - 1;
+          while (j >= lo && nb[j]! > x) { nb[j + 1] = nb[j]!; j--; }
+          nb[j + 1] = x;
+        }
+      } else {
+        nb.subarray(lo, hi).sort();
+      }
     }
     // Hash the signatures.
     for (let v = 0; v < n; v++) {
@@ -217,7 +252,7 @@ class Refiner {
       for (let i = 0; i < dx; i++, px++, py++) if (nb[px] !== nb[py]) return nb[px]! - nb[py]!;
       return 0;
     };
-    return this.table.classify(n, hash, same, cmp, next);
+    return this.table.classify(n, hash, same, cmp, next, { keys: cur, count: k });
   }
 }
 
