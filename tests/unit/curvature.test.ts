@@ -11,6 +11,7 @@
  * networkx.degree / networkx.triangles.
  */
 import { describe, expect, it } from 'vitest';
+import { seededRandom } from './random';
 import fc from 'fast-check';
 import { expected, fixture, fromPairs } from './structure-fixtures';
 import { edgeCurvature, lowestBalancedForman, mostNegativeFirst, type EdgeCurvature } from '../../server/src/core/graph/curvature';
@@ -272,8 +273,7 @@ describe('top list without computing every edge (lowestBalancedForman)', () => {
   // computation is itself held to REFERENCES.md §6 above. Forced onto the bounded path.
   it('equals the first T of mostNegativeFirst on fixture graphs and random clustered graphs', () => {
     const graphs = ['karate', 'les_miserables'].map((name) => fixture(name).g);
-    let seed = 9;
-    const rnd = (m: number) => { seed = (Math.imul(seed, 1103515245) + 12345) >>> 0; return Math.floor((seed / 2 ** 32) * m); };
+    const rnd = seededRandom(9);
     for (const n of [300, 3000]) {
       const pairs: [number, number][] = [];
       for (let k = 0; k < 6 * n; k++) {
@@ -296,8 +296,7 @@ describe('top list without computing every edge (lowestBalancedForman)', () => {
   });
 
   it('computes only a part of a large sparse graph', () => {
-    let seed = 3;
-    const rnd = (m: number) => { seed = (Math.imul(seed, 1103515245) + 12345) >>> 0; return Math.floor((seed / 2 ** 32) * m); };
+    const rnd = seededRandom(3);
     const n = 40_000;
     const pairs: [number, number][] = [];
     for (let k = 0; k < 5 * n; k++) pairs.push([rnd(n), rnd(n)]);

@@ -8,6 +8,7 @@
  *   34 nodes, 78 edges, 156 directed entries, connected, no self-loops, no isolated nodes).
  */
 import { describe, expect, it } from 'vitest';
+import { seededRandom } from './random';
 import * as fs from 'node:fs';
 import * as path from 'node:path';
 import { readNpy } from '../../server/src/core/formats/npy';
@@ -78,8 +79,7 @@ describe('CSR building blocks', () => {
   });
 
   it('the bucketed build equals two counting-sort transposes (one pass, bucket edges, skewed rows)', () => {
-    let seed = 7;
-    const rnd = (m: number) => { seed = (Math.imul(seed, 1103515245) + 12345) >>> 0; return Math.floor((seed / 2 ** 32) * m); };
+    const rnd = seededRandom(7);
     // 2048 is the largest node count sorted in one counting pass, 2049 the smallest bucketed one;
     // the last case puts most entries in the rows of two nodes (one bucket holds nearly all).
     const cases: [number, boolean][] = [[1, false], [50, false], [2048, false], [2049, false], [70_000, false], [5_000_000, false], [70_000, true]];

@@ -11,6 +11,7 @@
  *    round i + 1), weisfeiler_lehman_graph_hash and is_isomorphic for every pair.
  */
 import { describe, expect, it } from 'vitest';
+import { seededRandom } from './random';
 import fc from 'fast-check';
 import { fixture, expected, fromPairs, partitionOf } from './structure-fixtures';
 import {
@@ -98,8 +99,7 @@ describe('refinement details', () => {
   it('canonical colours on a graph with tens of thousands of classes (the radix-ordered path)', () => {
     // Invariance under relabelling is what the canonical order is for; above 4,096 classes the
     // order comes from radix passes plus tie-breaking instead of one comparison sort.
-    let seed = 21;
-    const rnd = (m: number) => { seed = (Math.imul(seed, 1103515245) + 12345) >>> 0; return Math.floor((seed / 2 ** 32) * m); };
+    const rnd = seededRandom(21);
     const n = 30_000;
     const pairs: [number, number][] = [];
     for (let k = 0; k < 2 * n; k++) pairs.push([rnd(n), rnd(n)]);

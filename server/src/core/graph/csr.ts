@@ -142,22 +142,21 @@ export function buildSortedPair(n: number, src: Int32Array, dst: Int32Array, opt
   return pairBuilder(n, src, dst, opts);
 }
 
-/** Sorts every row ascending in place: insertion sort for short rows, typed-array sort otherwise. */
+/** Sorts every row ascending in place. */
 function sortRows(indptr: Int32Array, indices: Int32Array): void {
   const n = indptr.length - 1;
-  for (let u = 0; u < n; u++) {
-    const a = indptr[u]!, b = indptr[u + 1]!;
-    if (b - a < 2) continue;
-    if (b - a <= 32) {
-      for (let i = a + 1; i < b; i++) {
-        const x = indices[i]!;
-        let j = i - 1;
-        while (j >= a && indices[j]! > x) { indices[j + 1] = indices[j]!; j--; }
-        indices[j + 1] = x;
-      }
-    } else {
-      indices.subarray(a, b).sort();
-    }
+  for (let u = 0; u < n; u++) sortRange(indices, indptr[u]!, indptr[u + 1]!);
+}
+
+/** Sorts a[lo, hi) ascending in place: insertion sort for short ranges, the typed-array sort otherwise. */
+export function sortRange(a: Int32Array, lo: number, hi: number): void {
+  if (hi - lo < 2) return;
+  if (hi - lo > 32) { a.subarray(lo, hi).sort(); return; }
+  for (let i = lo + 1; i < hi; i++) {
+    const x = a[i]!;
+    let j = i - 1;
+    while (j >= lo && a[j]! > x) { a[j + 1] = a[j]!; j--; }
+    a[j + 1] = x;
   }
 }
 

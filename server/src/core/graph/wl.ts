@@ -23,7 +23,7 @@ import {
   disjointUnion, throwIfCancelled, undirectedEdgeCount,
   type Cancel, type UndirectedGraph,
 } from './undirected';
-import { lowerBound } from './csr';
+import { lowerBound, sortRange } from './csr';
 
 // ---------------------------------------------------------------------------------------------
 // Hashing and dense canonical class ids
@@ -211,20 +211,11 @@ class Refiner {
     const { n, indptr, indices } = this.g;
     const { nb, hash } = this;
     // Each node's neighbour colours, gathered row by row (sequential writes, one read of `cur`
-    // per entry) and sorted in place: short rows by insertion, long ones by the typed-array sort.
+    // per entry) and sorted in place.
     for (let v = 0; v < n; v++) {
       const lo = indptr[v]!, hi = indptr[v + 1]!;
       for (let p = lo; p < hi; p++) nb[p] = cur[indices[p]!]!;
-      if (hi - lo <= 32) {
-        for (let i = lo + 1; i < hi; i++) {
-          const x = nb[i]!;
-          let j = i - 1;
-          while (j >= lo && nb[j]! > x) { nb[j + 1] = nb[j]!; j--; }
-          nb[j + 1] = x;
-        }
-      } else {
-        nb.subarray(lo, hi).sort();
-      }
+      sortRange(nb, lo, hi);
     }
     // Hash the signatures.
     for (let v = 0; v < n; v++) {
