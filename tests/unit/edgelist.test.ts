@@ -209,6 +209,20 @@ describe('layout sniffing', () => {
     expect(span(dense(r, 'edge_index').locator!.locate(1))).toEqual({ line: 7, column: 1, length: 1 });
   });
 
+  it('reads lines ended by a bare CR (classic Mac OS text) like the same file with LF', () => {
+    // The NetworkX/NumPy-written fixtures with every LF turned into CR: the same tensors, and
+    // problems at the same lines and columns (an editor shows a lone CR as a line break too).
+    const toCr = (b: Uint8Array) => b.map((c) => (c === 10 ? 13 : c));
+    for (const name of ['karate.edges', 'karate_header.csv', 'broken.txt']) {
+      const lf = read(fixture(name), name), cr = read(toCr(fixture(name)), name);
+      expect(cr.tensors.map((t) => [t.name, t.shape])).toEqual(lf.tensors.map((t) => [t.name, t.shape]));
+      expect(Array.from(dense(cr, 'edge_index').data)).toEqual(Array.from(dense(lf, 'edge_index').data));
+      expect(cr.problems).toEqual(lf.problems);
+      expect(span(dense(cr, 'edge_index').locator!.locate(3))).toEqual(span(dense(lf, 'edge_index').locator!.locate(3)));
+    }
+    expect(read(toCr(fixture('broken.txt')), 'broken.txt').problems.length).toBeGreaterThan(0);
+  });
+
   it('reads a last line without a newline', () => {
     expect(pairs(dense(readText('0 1\n5 6'), 'edge_index'))).toEqual([[0, 1], [5, 6]]);
     expect(pairs(dense(readText('0 1\n5 6 '), 'edge_index'))).toEqual([[0, 1], [5, 6]]);

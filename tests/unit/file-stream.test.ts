@@ -76,6 +76,15 @@ describe('edge lists read while they arrive', () => {
     expect(observe(c.streamed)).toEqual(observe(c.whole));
   });
 
+  it('bare-CR text waits for the whole file and reads like the LF original', () => {
+    const lf = path.join(dir, 'broken.txt');
+    const p = path.join(tmp, 'broken-cr.txt');
+    fs.writeFileSync(p, fs.readFileSync(lf).map((c) => (c === 10 ? 13 : c)));
+    const { streamed } = both(p);
+    const whole = readEdgeList(new Uint8Array(fs.readFileSync(lf)), lf, DEFAULT_LIMITS);
+    expect(observe(streamed)).toEqual(observe(whole));
+  });
+
   it('a file shorter than announced is unreadable, not parsed from zeros', () => {
     const p = path.join(tmp, 'short.txt');
     fs.writeFileSync(p, '0 1\n1 2\n2 0\n');

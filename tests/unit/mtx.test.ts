@@ -88,6 +88,16 @@ describe('Matrix Market files (scipy.io.mmwrite and REFERENCES.md §1.5)', () =>
   });
 });
 
+describe('bare-CR line ends (classic Mac OS text)', () => {
+  it('karate.mtx (scipy.io.mmwrite) with every LF turned into CR reads the same, entries at the same lines', () => {
+    const lf = read(fixture('karate.mtx'));
+    const cr = read(fixture('karate.mtx').map((c) => (c === 10 ? 13 : c)));
+    const a = sparse(lf), b = sparse(cr);
+    expect(toDense(b)).toEqual(toDense(a));
+    expect(span(b.locator!.locate(5))).toEqual(span(a.locator!.locate(5)));
+  });
+});
+
 describe('locating entries', () => {
   it('maps every entry, mirrored ones included, to its stored line', () => {
     // REFERENCES.md §1.5 pattern 4-cycle: line 3 holds `2 1`, line 6 holds `4 1`.

@@ -58,6 +58,7 @@ import {
   parseNumberBytes,
   plural,
   skipBlanks,
+  onlyCrLineEnds,
   textBytes,
   tokenText,
   utf16Length,
@@ -122,10 +123,12 @@ export function readEdgeList(bytes: Uint8Array, fileName: string, limits: ReadLi
     while (avail < Math.min(bytes.length, SNIFF_PREFIX)) avail = arriving.waitBeyond(avail);
   }
   let b: Uint8Array;
-  if (arriving) {
+  if (arriving && !onlyCrLineEnds(bytes.subarray(0, avail))) {
     textBytes(bytes.subarray(0, avail), fileName, limits); // the text checks, on the first bytes
     b = bytes;
   } else {
+    // Whole (bare-CR text is read from a converted copy, so it waits for every byte first).
+    while (arriving && avail < bytes.length) avail = arriving.waitBeyond(avail);
     b = textBytes(bytes, fileName, limits);
     avail = b.length;
   }

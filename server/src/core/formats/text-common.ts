@@ -131,7 +131,29 @@ export function textBytes(bytes: Uint8Array, fileName: string, limits: ReadLimit
   const data = fileName.toLowerCase().endsWith('.gz') ? gunzipLimited(bytes, limits) : bytes;
   if (data.length > MAX_TEXT_BYTES) throw new UnreadableError('text file is larger than 4 GiB');
   assertText(data);
-  return data;
+  return onlyCrLineEnds(data) ? crToLf(data) : data;
+}
+
+/**
+ * Lines ended by a bare CR (classic Mac OS text, some spreadsheet exports): a CR and no LF in the
+ * first 64 KiB.
+ */
+export function onlyCrLineEnds(b: Uint8Array): boolean {
+  const end = Math.min(b.length, 65536);
+  let cr = false;
+  for (let i = 0; i < end; i++) {
+    const c = b[i]!;
+    if (c === LF) return false;
+    if (c === CR) cr = true;
+  }
+  return cr;
+}
+
+/** A copy with every CR turned into LF: byte offsets stay, and lines are those an editor shows. */
+function crToLf(b: Uint8Array): Uint8Array {
+  const out = b.slice();
+  for (let i = 0; i < out.length; i++) if (out[i] === CR) out[i] = LF;
+  return out;
 }
 
 // ---------------------------------------------------------------------------------------------
