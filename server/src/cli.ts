@@ -17,8 +17,8 @@ const VERSION = '0.1.0';
 
 const CHECK_USAGE = `Usage: hopscope check PATH... [options]
 
-Checks graph tensor files (.npy .npz .safetensors .mtx .json, edge lists .txt .edges .el .csv .tsv
-and their .gz) and folders of them, recursively.
+Checks graph tensor files (.npy .npz .pt .pth .safetensors .mtx .json, edge lists .txt .edges .el
+.csv .tsv and their .gz) and folders of them, recursively.
 
 Options:
   --json                      print one JSON report instead of tables
