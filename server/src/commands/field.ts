@@ -5,8 +5,8 @@
  */
 import type { CliIo, Command } from './types';
 import { UsageError } from './types';
-import { optionalWhole, parseArgs, wholeNumber } from './structure-args';
-import { GraphLoadError, loadGraph, type LoadedGraph } from '../node/graph-input';
+import { guarded, optionalWhole, parseArgs, styler, wholeNumber } from './structure-args';
+import { loadGraph } from '../node/graph-input';
 import type { CheckSetOptions } from '../core/checks/check-set';
 import { FieldWalker, coverageCurve, type Flow } from '../core/graph/field';
 import { influenceRow } from '../core/graph/influence';
@@ -81,20 +81,12 @@ function parseFieldArgs(argv: string[]): FieldArgs {
 }
 
 function run(argv: string[], io: CliIo): number {
-  let args: FieldArgs;
-  try {
-    args = parseFieldArgs(argv);
-  } catch (e) {
-    if (e instanceof UsageError) { io.err(`hopscope field: ${e.message}\n\n${USAGE}\n`); return 2; }
-    throw e;
-  }
-  let g: LoadedGraph;
-  try {
-    g = loadGraph(args.file, args.options);
-  } catch (e) {
-    if (e instanceof GraphLoadError) { io.err(`hopscope field: ${e.message}\n`); return 2; }
-    throw e;
-  }
+  return guarded('field', USAGE, io, () => fieldReport(argv, io));
+}
+
+function fieldReport(argv: string[], io: CliIo): number {
+  const args = parseFieldArgs(argv);
+  const g = loadGraph(args.file, args.options);
   const base = g.figures.indexBase;
   const v = args.node - base;
   if (g.n === 0) { io.err(`hopscope field: ${args.file} has no nodes\n`); return 2; }
@@ -123,7 +115,7 @@ function run(argv: string[], io: CliIo): number {
     return 0;
   }
 
-  const c = (code: number, s: string) => (io.color ? `\x1b[${code}m${s}\x1b[0m` : s);
+  const c = styler(io);
   const pct = (x: number) => `${(100 * x).toFixed(1)}%`;
   const lines: string[] = [];
   const how = args.symmetrise ? 'both ways along every edge' : flow;
