@@ -3,20 +3,13 @@ import { describe, expect, it } from 'vitest';
 import { readEdgeList, type EdgeListReadResult } from '../../server/src/core/formats/edgelist';
 import { DEFAULT_LIMITS, UnreadableError, type ReadLimits } from '../../server/src/core/formats/types';
 import { dense, expected, fixture, pairs, span, tensor, utf8 } from './text-fixture-helpers';
+import { expectUnreadable } from './binary-helpers';
 
 const read = (bytes: Uint8Array, name = 'graph.txt', limits: ReadLimits = DEFAULT_LIMITS): EdgeListReadResult =>
   readEdgeList(bytes, name, limits);
 const readText = (text: string, name = 'graph.txt'): EdgeListReadResult => read(utf8(text), name);
 
-function unreadable(f: () => unknown): UnreadableError {
-  try {
-    f();
-  } catch (e) {
-    expect(e).toBeInstanceOf(UnreadableError);
-    return e as UnreadableError;
-  }
-  throw new Error('expected an UnreadableError');
-}
+const unreadable = (fn: () => unknown): UnreadableError => expectUnreadable(fn);
 
 // Files written by networkx 2.8 / scipy 1.10 / numpy 1.24, see make_text_fixtures.py; each
 // expected.json entry names the call that wrote it.

@@ -2,19 +2,12 @@ import { describe, expect, it } from 'vitest';
 import { firstSyntaxError, readJson } from '../../server/src/core/formats/json';
 import { DEFAULT_LIMITS, UnreadableError, type ReadResult } from '../../server/src/core/formats/types';
 import { dense, expected, fixture, pairs, span, utf8 } from './text-fixture-helpers';
+import { expectUnreadable } from './binary-helpers';
 
 const read = (bytes: Uint8Array): ReadResult => readJson(bytes, 'g.json', DEFAULT_LIMITS);
 const readText = (text: string): ReadResult => read(utf8(text));
 
-function unreadable(f: () => unknown): UnreadableError {
-  try {
-    f();
-  } catch (e) {
-    expect(e).toBeInstanceOf(UnreadableError);
-    return e as UnreadableError;
-  }
-  throw new Error('expected an UnreadableError');
-}
+const unreadable = (fn: () => unknown): UnreadableError => expectUnreadable(fn);
 
 // Fixtures written by Python's json module (with networkx 2.8 / numpy 1.24 data), see
 // make_text_fixtures.py; positions in expected.json were found by Python in the written text.

@@ -2,19 +2,12 @@ import { describe, expect, it } from 'vitest';
 import { readMtx } from '../../server/src/core/formats/mtx';
 import { DEFAULT_LIMITS, UnreadableError, type ReadResult } from '../../server/src/core/formats/types';
 import { expected, fixture, span, sparse, toDense, utf8 } from './text-fixture-helpers';
+import { expectUnreadable } from './binary-helpers';
 
 const read = (bytes: Uint8Array, name = 'm.mtx'): ReadResult => readMtx(bytes, name, DEFAULT_LIMITS);
 const readText = (text: string): ReadResult => read(utf8(text));
 
-function unreadable(f: () => unknown): UnreadableError {
-  try {
-    f();
-  } catch (e) {
-    expect(e).toBeInstanceOf(UnreadableError);
-    return e as UnreadableError;
-  }
-  throw new Error('expected an UnreadableError');
-}
+const unreadable = (fn: () => unknown): UnreadableError => expectUnreadable(fn);
 
 /**
  * Files written by scipy 1.10 (scipy.io.mmwrite), see make_text_fixtures.py, and the hand-written

@@ -14,6 +14,7 @@ import { openZip } from '../../server/src/core/formats/zip';
 import { DEFAULT_LIMITS, UnreadableError } from '../../server/src/core/formats/types';
 import { ascii } from './binary-helpers';
 import { fromHex, op, pk, ptExpected, ptFixture, tagged } from './pt-helpers';
+import { expectUnreadable } from './binary-helpers';
 
 function dataPkl(file: string): Uint8Array {
   const z = openZip(ptFixture(file), DEFAULT_LIMITS);
@@ -23,15 +24,7 @@ function dataPkl(file: string): Uint8Array {
 
 const parseTorch = (b: Uint8Array) => parsePickle(b, { persistentLoad: torchPersistentLoad() });
 
-function refusal(fn: () => unknown): UnreadableError {
-  try {
-    fn();
-  } catch (e) {
-    expect(e).toBeInstanceOf(UnreadableError);
-    return e as UnreadableError;
-  }
-  throw new Error('expected an UnreadableError');
-}
+const refusal = (fn: () => unknown): UnreadableError => expectUnreadable(fn);
 
 function dictGet(v: PyValue, key: string): PyValue | undefined {
   if (isNode(v, 'dict')) return v.map.get(key);
