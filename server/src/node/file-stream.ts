@@ -12,10 +12,8 @@ import { dropHelper, getHelper, sharedInt32, signal, waitWhile } from './helper-
 /** Files below this size are read the ordinary way. */
 export const ARRIVING_MIN_BYTES = 32 * 1024 ** 2;
 const CHUNK = 4 * 1024 ** 2;
-/** Control words: [0] state, [1] chunks filled (-1 after a failure). */
-const STATE = 0, CHUNKS = 1;
-// State 0 while reading.
-const DONE = 1, FAILED = -1;
+/** The one control word: chunks filled so far, or -1 once reading failed. */
+const CHUNKS = 0, FAILED = -1;
 /** Longest wait for the next chunk before giving up. */
 const STALL_MS = 60_000;
 
@@ -35,14 +33,14 @@ export function readArriving(p: string, size: number, minBytes = ARRIVING_MIN_BY
   const w = getHelper();
   if (!w) return null;
   const bytes = new Uint8Array(new SharedArrayBuffer(size));
-  const control = sharedInt32(2);
+  const control = sharedInt32(1);
   const job: ReadJob = { kind: 'read', path: p, bytes, control };
   w.postMessage(job);
   const arriving: ArrivingBytes = {
     waitBeyond(have: number): number {
       for (;;) {
         const chunks = Atomics.load(control, CHUNKS);
-        if (chunks < 0 || Atomics.load(control, STATE) === FAILED) {
+        if (chunks === FAILED) {
           throw new UnreadableError('the file changed or could not be read to its end while it was being checked');
         }
         const filled = Math.min(size, chunks * CHUNK);
@@ -73,11 +71,9 @@ export function runReadJob(job: ReadJob): void {
       }
       signal(control, CHUNKS, ++chunks);
     }
-    signal(control, STATE, DONE);
   } catch {
-    Atomics.store(control, STATE, FAILED);
-    // A chunk count of -1 wakes a parser waiting on it (and tells one about to wait not to).
-    signal(control, CHUNKS, -1);
+    // Wakes a parser waiting on the count (and tells one about to wait not to).
+    signal(control, CHUNKS, FAILED);
   } finally {
     if (fd !== undefined) fs.closeSync(fd);
   }

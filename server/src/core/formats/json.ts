@@ -27,7 +27,7 @@ import {
   type TextSpan,
 } from './types';
 import { INT32_MAX, StringLines, assertText } from './text-common';
-import { isNodeLink, readNodeLink } from './node-link';
+import { isNodeLink, isObject, readNodeLink } from './node-link';
 
 /** Deepest array nesting taken as a tensor, and deepest object nesting walked for names. */
 const MAX_DIMS = 32;
@@ -76,9 +76,6 @@ export function readJson(bytes: Uint8Array, _fileName: string, _limits: ReadLimi
   return result;
 }
 
-function isObject(v: unknown): v is Record<string, unknown> {
-  return typeof v === 'object' && v !== null && !Array.isArray(v);
-}
 
 const join = (path: string, key: string): string => (path === '' ? key : `${path}.${key}`);
 

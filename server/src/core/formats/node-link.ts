@@ -21,7 +21,8 @@ export function isNodeLink(root: Record<string, unknown>): boolean {
     root['nodes'].every(isObject) && links.length > 0 && links.every((l) => isObject(l) && 'source' in l && 'target' in l);
 }
 
-function isObject(v: unknown): v is Record<string, unknown> {
+/** A JSON object (not an array, not null). */
+export function isObject(v: unknown): v is Record<string, unknown> {
   return typeof v === 'object' && v !== null && !Array.isArray(v);
 }
 

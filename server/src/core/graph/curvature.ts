@@ -39,6 +39,9 @@ export interface EdgeCurvature {
   balancedForman: Float64Array;
 }
 
+/** log2 rounded up, for the cost of a binary search in a row of length d. */
+const log2 = (d: number): number => 32 - Math.clz32(d);
+
 export interface CurvatureOptions {
   /**
    * Compute balanced Forman curvature (the costly part): for every edge (true, the default), for
@@ -61,7 +64,6 @@ export function edgeCurvature(g: UndirectedGraph, options: CurvatureOptions = {}
   const balancedForman = new Float64Array(m).fill(NaN);
   /** markOfI[w] === i + 1 when w is a neighbour of the current i. */
   const markOfI = new Int32Array(n);
-  const log2 = (d: number) => 32 - Math.clz32(d);
   let e = 0;
   for (let i = 0; i < n; i++) {
     const iLo = indptr[i]!, iHi = indptr[i + 1]!;
@@ -118,8 +120,6 @@ export function fillBalancedForman(g: UndirectedGraph, c: EdgeCurvature, mask: U
   for (let x = 0; x < n; x++) if (indptr[x + 1]! - indptr[x]! > maxDeg) maxDeg = indptr[x + 1]! - indptr[x]!;
   /** Neighbours w of the inner end that may close a 4-cycle. */
   const cand = new Int32Array(maxDeg);
-  /** log2 rounded up, for the cost of a binary search in a row of length d. */
-  const log2 = (d: number) => 32 - Math.clz32(d);
   let squaresOuter = 0, squaresInner = 0, gamma = 0;
 
   /**
