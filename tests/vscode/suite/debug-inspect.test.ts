@@ -12,6 +12,7 @@ import { after, before, describe, it } from 'mocha';
 import * as vscode from 'vscode';
 import { readNpz } from '../../../server/src/core/formats/npz';
 import { DEFAULT_LIMITS, type DenseTensor } from '../../../server/src/core/formats/types';
+import { waitFor } from './wait';
 
 const pkg = JSON.parse(readFileSync(join(__dirname, '../../package.json'), 'utf8')) as { publisher: string; name: string };
 const EXTENSION_ID = `${pkg.publisher}.${pkg.name}`;
@@ -26,15 +27,6 @@ interface Outcome {
   problems?: string[];
 }
 
-async function waitFor<T>(what: string, get: () => T | undefined | Promise<T | undefined>, ms = 60_000): Promise<T> {
-  const end = Date.now() + ms;
-  for (;;) {
-    const v = await get();
-    if (v !== undefined) return v;
-    if (Date.now() > end) throw new Error(`timed out after ${ms / 1000} s waiting for ${what}`);
-    await new Promise((r) => setTimeout(r, 250));
-  }
-}
 
 function viewerTab(uri: string): vscode.Tab | undefined {
   for (const group of vscode.window.tabGroups.all) {

@@ -5,6 +5,7 @@ import { readFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { before, describe, it } from 'mocha';
 import * as vscode from 'vscode';
+import { waitFor } from './wait';
 
 const pkg = JSON.parse(readFileSync(join(__dirname, '../../package.json'), 'utf8')) as {
   publisher: string; name: string; contributes?: { commands?: { command: string }[] };
@@ -17,16 +18,6 @@ function workspaceUri(rel: string): vscode.Uri {
   return vscode.Uri.joinPath(folder.uri, rel);
 }
 
-/** Polls `get` until it returns a value that is not undefined (or gives up after `ms`). */
-async function waitFor<T>(what: string, get: () => T | undefined | Promise<T | undefined>, ms = 60_000): Promise<T> {
-  const end = Date.now() + ms;
-  for (;;) {
-    const v = await get();
-    if (v !== undefined) return v;
-    if (Date.now() > end) throw new Error(`timed out after ${ms / 1000} s waiting for ${what}`);
-    await new Promise((r) => setTimeout(r, 250));
-  }
-}
 
 function hopscopeDiagnostics(uri: vscode.Uri): vscode.Diagnostic[] {
   return vscode.languages.getDiagnostics(uri).filter((d) => d.source === 'hopscope');
