@@ -11,6 +11,7 @@ import { readSafetensors } from '../../server/src/core/formats/safetensors';
 import { openZip } from '../../server/src/core/formats/zip';
 import { UnreadableError, numel, type ReadLimits, type ReadResult } from '../../server/src/core/formats/types';
 import { fixture, fixtureNames, npyBytes, safetensorsBytes } from '../unit/binary-helpers';
+import { byteMutation, mutate } from './mutations';
 
 /** HOPSCOPE_FUZZ_SCALE=50 runs every property 50 times longer (for bug hunts, not for CI). */
 const SCALE = Math.max(1, Number(process.env['HOPSCOPE_FUZZ_SCALE'] ?? 1) || 1);
@@ -72,50 +73,7 @@ const kindOf = (name: string): 'npy' | 'npz' | 'safetensors' =>
 const files = fixtureNames();
 const fixtures = new Map(files.map((n) => [n, fixture(n)]));
 
-type Mutation =
-  | { op: 'set'; at: number; value: number }
-  | { op: 'truncate'; at: number }
-  | { op: 'insert'; at: number; bytes: number[] }
-  | { op: 'delete'; at: number; len: number }
-  | { op: 'u32'; at: number; value: number };
-
-// A fraction of the file length, spread over the whole file. (fc.double would not do: it draws
-// bit patterns, so nearly all of its values in [0, 1) are tiny and every edit lands at byte 0.)
-const POSITION_SCALE = 2 ** 30;
-const position = fc.integer({ min: 0, max: POSITION_SCALE - 1 });
-const interesting = fc.oneof(fc.integer({ min: 0, max: 255 }), fc.constantFrom(0, 1, 0x7f, 0x80, 0xfe, 0xff));
-const mutation: fc.Arbitrary<{ op: string; pos: number; value: number; bytes: number[]; len: number }> = fc.record({
-  op: fc.constantFrom('set', 'set', 'set', 'truncate', 'insert', 'delete', 'u32'),
-  pos: position,
-  value: fc.oneof(interesting, fc.constantFrom(0xffffffff, 0x7fffffff, 0x80000000, 1 << 20, 65535)),
-  bytes: fc.array(interesting, { minLength: 1, maxLength: 8 }),
-  len: fc.integer({ min: 1, max: 64 }),
-});
-
-function mutate(src: Uint8Array, muts: { op: string; pos: number; value: number; bytes: number[]; len: number }[]): Uint8Array {
-  let b = src.slice();
-  for (const m of muts) {
-    const at = Math.floor((m.pos / POSITION_SCALE) * (b.length + 1));
-    const x = { op: m.op, at, value: m.value, bytes: m.bytes, len: m.len } as Mutation & { value: number; bytes: number[]; len: number };
-    switch (x.op) {
-      case 'set': if (at < b.length) b[at] = x.value & 0xff; break;
-      case 'truncate': b = b.slice(0, at); break;
-      case 'insert': {
-        const out = new Uint8Array(b.length + x.bytes.length);
-        out.set(b.subarray(0, at));
-        out.set(x.bytes, at);
-        out.set(b.subarray(at), at + x.bytes.length);
-        b = out;
-        break;
-      }
-      case 'delete': b = new Uint8Array([...b.subarray(0, at), ...b.subarray(at + x.len)]); break;
-      case 'u32':
-        for (let k = 0; k < 4 && at + k < b.length; k++) b[at + k] = (x.value >>> (8 * k)) & 0xff;
-        break;
-    }
-  }
-  return b;
-}
+const mutation = byteMutation(64);
 
 describe('binary readers throw only UnreadableError', () => {
   it('random bytes', () => {

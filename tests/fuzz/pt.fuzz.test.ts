@@ -12,6 +12,7 @@ import { openZip } from '../../server/src/core/formats/zip';
 import { DEFAULT_LIMITS, UnreadableError, numel, type ReadLimits, type ReadResult } from '../../server/src/core/formats/types';
 import { ascii, buildZip } from '../unit/binary-helpers';
 import { intTuple, op, pk, ptFixture, ptFixtureNames, storageRef, tensorV2 } from '../unit/pt-helpers';
+import { byteMutation, mutate } from './mutations';
 
 /** HOPSCOPE_FUZZ_SCALE=50 runs every property 50 times longer (for bug hunts, not for CI). */
 const SCALE = Math.max(1, Number(process.env['HOPSCOPE_FUZZ_SCALE'] ?? 1) || 1);
@@ -67,46 +68,7 @@ const archives = names.flatMap((n) => {
   }
 });
 
-const POSITION_SCALE = 2 ** 30;
-const interesting = fc.oneof(fc.integer({ min: 0, max: 255 }), fc.constantFrom(0, 1, 0x7f, 0x80, 0xfe, 0xff));
-const mutation = fc.record({
-  op: fc.constantFrom('set', 'set', 'set', 'truncate', 'insert', 'delete', 'u32'),
-  pos: fc.integer({ min: 0, max: POSITION_SCALE - 1 }),
-  value: fc.oneof(interesting, fc.constantFrom(0xffffffff, 0x7fffffff, 0x80000000, 1 << 20, 65535)),
-  bytes: fc.array(interesting, { minLength: 1, maxLength: 8 }),
-  len: fc.integer({ min: 1, max: 32 }),
-});
-type Mutation = typeof mutation extends fc.Arbitrary<infer T> ? T : never;
-
-function mutate(src: Uint8Array, muts: Mutation[]): Uint8Array {
-  let b = src.slice();
-  for (const m of muts) {
-    const at = Math.floor((m.pos / POSITION_SCALE) * (b.length + 1));
-    switch (m.op) {
-      case 'set': if (at < b.length) b[at] = m.value & 0xff; break;
-      case 'truncate': b = b.slice(0, at); break;
-      case 'insert': {
-        const out = new Uint8Array(b.length + m.bytes.length);
-        out.set(b.subarray(0, at));
-        out.set(m.bytes, at);
-        out.set(b.subarray(at), at + m.bytes.length);
-        b = out;
-        break;
-      }
-      case 'delete': {
-        const out = new Uint8Array(Math.max(0, b.length - Math.min(m.len, b.length - at)));
-        out.set(b.subarray(0, at));
-        out.set(b.subarray(at + m.len), at);
-        b = out;
-        break;
-      }
-      case 'u32':
-        for (let k = 0; k < 4 && at + k < b.length; k++) b[at + k] = (m.value >>> (8 * k)) & 0xff;
-        break;
-    }
-  }
-  return b;
-}
+const mutation = byteMutation(32);
 
 // --- random opcode streams -----------------------------------------------------------------------
 
