@@ -9,34 +9,12 @@ import { readNpy } from '../../server/src/core/formats/npy';
 import { readNpz } from '../../server/src/core/formats/npz';
 import { readSafetensors } from '../../server/src/core/formats/safetensors';
 import { openZip } from '../../server/src/core/formats/zip';
-import { UnreadableError, numel, type ReadLimits, type ReadResult } from '../../server/src/core/formats/types';
+import { UnreadableError, type ReadLimits } from '../../server/src/core/formats/types';
 import { fixture, fixtureNames, npyBytes, safetensorsBytes } from '../unit/binary-helpers';
-import { byteMutation, mutate } from './mutations';
-
-/** HOPSCOPE_FUZZ_SCALE=50 runs every property 50 times longer (for bug hunts, not for CI). */
-const SCALE = Math.max(1, Number(process.env['HOPSCOPE_FUZZ_SCALE'] ?? 1) || 1);
-const runs = (n: number) => n * SCALE;
+import { byteMutation, checkTensors, mutate, runs } from './fuzz-helpers';
 
 /** Small limits so that a lying header cannot make a run slow. */
 const LIMITS: ReadLimits = { maxDecompressedBytes: 64 * 1024 * 1024, maxHeaderBytes: 1024 * 1024 };
-
-function checkResult(r: ReadResult): void {
-  for (const t of r.tensors) {
-    if (t.kind === 'dense') {
-      const n = numel(t.shape);
-      const got = t.strings ? t.strings.length : t.data.length;
-      if (got !== n) throw new Error(`tensor ${t.name}: ${got} elements for shape (${t.shape})`);
-    } else {
-      const n = t.row.length;
-      if (t.col.length !== n || (t.values && t.values.length !== n)) throw new Error('sparse arrays differ in length');
-      for (let k = 0; k < n; k++) {
-        if (!(t.row[k]! >= 0 && t.row[k]! < t.shape[0] && t.col[k]! >= 0 && t.col[k]! < t.shape[1])) {
-          throw new Error(`sparse entry ${k} outside the shape`);
-        }
-      }
-    }
-  }
-}
 
 /** Runs `fn`; any exception other than UnreadableError fails the property. */
 function onlyUnreadable(fn: () => void): void {
@@ -50,9 +28,9 @@ function onlyUnreadable(fn: () => void): void {
 
 function readAll(bytes: Uint8Array, kind: 'npy' | 'npz' | 'safetensors' | 'zip'): void {
   switch (kind) {
-    case 'npy': onlyUnreadable(() => checkResult(readNpy(bytes, 'f.npy', LIMITS))); break;
-    case 'npz': onlyUnreadable(() => checkResult(readNpz(bytes, 'f.npz', LIMITS))); break;
-    case 'safetensors': onlyUnreadable(() => checkResult(readSafetensors(bytes, 'f.safetensors', LIMITS))); break;
+    case 'npy': onlyUnreadable(() => checkTensors(readNpy(bytes, 'f.npy', LIMITS))); break;
+    case 'npz': onlyUnreadable(() => checkTensors(readNpz(bytes, 'f.npz', LIMITS))); break;
+    case 'safetensors': onlyUnreadable(() => checkTensors(readSafetensors(bytes, 'f.safetensors', LIMITS))); break;
     case 'zip':
       onlyUnreadable(() => {
         const zip = openZip(bytes, LIMITS);

@@ -9,33 +9,18 @@ import fc from 'fast-check';
 import { parsePickle, torchPersistentLoad } from '../../server/src/core/formats/pickle';
 import { readPt } from '../../server/src/core/formats/pt';
 import { openZip } from '../../server/src/core/formats/zip';
-import { DEFAULT_LIMITS, UnreadableError, numel, type ReadLimits, type ReadResult } from '../../server/src/core/formats/types';
+import { DEFAULT_LIMITS, UnreadableError, type ReadLimits, type ReadResult } from '../../server/src/core/formats/types';
 import { ascii, buildZip } from '../unit/binary-helpers';
 import { intTuple, op, pk, ptFixture, ptFixtureNames, storageRef, tensorV2 } from '../unit/pt-helpers';
-import { byteMutation, mutate } from './mutations';
+import { byteMutation, checkTensors, mutate, runs } from './fuzz-helpers';
 
-/** HOPSCOPE_FUZZ_SCALE=50 runs every property 50 times longer (for bug hunts, not for CI). */
-const SCALE = Math.max(1, Number(process.env['HOPSCOPE_FUZZ_SCALE'] ?? 1) || 1);
-const runs = (n: number) => n * SCALE;
 
 /** Small limits so that a lying header or a stride-0 view cannot make a run slow. */
 const LIMITS: ReadLimits = { maxDecompressedBytes: 4 * 1024 * 1024, maxHeaderBytes: 1024 * 1024 };
 const PICKLE_BOUNDS = { maxStack: 100_000, maxMemo: 100_000, maxMarks: 1000 };
 
 function checkResult(r: ReadResult): void {
-  for (const t of r.tensors) {
-    if (t.kind === 'dense') {
-      if (t.data.length !== numel(t.shape)) throw new Error(`tensor ${t.name}: ${t.data.length} elements for shape (${t.shape})`);
-    } else {
-      const n = t.row.length;
-      if (t.col.length !== n || (t.values && t.values.length !== n)) throw new Error('sparse arrays differ in length');
-      for (let k = 0; k < n; k++) {
-        if (!(t.row[k]! >= 0 && t.row[k]! < t.shape[0] && t.col[k]! >= 0 && t.col[k]! < t.shape[1])) {
-          throw new Error(`sparse entry ${k} outside the shape`);
-        }
-      }
-    }
-  }
+  checkTensors(r);
   const names = new Set(r.tensors.map((t) => t.name));
   if (names.size !== r.tensors.length) throw new Error('two tensors share a name');
 }

@@ -1,6 +1,31 @@
-// Byte-level edits of fixture files for the fuzz tests: set a byte, write a 32-bit word, insert,
-// delete, truncate — at positions spread over the whole file.
+// Shared by the binary fuzz tests: byte-level edits of fixture files (set a byte, write a 32-bit
+// word, insert, delete, truncate — at positions spread over the whole file), the run-count scale,
+// and the consistency every read result must have.
 import fc from 'fast-check';
+import { numel, type ReadResult } from '../../server/src/core/formats/types';
+
+/** HOPSCOPE_FUZZ_SCALE=50 runs every property 50 times longer (for bug hunts, not for CI). */
+const SCALE = Math.max(1, Number(process.env['HOPSCOPE_FUZZ_SCALE'] ?? 1) || 1);
+export const runs = (n: number): number => n * SCALE;
+
+/** Every tensor holds as many elements as its shape says; sparse entries lie inside the shape. */
+export function checkTensors(r: ReadResult): void {
+  for (const t of r.tensors) {
+    if (t.kind === 'dense') {
+      const n = numel(t.shape);
+      const got = t.strings ? t.strings.length : t.data.length;
+      if (got !== n) throw new Error(`tensor ${t.name}: ${got} elements for shape (${t.shape})`);
+    } else {
+      const n = t.row.length;
+      if (t.col.length !== n || (t.values && t.values.length !== n)) throw new Error('sparse arrays differ in length');
+      for (let k = 0; k < n; k++) {
+        if (!(t.row[k]! >= 0 && t.row[k]! < t.shape[0] && t.col[k]! >= 0 && t.col[k]! < t.shape[1])) {
+          throw new Error(`sparse entry ${k} outside the shape`);
+        }
+      }
+    }
+  }
+}
 
 // A fraction of the file length, spread over the whole file. (fc.double would not do: it draws
 // bit patterns, so nearly all of its values in [0, 1) are tiny and every edit lands at byte 0.)
