@@ -1,13 +1,20 @@
 /**
- * Colours of the receptive-field drawing. Hop distance uses a ramp of our own that changes
- * lightness steadily from the centre outwards (so it reads without hue vision and in grey print)
- * while the hue turns from indigo to amber; the ramp runs dark → light on light backgrounds and
- * light → dark on dark ones, so the centre always has the strongest contrast. WL groups use a
- * categorical d3 scheme; curvature uses a diverging scale whose negative side is both warmer and
- * darker/brighter than the neutral middle. Theme colours come from the VS Code CSS variables.
+ * Colours of the receptive-field drawing. The data palettes are our own, computed in OKLab /
+ * OKLCH (Björn Ottosson, "A perceptual color space for image processing", 2020,
+ * https://bottosson.github.io/posts/oklab/ — the conversion below is written from that
+ * definition):
+ *  - hop distance: one hue family (OKLCH hue HOP_HUE) whose lightness steps evenly with the hop,
+ *    dark → light on light backgrounds and light → dark on dark ones, so the centre always has
+ *    the strongest contrast and the ramp reads without hue vision and in grey print;
+ *  - 1-WL groups: ten hues evenly spaced around the OKLCH circle from GROUP_START, taken three
+ *    steps apart so neighbouring groups differ in hue, at two lightness levels that alternate;
+ *    the next ten use the same hues at the other level (twenty colours, then they repeat);
+ *  - curvature: a diverging scale whose negative side is both warmer and darker/brighter than
+ *    the neutral middle.
+ * Every data colour keeps a WCAG 2.x contrast ratio of at least 3:1 with the theme background
+ * (tests/unit/panel-colours.test.ts). Theme colours come from the VS Code CSS variables.
  */
 import { hcl, rgb } from 'd3-color';
-import { schemeTableau10 } from 'd3-scale-chromatic';
 
 export type ThemeKind = 'light' | 'dark' | 'high-contrast' | 'high-contrast-light';
 
@@ -55,14 +62,109 @@ export function isDarkBackground(t: Theme): boolean {
   return t.kind === 'dark' || t.kind === 'high-contrast';
 }
 
+// ---- OKLab (Ottosson 2020) and WCAG contrast -------------------------------------------------------
+
+/** sRGB transfer function (IEC 61966-2-1): encoded 0..1 → linear light, and back. */
+function toLinear(c: number): number {
+  return c <= 0.04045 ? c / 12.92 : Math.pow((c + 0.055) / 1.055, 2.4);
+}
+function fromLinear(c: number): number {
+  return c <= 0.0031308 ? 12.92 * c : 1.055 * Math.pow(c, 1 / 2.4) - 0.055;
+}
+
+/** Linear sRGB of a CSS colour string (anything d3-color parses); NaN when it does not parse. */
+function linearRgb(c: string): [number, number, number] {
+  const x = rgb(c);
+  return [toLinear(x.r / 255), toLinear(x.g / 255), toLinear(x.b / 255)];
+}
+
+/** OKLab [L, a, b] of a colour: linear sRGB → LMS (Ottosson's M1 for sRGB) → cube root → M2. */
+export function oklab(c: string): [number, number, number] {
+  const [r, g, b] = linearRgb(c);
+  const l = Math.cbrt(0.4122214708 * r + 0.5363325363 * g + 0.0514459929 * b);
+  const m = Math.cbrt(0.2119034982 * r + 0.6806995451 * g + 0.1073969566 * b);
+  const s = Math.cbrt(0.0883024619 * r + 0.2817188376 * g + 0.6299787005 * b);
+  return [
+    0.2104542553 * l + 0.7936177850 * m - 0.0040720468 * s,
+    1.9779984951 * l - 2.4285922050 * m + 0.4505937099 * s,
+    0.0259040371 * l + 0.7827717662 * m - 0.8086757660 * s,
+  ];
+}
+
+/** Linear sRGB of an OKLCH colour (L 0..1, chroma C, hue h in degrees); may be out of gamut. */
+function oklchToLinear(L: number, C: number, h: number): [number, number, number] {
+  const a = C * Math.cos((h * Math.PI) / 180), b = C * Math.sin((h * Math.PI) / 180);
+  const l = (L + 0.3963377774 * a + 0.2158037573 * b) ** 3;
+  const m = (L - 0.1055613458 * a - 0.0638541728 * b) ** 3;
+  const s = (L - 0.0894841775 * a - 1.2914855480 * b) ** 3;
+  return [
+    4.0767416621 * l - 3.3077115913 * m + 0.2309699292 * s,
+    -1.2684380046 * l + 2.6097574011 * m - 0.3413193965 * s,
+    -0.0041960863 * l - 0.7034186147 * m + 1.7076147010 * s,
+  ];
+}
+
+const inGamut = (c: [number, number, number]) => c[0] >= -1e-7 && c[0] <= 1 + 1e-7 && c[1] >= -1e-7 && c[1] <= 1 + 1e-7 && c[2] >= -1e-7 && c[2] <= 1 + 1e-7;
+
+/** Largest chroma at OKLCH lightness L and hue h that sRGB can show (bisection, to 1e-6). */
+export function maxChroma(L: number, h: number): number {
+  let lo = 0, hi = 0.4;
+  while (hi - lo > 1e-6) {
+    const mid = (lo + hi) / 2;
+    if (inGamut(oklchToLinear(L, mid, h))) lo = mid; else hi = mid;
+  }
+  return lo;
+}
+
+/** #rrggbb of an OKLCH colour (clipped to sRGB; callers keep C within maxChroma). */
+export function oklchHex(L: number, C: number, h: number): string {
+  const [r, g, b] = oklchToLinear(L, C, h);
+  const byte = (x: number) => Math.round(255 * fromLinear(Math.min(1, Math.max(0, x)))).toString(16).padStart(2, '0');
+  return `#${byte(r)}${byte(g)}${byte(b)}`;
+}
+
+/** Euclidean distance in OKLab (ΔE_OK; about 0.02 is a just-noticeable difference). */
+export function deltaE(c1: string, c2: string): number {
+  const p = oklab(c1), q = oklab(c2);
+  return Math.hypot(p[0] - q[0], p[1] - q[1], p[2] - q[2]);
+}
+
 /**
- * Colour of hop k of 0..maxHop. Light backgrounds: lightness 26 → 78; dark: 94 → 44. Hue turns
- * through 165° (indigo ↔ amber), chroma stays moderate so neighbours differ mostly in lightness.
+ * WCAG 2.x contrast ratio (L1 + 0.05) / (L2 + 0.05) of two colours' relative luminances
+ * (W3C, Web Content Accessibility Guidelines 2.1, definitions of "relative luminance" and
+ * "contrast ratio"; WCAG 2.1 uses 0.03928 where IEC 61966-2-1 has 0.04045 — no 8-bit value
+ * falls between them, so the result is the same).
+ */
+export function contrastRatio(c1: string, c2: string): number {
+  const lum = (c: string) => { const [r, g, b] = linearRgb(c); return 0.2126 * r + 0.7152 * g + 0.0722 * b; };
+  const y1 = lum(c1), y2 = lum(c2);
+  return (Math.max(y1, y2) + 0.05) / (Math.min(y1, y2) + 0.05);
+}
+
+// ---- hop distance ----------------------------------------------------------------------------------------
+
+/** OKLCH hue of the hop ramp (a blue-green). */
+export const HOP_HUE = 200;
+/** OKLCH lightness of the centre and of the outermost hop, per background. */
+const HOP_LIGHT: [number, number] = [0.26, 0.65];
+const HOP_DARK: [number, number] = [0.97, 0.52];
+const hopCache = new Map<string, string>();
+
+/**
+ * Colour of hop k of 0..maxHop: OKLCH lightness steps evenly from the centre's to the outermost
+ * hop's, at one hue, with chroma 85% of what sRGB allows there (at most 0.16).
  */
 export function hopColour(k: number, maxHop: number, dark: boolean): string {
   const t = maxHop > 0 ? Math.min(1, Math.max(0, k / maxHop)) : 0;
-  if (dark) return hcl(88 - 165 * t, 44 + 6 * t, 94 - 50 * t).formatHex();
-  return hcl(283 + 165 * t, 58 - 8 * t, 26 + 52 * t).formatHex();
+  const key = `${t}/${dark}`;
+  let c = hopCache.get(key);
+  if (c === undefined) {
+    const [from, to] = dark ? HOP_DARK : HOP_LIGHT;
+    const L = from + (to - from) * t;
+    c = oklchHex(L, Math.min(0.16, 0.85 * maxChroma(L, HOP_HUE)), HOP_HUE);
+    hopCache.set(key, c);
+  }
+  return c;
 }
 
 /** CIE lightness (0..100) of a colour: the tests check the hop ramp is monotonic in it. */
@@ -70,9 +172,33 @@ export function lightness(c: string): number {
   return hcl(c).l;
 }
 
-/** Colour of the i-th WL group (groups of one node get `neutral`). */
-export function groupColour(i: number): string {
-  return schemeTableau10[i % schemeTableau10.length]!;
+// ---- 1-WL groups ----------------------------------------------------------------------------------------
+
+/** OKLCH hue of the first group colour; the ten hues are 36° apart from here. */
+export const GROUP_START = 70;
+const GROUP_HUES = 10;
+/** Two OKLCH lightness levels per background. */
+const GROUP_LIGHT: [number, number] = [0.52, 0.64];
+const GROUP_DARK: [number, number] = [0.72, 0.84];
+/** Number of distinct group colours before they repeat. */
+export const GROUP_COLOURS = 2 * GROUP_HUES;
+const groupCache = new Map<string, string>();
+
+/** Colour of the i-th WL group (groups of one node get a neutral grey from the caller). */
+export function groupColour(i: number, dark: boolean): string {
+  const n = ((i % GROUP_COLOURS) + GROUP_COLOURS) % GROUP_COLOURS;
+  const key = `${n}/${dark}`;
+  let c = groupCache.get(key);
+  if (c === undefined) {
+    const round = Math.floor(n / GROUP_HUES);
+    // Three hue steps (108°) between neighbours; 3 and 10 share no factor, so all ten hues come round.
+    const h = GROUP_START + (360 / GROUP_HUES) * ((3 * n) % GROUP_HUES);
+    const levels = dark ? GROUP_DARK : GROUP_LIGHT;
+    const L = levels[(n + round) % 2]!;
+    c = oklchHex(L, Math.min(0.14, 0.9 * maxChroma(L, h)), h);
+    groupCache.set(key, c);
+  }
+  return c;
 }
 
 /**

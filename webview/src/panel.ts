@@ -380,7 +380,7 @@ function buildScene(): Scene {
     wl.groups.forEach((g, i) => groupIndex.set(g.colour, i));
     nodeFill = v.ids.map((_, i) => {
       const gi = groupIndex.get(wl!.colours[i]!);
-      return gi === undefined ? neutral : groupColour(gi);
+      return gi === undefined ? neutral : groupColour(gi, dark);
     });
   } else if (mode !== 'hops') {
     nodeFill = v.ids.map(() => neutral);
@@ -729,7 +729,7 @@ function drawModeInfo(): void {
     if (!wl.groups.length) { modeInfo.append(el('p', { class: 'muted' }, 'Every drawn node has a colour of its own.')); return; }
     const ul = el('ul', { class: 'groups' });
     wl.groups.slice(0, 30).forEach((g, i) => {
-      const b = el('button', { class: 'link', type: 'button' }, swatch(groupColour(i)), `${g.nodes.length} look alike: ${g.nodes.slice(0, 10).join(', ')}${g.nodes.length > 10 ? ', …' : ''}`, el('span', { class: 'muted' }, ` (${g.inGraph} in the graph)`));
+      const b = el('button', { class: 'link', type: 'button' }, swatch(groupColour(i, isDarkBackground(theme))), `${g.nodes.length} look alike: ${g.nodes.slice(0, 10).join(', ')}${g.nodes.length > 10 ? ', …' : ''}`, el('span', { class: 'muted' }, ` (${g.inGraph} in the graph)`));
       b.addEventListener('click', () => {
         const members = new Set(g.nodes);
         highlight = new Set(view!.ids.map((id, j) => (members.has(id) ? j : -1)).filter((j) => j >= 0));
