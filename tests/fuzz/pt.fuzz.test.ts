@@ -6,7 +6,8 @@
  */
 import { describe, it } from 'vitest';
 import fc from 'fast-check';
-import { parsePickle, torchPersistentLoad } from '../../server/src/core/formats/pickle';
+import { parsePickle } from '../../server/src/core/formats/pickle';
+import { PT_ALLOWED_CALLS, torchPersistentLoad } from '../../server/src/core/formats/pt-allowed';
 import { readPt } from '../../server/src/core/formats/pt';
 import { openZip } from '../../server/src/core/formats/zip';
 import { DEFAULT_LIMITS, UnreadableError, type ReadLimits, type ReadResult } from '../../server/src/core/formats/types';
@@ -35,7 +36,7 @@ function onlyUnreadable(fn: () => void): void {
 }
 
 const pickle = (b: Uint8Array) => onlyUnreadable(() => {
-  parsePickle(b, { ...PICKLE_BOUNDS, persistentLoad: torchPersistentLoad() });
+  parsePickle(b, PT_ALLOWED_CALLS, { ...PICKLE_BOUNDS, persistentLoad: torchPersistentLoad() });
 });
 const pt = (b: Uint8Array) => onlyUnreadable(() => checkResult(readPt(b, 'f.pt', LIMITS)));
 

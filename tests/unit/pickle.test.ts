@@ -7,9 +7,9 @@
  */
 import { describe, expect, it } from 'vitest';
 import { existsSync } from 'node:fs';
-import {
-  OPCODE_NAMES, isAllowedCall, isNode, parsePickle, torchPersistentLoad, type PyValue,
-} from '../../server/src/core/formats/pickle';
+import { NO_CALLS, OPCODE_NAMES, parsePickle as parseWith, type PickleOptions } from '../../server/src/core/formats/pickle';
+import { isNode, type PyValue } from '../../server/src/core/formats/pickle-values';
+import { PT_ALLOWED_CALLS, isAllowedCall, torchPersistentLoad } from '../../server/src/core/formats/pt-allowed';
 import { openZip } from '../../server/src/core/formats/zip';
 import { DEFAULT_LIMITS, UnreadableError } from '../../server/src/core/formats/types';
 import { ascii } from './binary-helpers';
@@ -22,6 +22,8 @@ function dataPkl(file: string): Uint8Array {
   return z.readEntry(e);
 }
 
+/** The opcode machine with the PyTorch reader's table of allowed calls. */
+const parsePickle = (b: Uint8Array, opts?: PickleOptions) => parseWith(b, PT_ALLOWED_CALLS, opts);
 const parseTorch = (b: Uint8Array) => parsePickle(b, { persistentLoad: torchPersistentLoad() });
 
 const refusal = (fn: () => unknown): UnreadableError => expectUnreadable(fn);
@@ -195,6 +197,16 @@ describe('hostile streams are refused, naming the global, and nothing runs', () 
     const v = parsePickle(pk(op.proto(2), op.global('subprocess', 'Popen'), op.emptyTuple, op.newobj,
       op.emptyDict, op.str('args'), op.str('true'), op.setitem, op.build, op.stop));
     expect(tagged(v)).toEqual({ record: 'subprocess.Popen', state: { dict: [['args', 'true']] } });
+  });
+
+  it('the opcode machine calls only what its table lists: with NO_CALLS even OrderedDict is refused', () => {
+    const od = pk(op.global('collections', 'OrderedDict'), op.emptyTuple, op.reduce, op.stop);
+    expect(isNode(parsePickle(od), 'dict')).toBe(true);
+    expect(refusal(() => parseWith(od, NO_CALLS)).message).toContain('refused to load collections.OrderedDict');
+    // cls.__new__ needs no table entry: a record without the PyTorch table, a tuple with it
+    const size = pk(op.proto(2), op.global('torch', 'Size'), op.emptyTuple, op.newobj, op.stop);
+    expect(tagged(parseWith(size, NO_CALLS))).toEqual({ record: 'torch.Size', state: undefined });
+    expect(tagged(parsePickle(size))).toEqual({ tuple: [] });
   });
 
   it('the allow-list holds the torch rebuilds and containers, and nothing that runs code', () => {

@@ -7,7 +7,7 @@
 import { readFileSync, readdirSync } from 'node:fs';
 import { join } from 'node:path';
 import { fileURLToPath } from 'node:url';
-import { isNode, type PyValue } from '../../server/src/core/formats/pickle';
+import { isNode, type PyValue } from '../../server/src/core/formats/pickle-values';
 import { openZip } from '../../server/src/core/formats/zip';
 import { DEFAULT_LIMITS } from '../../server/src/core/formats/types';
 import { ascii, buildZip, concat, le, type ZipMember } from './binary-helpers';

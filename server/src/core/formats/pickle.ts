@@ -1,113 +1,25 @@
 /**
- * A pickle PARSER for the streams `torch.save` writes (protocols 2–5; the text forms of protocols
- * 0/1 are read too). Nothing from the stream is ever evaluated, imported or called: every global a
- * stream refers to becomes a name node, and the few that a stream may "call" (REDUCE, INST, OBJ)
- * are looked up in an allow-list that maps them to safe constructors of plain values (tensor and
- * storage rebuilds, OrderedDict, builtin containers). Any other callable is refused with its name.
+ * A pickle PARSER: an opcode machine for pickle protocols 0–5 (the streams `torch.save` writes use
+ * 2–5) that builds plain values (pickle-values.ts). Nothing from the stream is ever evaluated,
+ * imported or called: every global a stream refers to becomes a name node, and the few that a
+ * stream may "call" (REDUCE, INST, OBJ) are looked up in the table of allowed calls the caller
+ * passes, which maps them to constructors of plain values. Any other callable is refused with its
+ * name. The PyTorch reader's table is pt-allowed.ts; with NO_CALLS nothing may be called.
  *
- * An object of an unknown class made by `cls.__new__` (NEWOBJ, NEWOBJ_EX, copyreg.__newobj__,
- * copyreg._reconstructor) and filled by BUILD is kept as a named record of its state, which is how
- * saved data objects (edge_index, x, y, masks as attributes) are read.
+ * An object of an unknown class made by `cls.__new__` (NEWOBJ, NEWOBJ_EX) and filled by BUILD is
+ * kept as a named record of its state, which is how saved data objects (edge_index, x, y, masks as
+ * attributes) are read.
  *
- * Opcode semantics per CPython's `pickle.py` / `pickletools` opcode table (REFERENCES.md §1.7);
- * the torch rebuild signatures per REFERENCES.md §1.6.
+ * Opcode semantics per CPython's `pickle.py` / `pickletools` opcode table (REFERENCES.md §1.7).
  */
-import { UnreadableError, type DType } from './types';
+import { UnreadableError } from './types';
+import {
+  describe, isNode, itemsOf, newDict, newObjectOf, own, qualifiedName,
+  type PyBigInt, type PyGlobal, type PyValue,
+} from './pickle-values';
 
 // ---------------------------------------------------------------------------------------------
-// Value tree
-
-/** Python tuple (kept apart from lists, which are plain arrays). */
-export interface PyTuple { kind: 'tuple'; items: PyValue[] }
-/** dict / OrderedDict. Keys keep insertion order; str and int keys compare by value. */
-export interface PyDict {
-  kind: 'dict';
-  map: Map<PyValue, PyValue>;
-  /** 'builtins.dict' or 'collections.OrderedDict'. */
-  className: string;
-  /** Instance attributes set by BUILD (e.g. a state_dict's `_metadata`). */
-  attrs?: PyValue;
-}
-export interface PySet { kind: 'set'; items: PyValue[]; frozen: boolean }
-/** An integer outside ±2^53: sign and magnitude in hex (exact), plus a float approximation. */
-export interface PyBigInt { kind: 'bigint'; approx: number; hex: string }
-/** A reference to a module attribute (class, function, dtype). Harmless: it is never resolved. */
-export interface PyGlobal { kind: 'global'; module: string; name: string }
-/**
- * An object of a class that is not on the allow-list, made without calling user code
- * (cls.__new__), or a small allow-listed object such as torch.device / slice.
- */
-export interface PyRecord {
-  kind: 'record';
-  className: string;
-  /** Arguments given to __new__ (or to the allow-listed constructor). */
-  args: PyValue[];
-  /** What BUILD set (usually a dict of attributes; may be a (dict, slots) tuple). */
-  state?: PyValue;
-  /** Items added by APPEND(S) (list subclasses). */
-  listItems?: PyValue[];
-  /** Items added by SETITEM(S) (dict subclasses). */
-  dictItems?: Map<PyValue, PyValue>;
-}
-/** A storage named by a torch.save persistent id: `('storage', torch.XStorage, key, location, numel)`. */
-export interface PyStorage {
-  kind: 'storage';
-  /** Member name under `<root>/data/`. */
-  key: string;
-  /** e.g. 'torch.FloatStorage'. */
-  storageType: string;
-  /** Element type, or undefined for element types Hopscope does not read (see `typeName`). */
-  dtype: DType | undefined;
-  /** torch's name of the element type, e.g. 'float32', 'complex64'. */
-  typeName: string;
-  /** True for torch.UntypedStorage: `numel` counts bytes. */
-  untyped: boolean;
-  location: string;
-  numel: number;
-}
-/** `torch._utils._rebuild_tensor_v2(storage, offset, size, stride, …)` and relatives. */
-export interface PyTensor {
-  kind: 'tensor';
-  storage: PyStorage;
-  /** In elements. */
-  offset: number;
-  size: number[];
-  /** In elements. */
-  stride: number[];
-  /** Element type when it differs from the storage's (untyped storages, _rebuild_tensor_v3). */
-  dtype: DType | undefined;
-  typeName: string;
-  requiresGrad: boolean;
-  /** Rebuilt through torch._utils._rebuild_parameter*. */
-  parameter: boolean;
-}
-/** `torch._utils._rebuild_sparse_tensor(layout, data)` (and the 1.13 CSR variant). */
-export interface PySparse {
-  kind: 'sparse';
-  /** 'sparse_coo', 'sparse_csr', 'sparse_csc', … */
-  layout: string;
-  /** coo: [indices, values]; csr: [crow_indices, col_indices, values]; csc: [ccol, row, values]. */
-  parts: PyTensor[];
-  size: number[];
-}
-/** A tensor layout object (torch.sparse_coo), from `torch.serialization._get_layout(name)`. */
-export interface PyLayout { kind: 'layout'; name: string }
-
-export type PyValue =
-  | null | boolean | number | string
-  | Uint8Array
-  | PyValue[]
-  | PyTuple | PyDict | PySet | PyBigInt | PyGlobal | PyRecord
-  | PyStorage | PyTensor | PySparse | PyLayout;
-
-type PyObject = Exclude<PyValue, null | boolean | number | string | Uint8Array | PyValue[]>;
-
-export function isNode<K extends PyObject['kind']>(v: PyValue | undefined, kind: K): v is Extract<PyObject, { kind: K }> {
-  return typeof v === 'object' && v !== null && !Array.isArray(v) && !(v instanceof Uint8Array) && v.kind === kind;
-}
-
-// ---------------------------------------------------------------------------------------------
-// Options
+// Options and the table of allowed calls
 
 export interface PickleOptions {
   /**
@@ -128,62 +40,30 @@ export const PICKLE_DEFAULTS = { maxStack: 4_000_000, maxMemo: 4_000_000, maxMar
 /** Highest protocol this parser knows (Python 3.8+ writes up to 5). */
 export const HIGHEST_PROTOCOL = 5;
 
-// ---------------------------------------------------------------------------------------------
-// torch names
+/** A constructor of a plain value from a call's arguments. Never runs anything from the stream. */
+export type AllowedCall = (args: PyValue[]) => PyValue;
 
-/** torch storage class → [element type, torch's type name] (REFERENCES.md §1.6); undefined: known, not read. */
-const STORAGE_TYPES: Record<string, [DType | undefined, string]> = {
-  FloatStorage: ['float32', 'float32'],
-  DoubleStorage: ['float64', 'float64'],
-  HalfStorage: ['float16', 'float16'],
-  BFloat16Storage: ['bfloat16', 'bfloat16'],
-  LongStorage: ['int64', 'int64'],
-  IntStorage: ['int32', 'int32'],
-  ShortStorage: ['int16', 'int16'],
-  CharStorage: ['int8', 'int8'],
-  ByteStorage: ['uint8', 'uint8'],
-  BoolStorage: ['bool', 'bool'],
-  UntypedStorage: ['uint8', 'uint8'],
-  ComplexFloatStorage: [undefined, 'complex64'],
-  ComplexDoubleStorage: [undefined, 'complex128'],
-  ComplexHalfStorage: [undefined, 'complex32'],
-  QInt8Storage: [undefined, 'qint8'],
-  QUInt8Storage: [undefined, 'quint8'],
-  QInt32Storage: [undefined, 'qint32'],
-  QUInt4x2Storage: [undefined, 'quint4x2'],
-  QUInt2x4Storage: [undefined, 'quint2x4'],
-};
+/** The callables a stream may call, and how it may make objects. */
+export interface AllowedCalls {
+  /** Qualified name ('module.name') → constructor of a plain value. */
+  readonly calls: Readonly<Record<string, AllowedCall>>;
+  /** What the table holds, ending the refusal message "…and it is not one of <description>". */
+  readonly description: string;
+  /** `cls.__new__(cls, *args)` as data; newObjectOf when absent. */
+  readonly newObject?: (cls: PyGlobal, args: PyValue[]) => PyValue;
+}
 
-/** `torch.<attr>` dtype objects → element type. */
-const TORCH_DTYPES: Record<string, [DType | undefined, string]> = {
-  float32: ['float32', 'float32'], float: ['float32', 'float32'],
-  float64: ['float64', 'float64'], double: ['float64', 'float64'],
-  float16: ['float16', 'float16'], half: ['float16', 'float16'],
-  bfloat16: ['bfloat16', 'bfloat16'],
-  int64: ['int64', 'int64'], long: ['int64', 'int64'],
-  int32: ['int32', 'int32'], int: ['int32', 'int32'],
-  int16: ['int16', 'int16'], short: ['int16', 'int16'],
-  int8: ['int8', 'int8'], uint8: ['uint8', 'uint8'], bool: ['bool', 'bool'],
-  uint16: ['uint16', 'uint16'], uint32: ['uint32', 'uint32'], uint64: ['uint64', 'uint64'],
-  complex64: [undefined, 'complex64'], cfloat: [undefined, 'complex64'],
-  complex128: [undefined, 'complex128'], cdouble: [undefined, 'complex128'],
-  complex32: [undefined, 'complex32'], chalf: [undefined, 'complex32'],
-};
+/** A table that allows no call at all. */
+export const NO_CALLS: AllowedCalls = { calls: {}, description: 'the calls allowed here (none)' };
+
+/** Thrown by an allowed call for arguments it cannot use; becomes an UnreadableError naming the call. */
+export class CallArgumentError extends Error {}
 
 /** Python 2 module names that Python 3's pickle maps when reading protocol 0–2 streams. */
 const MODULE_ALIASES: Record<string, string> = { __builtin__: 'builtins', copy_reg: 'copyreg' };
 
-/** A table lookup that ignores inherited properties (a stream may name 'constructor' or '__proto__'). */
-function own<T>(table: Record<string, T>, key: string): T | undefined {
-  return Object.prototype.hasOwnProperty.call(table, key) ? table[key] : undefined;
-}
-
-export function qualifiedName(g: PyGlobal): string {
-  return `${g.module}.${g.name}`;
-}
-
 // ---------------------------------------------------------------------------------------------
-// Small helpers
+// Decoding of opcode arguments
 
 const utf8 = new TextDecoder('utf-8');
 
@@ -193,29 +73,6 @@ function latin1(b: Uint8Array): string {
     s += String.fromCharCode.apply(null, Array.from(b.subarray(i, i + 8192)));
   }
   return s;
-}
-
-function describe(v: PyValue | undefined): string {
-  if (v === undefined) return 'nothing';
-  if (v === null) return 'None';
-  if (typeof v === 'boolean') return 'a bool';
-  if (typeof v === 'number') return 'a number';
-  if (typeof v === 'string') return 'a string';
-  if (v instanceof Uint8Array) return 'bytes';
-  if (Array.isArray(v)) return 'a list';
-  switch (v.kind) {
-    case 'global': return `the global ${qualifiedName(v)}`;
-    case 'record': return `an object of ${v.className}`;
-    case 'bigint': return 'a large integer';
-    default: return `a ${v.kind}`;
-  }
-}
-
-/** Items of a list, tuple or set, or undefined for anything else. */
-function itemsOf(v: PyValue | undefined): PyValue[] | undefined {
-  if (Array.isArray(v)) return v;
-  if (isNode(v, 'tuple') || isNode(v, 'set')) return v.items;
-  return undefined;
 }
 
 /** Signed little-endian two's complement integer of `n` bytes at `p` (LONG1 / LONG4 payload). */
@@ -343,7 +200,7 @@ function rawUnicodeEscape(b: Uint8Array): string | undefined {
 }
 
 // ---------------------------------------------------------------------------------------------
-// The parser
+// The machine
 
 const OP_NAMES: Record<number, string> = {};
 function op(name: string, byte: number): number {
@@ -375,7 +232,6 @@ const NEXT_BUFFER = op('NEXT_BUFFER', 0x97), READONLY_BUFFER = op('READONLY_BUFF
 
 /** Opcode byte → name, for messages and tests. */
 export const OPCODE_NAMES: Readonly<Record<number, string>> = OP_NAMES;
-
 class Parser {
   pos = 0;
   /** Offset of the opcode being run, for messages. */
@@ -387,7 +243,11 @@ class Parser {
   private readonly maxMemo: number;
   private readonly maxMarks: number;
 
-  constructor(private readonly b: Uint8Array, private readonly opts: PickleOptions) {
+  constructor(
+    private readonly b: Uint8Array,
+    private readonly allowed: AllowedCalls,
+    private readonly opts: PickleOptions,
+  ) {
     this.maxStack = opts.maxStack ?? PICKLE_DEFAULTS.maxStack;
     this.maxMemo = opts.maxMemo ?? PICKLE_DEFAULTS.maxMemo;
     this.maxMarks = opts.maxMarks ?? PICKLE_DEFAULTS.maxMarks;
@@ -789,7 +649,7 @@ class Parser {
   /** NEWOBJ / copyreg.__newobj__: `cls.__new__(cls, *args)`; never calls the class. */
   private newObject(cls: PyValue, args: PyValue[]): PyValue {
     if (!isNode(cls, 'global')) this.fail(`a new object of ${describe(cls)}, which is not a class`);
-    return newObjectOf(cls, args);
+    return (this.allowed.newObject ?? newObjectOf)(cls, args);
   }
 
   /** INST / OBJ: Python calls the class when there are arguments, else uses cls.__new__. */
@@ -798,28 +658,24 @@ class Parser {
     return this.call(cls, args);
   }
 
-  /** REDUCE: `fn(*args)`, only for allow-listed globals. */
+  /** REDUCE: `fn(*args)`, only for globals on the call table. */
   private call(fn: PyValue, args: PyValue[]): PyValue {
     if (!isNode(fn, 'global')) this.fail(`the pickle calls ${describe(fn)}, which is not a function`);
     const name = qualifiedName(fn);
-    const ctor = own(SAFE_CALLS, name);
-    if (!ctor) {
+    const make = own(this.allowed.calls, name);
+    if (!make) {
       this.fail(
         `refused to load ${name}: the pickle would call it when loaded in Python, and it is not one of ` +
-          'the PyTorch tensor/storage rebuilds or plain containers Hopscope reads',
+          this.allowed.description,
       );
     }
     try {
-      return ctor(args);
+      return make(args);
     } catch (e) {
-      if (e instanceof ArgError) this.fail(`${name}: ${e.message}`);
+      if (e instanceof CallArgumentError) this.fail(`${name}: ${e.message}`);
       throw e;
     }
   }
-}
-
-function newDict(className: string): PyDict {
-  return { kind: 'dict', map: new Map(), className };
 }
 
 function makeGlobal(module: string, name: string): PyGlobal {
@@ -828,235 +684,15 @@ function makeGlobal(module: string, name: string): PyGlobal {
 }
 
 // ---------------------------------------------------------------------------------------------
-// Allow-list of callables
-
-/** Thrown by a safe constructor for arguments it cannot use; becomes an UnreadableError. */
-class ArgError extends Error {}
-
-function argFail(message: string): never {
-  throw new ArgError(message);
-}
-
-function intArg(v: PyValue | undefined, what: string): number {
-  if (typeof v === 'boolean') return v ? 1 : 0;
-  if (typeof v !== 'number' || !Number.isSafeInteger(v)) argFail(`${what} is ${describe(v)}, not an integer`);
-  return v;
-}
-
-function intTuple(v: PyValue | undefined, what: string): number[] {
-  const items = itemsOf(v);
-  if (!items || Array.isArray(v)) argFail(`${what} is ${describe(v)}, not a tuple of integers`);
-  if (items.length > 64) argFail(`${what} has ${items.length} dimensions`);
-  return items.map((x, i) => intArg(x, `${what}[${i}]`));
-}
-
-function storageArg(v: PyValue | undefined): PyStorage {
-  if (!isNode(v, 'storage')) argFail(`the storage argument is ${describe(v)}, not a storage`);
-  return v;
-}
-
-function dtypeOfGlobal(v: PyValue | undefined): [DType | undefined, string] | undefined {
-  if (!isNode(v, 'global') || v.module !== 'torch') return undefined;
-  return own(TORCH_DTYPES, v.name);
-}
-
-function rebuildTensor(args: PyValue[], withDtype: boolean): PyTensor {
-  if (args.length < 4) argFail(`expects at least 4 arguments, got ${args.length}`);
-  const storage = storageArg(args[0]);
-  const offset = intArg(args[1], 'the storage offset');
-  const size = intTuple(args[2], 'the size');
-  const stride = intTuple(args[3], 'the stride');
-  if (stride.length !== size.length) argFail(`the size has ${size.length} dimensions but the stride has ${stride.length}`);
-  let dtype = storage.dtype;
-  let typeName = storage.typeName;
-  if (withDtype) {
-    const d = dtypeOfGlobal(args[6]);
-    if (!d) argFail(`the dtype argument is ${describe(args[6])}, not a torch dtype`);
-    [dtype, typeName] = d;
-  }
-  return {
-    kind: 'tensor', storage, offset, size, stride, dtype, typeName,
-    requiresGrad: args[4] === true, parameter: false,
-  };
-}
-
-function rebuildParameter(args: PyValue[]): PyTensor {
-  const data = args[0];
-  if (!isNode(data, 'tensor')) argFail(`the data argument is ${describe(data)}, not a tensor`);
-  return { ...data, requiresGrad: args[1] === true, parameter: true };
-}
-
-function layoutName(v: PyValue | undefined): string {
-  if (isNode(v, 'layout')) return v.name.replace(/^torch\./, '');
-  if (isNode(v, 'global') && v.module === 'torch') return v.name;
-  argFail(`the layout argument is ${describe(v)}, not a tensor layout`);
-}
-
-function rebuildSparse(args: PyValue[]): PySparse {
-  const layout = layoutName(args[0]);
-  const data = itemsOf(args[1]);
-  if (!data) argFail(`the data argument is ${describe(args[1])}, not a tuple`);
-  const tensorAt = (i: number, what: string): PyTensor => {
-    const t = data[i];
-    if (!isNode(t, 'tensor')) argFail(`${what} is ${describe(t)}, not a tensor`);
-    return t;
-  };
-  if (layout === 'sparse_coo') {
-    if (data.length < 3) argFail('sparse COO data needs (indices, values, size)');
-    return { kind: 'sparse', layout, parts: [tensorAt(0, 'indices'), tensorAt(1, 'values')], size: intTuple(data[2], 'the size') };
-  }
-  if (layout === 'sparse_csr' || layout === 'sparse_csc' || layout === 'sparse_bsr' || layout === 'sparse_bsc') {
-    if (data.length < 4) argFail(`${layout} data needs (compressed indices, plain indices, values, size)`);
-    return {
-      kind: 'sparse', layout,
-      parts: [tensorAt(0, 'the compressed indices'), tensorAt(1, 'the plain indices'), tensorAt(2, 'values')],
-      size: intTuple(data[3], 'the size'),
-    };
-  }
-  argFail(`sparse layout ${layout} is not read`);
-}
-
-function dictFrom(className: string, args: PyValue[]): PyDict {
-  const d = newDict(className);
-  const src = args[0];
-  if (src === undefined) return d;
-  if (isNode(src, 'dict')) {
-    for (const [k, v] of src.map) d.map.set(k, v);
-    return d;
-  }
-  const pairs = itemsOf(src);
-  if (!pairs) argFail(`cannot make a dict from ${describe(src)}`);
-  for (const p of pairs) {
-    const kv = itemsOf(p);
-    if (!kv || kv.length !== 2) argFail(`a dict item is ${describe(p)}, not a pair`);
-    d.map.set(kv[0]!, kv[1]!);
-  }
-  return d;
-}
-
-function itemsArg(args: PyValue[], what: string): PyValue[] {
-  if (args.length === 0) return [];
-  const items = itemsOf(args[0]);
-  if (items) return items.slice();
-  if (isNode(args[0], 'dict')) return [...args[0].map.keys()];
-  argFail(`cannot make a ${what} from ${describe(args[0])}`);
-}
-
-function latin1Bytes(s: string, what: string): Uint8Array {
-  const out = new Uint8Array(s.length);
-  for (let i = 0; i < s.length; i++) {
-    const c = s.charCodeAt(i);
-    if (c > 0xff) argFail(`${what}: character ${c} is outside latin-1`);
-    out[i] = c;
-  }
-  return out;
-}
-
-function bytesFromText(args: PyValue[], what: string): Uint8Array {
-  const s = args[0];
-  if (s === undefined) return new Uint8Array(0);
-  if (s instanceof Uint8Array) return s.slice();
-  if (typeof s !== 'string') argFail(`${what} of ${describe(s)}`);
-  const enc = typeof args[1] === 'string' ? args[1].toLowerCase().replace(/[-_]/g, '') : 'utf8';
-  if (enc === 'latin1' || enc === 'iso88591') return latin1Bytes(s, what);
-  if (enc === 'utf8') return new TextEncoder().encode(s);
-  if (enc === 'ascii') return latin1Bytes(s, what);
-  argFail(`${what} with the encoding ${String(args[1])}`);
-}
-
-const SAFE_CALLS: Record<string, (args: PyValue[]) => PyValue> = {
-  'torch._utils._rebuild_tensor': (a) => rebuildTensor(a, false),
-  'torch._utils._rebuild_tensor_v2': (a) => rebuildTensor(a, false),
-  'torch._utils._rebuild_tensor_v3': (a) => rebuildTensor(a, true),
-  'torch._utils._rebuild_parameter': rebuildParameter,
-  'torch._utils._rebuild_parameter_with_state': rebuildParameter,
-  'torch._utils._rebuild_sparse_tensor': rebuildSparse,
-  'torch._utils._rebuild_sparse_csr_tensor': rebuildSparse,
-  /** Tensor subclasses: `_rebuild_from_type_v2(func, new_type, args, state)`; the subclass is not made. */
-  'torch._tensor._rebuild_from_type_v2': (a) => {
-    const fn = a[0];
-    const inner = itemsOf(a[2]);
-    if (!isNode(fn, 'global')) argFail(`the rebuild function is ${describe(fn)}`);
-    const name = qualifiedName(fn);
-    const ctor = name.startsWith('torch._utils._rebuild_') ? own(SAFE_CALLS, name) : undefined;
-    if (!ctor) argFail(`refused to load ${name}: it is not one of the tensor rebuilds Hopscope reads`);
-    if (!inner) argFail(`the arguments are ${describe(a[2])}, not a tuple`);
-    return ctor(inner);
-  },
-  'torch.serialization._get_layout': (a) => {
-    if (typeof a[0] !== 'string') argFail(`the layout name is ${describe(a[0])}`);
-    return { kind: 'layout', name: a[0] };
-  },
-  'torch.Size': (a) => ({ kind: 'tuple', items: itemsArg(a, 'torch.Size') }),
-  'torch.device': (a) => {
-    if (!a.every((x) => typeof x === 'string' || typeof x === 'number')) argFail('arguments are not a device name');
-    return { kind: 'record', className: 'torch.device', args: a.slice() };
-  },
-  'collections.OrderedDict': (a) => dictFrom('collections.OrderedDict', a),
-  'builtins.dict': (a) => dictFrom('builtins.dict', a),
-  'builtins.list': (a) => itemsArg(a, 'list'),
-  'builtins.tuple': (a) => ({ kind: 'tuple', items: itemsArg(a, 'tuple') }),
-  'builtins.set': (a) => ({ kind: 'set', items: itemsArg(a, 'set'), frozen: false }),
-  'builtins.frozenset': (a) => ({ kind: 'set', items: itemsArg(a, 'frozenset'), frozen: true }),
-  'builtins.slice': (a) => {
-    if (a.length < 1 || a.length > 3 || !a.every((x) => x === null || typeof x === 'number')) argFail('arguments are not slice bounds');
-    return { kind: 'record', className: 'builtins.slice', args: a.slice() };
-  },
-  'builtins.bytearray': (a) => bytesFromText(a, 'bytearray'),
-  'builtins.bytes': (a) => bytesFromText(a, 'bytes'),
-  '_codecs.encode': (a) => bytesFromText(a, '_codecs.encode'),
-  /** copyreg.__newobj__(cls, *args) is cls.__new__(cls, *args): a record, never a call. */
-  'copyreg.__newobj__': (a) => {
-    const cls = a[0];
-    if (!isNode(cls, 'global')) argFail(`the class is ${describe(cls)}`);
-    return newObjectOf(cls, a.slice(1));
-  },
-  'copyreg.__newobj_ex__': (a) => {
-    const cls = a[0];
-    if (!isNode(cls, 'global')) argFail(`the class is ${describe(cls)}`);
-    const args = itemsOf(a[1]) ?? [];
-    return newObjectOf(cls, args.slice());
-  },
-  /** copyreg._reconstructor(cls, base, state): base.__new__(cls[, state]). Never calls the class. */
-  'copyreg._reconstructor': (a) => {
-    const cls = a[0];
-    if (!isNode(cls, 'global')) argFail(`the class is ${describe(cls)}`);
-    const base = a[1];
-    if (isNode(base, 'global') && qualifiedName(base) !== 'builtins.object') {
-      return { kind: 'record', className: qualifiedName(cls), args: [a[2] ?? null] };
-    }
-    return { kind: 'record', className: qualifiedName(cls), args: [] };
-  },
-};
-
-/** `cls.__new__(cls, *args)` as data: an empty container for the builtin ones, else a record. */
-function newObjectOf(cls: PyGlobal, args: PyValue[]): PyValue {
-  const name = qualifiedName(cls);
-  // Containers whose __new__ makes an empty container: their items come by SETITEMS/APPENDS.
-  if (name === 'collections.OrderedDict' || name === 'builtins.dict') return newDict(name);
-  if (name === 'builtins.list') return [];
-  if (name === 'builtins.set') return { kind: 'set', items: [], frozen: false };
-  if (name === 'builtins.tuple' || name === 'torch.Size') {
-    const items = itemsOf(args[0]);
-    return { kind: 'tuple', items: items ? items.slice() : [] };
-  }
-  return { kind: 'record', className: name, args };
-}
-
-/** Whether a global may be called by a stream (for tests and messages). */
-export function isAllowedCall(qualified: string): boolean {
-  return own(SAFE_CALLS, qualified) !== undefined;
-}
-
-// ---------------------------------------------------------------------------------------------
-// Entry points
+// Entry point
 
 /**
- * Parses one pickle stream into a value tree. Throws UnreadableError (only) for anything it
- * cannot or will not read; its offset is the byte offset of the failing opcode in `bytes`.
+ * Parses one pickle stream into a value tree, calling only what `allowed` lists. Throws
+ * UnreadableError (only) for anything it cannot or will not read; its offset is the byte offset of
+ * the failing opcode in `bytes`.
  */
-export function parsePickle(bytes: Uint8Array, opts: PickleOptions = {}): PyValue {
-  const p = new Parser(bytes, opts);
+export function parsePickle(bytes: Uint8Array, allowed: AllowedCalls, opts: PickleOptions = {}): PyValue {
+  const p = new Parser(bytes, allowed, opts);
   try {
     return p.run();
   } catch (e) {
@@ -1067,52 +703,4 @@ export function parsePickle(bytes: Uint8Array, opts: PickleOptions = {}): PyValu
     }
     throw e;
   }
-}
-
-/**
- * Persistent-id reader for torch.save: `('storage', torch.XStorage, key, location, numel)`
- * (REFERENCES.md §1.6). The same key always yields the same storage node, so tensors sharing a
- * storage share one node (and the reader decodes the member once).
- */
-export function torchPersistentLoad(): (pid: PyValue, offset: number) => PyStorage {
-  const seen = new Map<string, PyStorage>();
-  return (pid, offset) => {
-    const bad: (why: string) => never = (why) => {
-      throw new UnreadableError(`a persistent id ${why} (pickle byte ${offset})`, offset);
-    };
-    const items = isNode(pid, 'tuple') ? pid.items : undefined;
-    if (!items) bad(`is ${describe(pid)}, not a tuple`);
-    if (items[0] !== 'storage') {
-      bad(`of type ${typeof items[0] === 'string' ? JSON.stringify(items[0].slice(0, 40)) : describe(items[0])} is not a storage`);
-    }
-    if (items.length < 5) bad(`has ${items.length} fields; ('storage', type, key, location, numel) has 5`);
-    const cls = items[1];
-    const key = items[2];
-    const location = items[3];
-    const numel = items[4];
-    let typeInfo: [DType | undefined, string] | undefined;
-    let storageType = describe(cls);
-    if (isNode(cls, 'global')) {
-      storageType = qualifiedName(cls);
-      if (cls.module === 'torch' || cls.module === 'torch.cuda') typeInfo = own(STORAGE_TYPES, cls.name) ?? dtypeOfGlobal(cls);
-    }
-    if (!typeInfo) bad(`names ${storageType}, which is not a torch storage class`);
-    if (typeof key !== 'string' || key.length === 0 || key.length > 256 || /[/\\]/.test(key)) bad('has a bad storage key');
-    if (typeof numel !== 'number' || !Number.isSafeInteger(numel) || numel < 0) bad(`has a bad element count ${describe(numel)}`);
-    const prev = seen.get(key);
-    if (prev) {
-      if (prev.storageType !== storageType || prev.numel !== numel) {
-        bad(`reuses storage key '${key}' with a different type or size`);
-      }
-      return prev;
-    }
-    const s: PyStorage = {
-      kind: 'storage', key, storageType, dtype: typeInfo[0], typeName: typeInfo[1],
-      untyped: isNode(cls, 'global') && cls.name === 'UntypedStorage',
-      location: typeof location === 'string' ? location : String(describe(location)),
-      numel,
-    };
-    seen.set(key, s);
-    return s;
-  };
 }

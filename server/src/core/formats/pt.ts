@@ -1,7 +1,8 @@
 /**
  * PyTorch `.pt` / `.pth` reader for the zip layout `torch.save` has written since PyTorch 1.6
- * (REFERENCES.md §1.6): `<root>/data.pkl` (a pickle, parsed by pickle.ts and never executed),
- * `<root>/data/<key>` (raw storage bytes), `<root>/version`, and from torch 2.1 `<root>/byteorder`.
+ * (REFERENCES.md §1.6): `<root>/data.pkl` (a pickle, parsed by pickle.ts and never executed; the
+ * only calls it may make are listed in pt-allowed.ts), `<root>/data/<key>` (raw storage bytes),
+ * `<root>/version`, and from torch 2.1 `<root>/byteorder`.
  *
  * Tensors are found anywhere in the unpickled value (dict values, list items, attributes of saved
  * objects) and named by their path: `edge_index`, `data.x`, `masks.train`, `[0]`. Storage members
@@ -14,9 +15,9 @@ import {
 } from './types';
 import { openZip, type ZipArchive, type ZipEntry } from './zip';
 import { decodeElements, numericItemSize, sameKind } from './elements';
-import {
-  isNode, parsePickle, torchPersistentLoad, type PyRecord, type PySparse, type PyTensor, type PyValue,
-} from './pickle';
+import { parsePickle } from './pickle';
+import { isNode, type PyRecord, type PySparse, type PyTensor, type PyValue } from './pickle-values';
+import { PT_ALLOWED_CALLS, torchPersistentLoad } from './pt-allowed';
 
 /** First bytes of the legacy (pre-1.6) format: PROTO 2, LONG1 of the magic number 0x1950a86a20f9469cfc6c. */
 const LEGACY_MAGIC = [0x80, 0x02, 0x8a, 0x0a, 0x6c, 0xfc, 0x9c, 0x46, 0xf9, 0x20, 0x6a, 0xa8, 0x50, 0x19];
@@ -482,7 +483,7 @@ export function readPt(bytes: Uint8Array, fileName: string, limits: ReadLimits):
   const pkl = archive.zip.readEntry(pklEntry);
   let value: PyValue;
   try {
-    value = parsePickle(pkl, { persistentLoad: torchPersistentLoad() });
+    value = parsePickle(pkl, PT_ALLOWED_CALLS, { persistentLoad: torchPersistentLoad() });
   } catch (e) {
     if (!(e instanceof UnreadableError)) throw e;
     const base = pklEntry.method === 0 ? archive.zip.dataOffset(pklEntry) : undefined;
