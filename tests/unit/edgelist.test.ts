@@ -1,6 +1,9 @@
+import * as fs from 'node:fs';
+import * as path from 'node:path';
 import { gzipSync } from 'node:zlib';
 import { describe, expect, it } from 'vitest';
-import { readEdgeList, type EdgeListReadResult } from '../../server/src/core/formats/edgelist';
+import { NotEdgeListError, readEdgeList, wideLimit, type EdgeListReadResult } from '../../server/src/core/formats/edgelist';
+import { FieldSplitter } from '../../server/src/core/formats/text-common';
 import { DEFAULT_LIMITS, UnreadableError, type ReadLimits } from '../../server/src/core/formats/types';
 import { dense, expected, fixture, pairs, span, tensor, utf8 } from './text-fixture-helpers';
 import { expectUnreadable } from './binary-helpers';
@@ -353,11 +356,36 @@ describe('larger files', () => {
 });
 
 describe('hostile layouts', () => {
-  it('reads one very wide line among short ones with a field-count warning', () => {
+  it('reports one very wide line among short ones as one edge-shape error and leaves it out', () => {
     const wide = Array.from({ length: 20000 }, (_, k) => String(k)).join(' ');
     const r = readText(wide + '\n' + '0 1\n'.repeat(20000));
-    expect(tensor(r, 'edge_index').shape).toEqual([2, 20001]);
-    expect(r.problems.map((p) => [p.code, p.severity, p.count])).toEqual([['edge-shape', 'warning', 1]]);
+    expect(tensor(r, 'edge_index').shape).toEqual([2, 20000]);
+    expect(r.problems.map((p) => [p.code, p.severity, p.count, p.line])).toEqual([['edge-shape', 'error', 1, 1]]);
+  });
+
+  it('stops splitting a line with far more fields than the others (soak: one 200 MB line of 100M fields)', () => {
+    // The soak file of issue 8, 50 000 pairs instead of 50 million: `0 1`, one line of `0 1 `
+    // repeated, `1 2`. The long line is one problem at its line; the edges around it are read.
+    const text = '0 1\n' + '0 1 '.repeat(50_000) + '\n1 2\n';
+    const r = readText(text);
+    expect(pairs(dense(r, 'edge_index'))).toEqual([[0, 1], [1, 2]]);
+    expect(r.problems).toHaveLength(1);
+    const p = r.problems[0]!;
+    expect([p.code, p.severity, p.count, p.line, p.column]).toEqual(['edge-shape', 'error', 1, 2, 1]);
+    expect(p.message).toContain('far more fields than the 2');
+    expect(p.locations![0]!.detail).toBe(`more than ${wideLimit(2)} fields`);
+    // The span covers the fields split, not the whole line.
+    expect(p.locations![0]!.length).toBeLessThan(4 * wideLimit(2));
+    // Lines a little wider than the rest keep today's warning (extra fields ignored).
+    const some = readText('0 1\n1 2 3 4 5\n2 3\n');
+    expect(some.problems.map((q) => [q.code, q.severity, q.line])).toEqual([['edge-shape', 'warning', 2]]);
+    expect(tensor(some, 'edge_index').shape).toEqual([2, 3]);
+    // The splitter itself keeps at most maxFields fields and reports the cut.
+    const sp = new FieldSplitter(0);
+    sp.maxFields = 8;
+    const line = utf8('0 1 '.repeat(1000) + '\n5 6\n');
+    sp.split(line, 0, line.length);
+    expect([sp.count, sp.cut, sp.lineEnd, sp.starts.length]).toEqual([8, true, 4000, 16]);
   });
 
   it('refuses wide first lines followed by a flood of short ones instead of allocating for them', () => {
@@ -379,5 +407,123 @@ describe('networkx dict data', () => {
 
   it('has no weight tensor when no dict holds a weight', () => {
     expect(readText('0 1 {}\n1 2 {}\n').tensors.map((t) => t.name)).toEqual(['edge_index']);
+  });
+});
+
+// tests/fixtures/textfiles, written by tests/fixtures/make_textfile_fixtures.py (NumPy 1.24,
+// NetworkX 2.8, Python's codecs and gzip modules); counts in its expected.json come from Python.
+const TF = path.join(__dirname, '../fixtures/textfiles');
+const tf = (name: string): Uint8Array => new Uint8Array(fs.readFileSync(path.join(TF, name)));
+const tfExpected: Record<string, any> = JSON.parse(fs.readFileSync(path.join(TF, 'expected.json'), 'utf8'));
+
+describe('text that is not an edge list', () => {
+  for (const name of ['README.txt', 'requirements.txt', 'metrics.csv']) {
+    it(`refuses ${name} with the rule and the counts`, () => {
+      const exp = tfExpected[name];
+      // Python's count over the same lines: at most half start with two whole numbers.
+      expect(2 * exp.idLines).toBeLessThanOrEqual(exp.dataLines);
+      const e = unreadable(() => read(tf(name), name));
+      expect(e).toBeInstanceOf(NotEdgeListError);
+      expect(e.message).toMatch(/^not an edge list: 0 of its first \d+ data lines? starts? with two integer node ids/);
+      expect(e.message).toContain('more than half of the first data lines, up to 20');
+      expect(e.message).toContain('hopscope.json');
+    });
+  }
+
+  it('reads such a file anyway when asked (a manifest names it), and says so', () => {
+    const r = readEdgeList(tf('metrics.csv'), 'metrics.csv', DEFAULT_LIMITS, undefined, { asEdgeList: true });
+    // 20 lines sampled: the header row and 19 data lines.
+    expect(r.notEdgeList).toContain('0 of its first 19 data lines');
+    expect(r.columns).toEqual(['epoch', 'loss', 'accuracy']);
+    // numpy.savetxt wrote 30 rows; the loss column (second) is not a whole number on any of them.
+    expect(tfExpected['metrics.csv'].dataLines).toBe(30);
+    expect(r.problems.find((p) => p.code === 'non-integer-index')!.count).toBe(30);
+  });
+
+  it('still reads an edge list with comments, a header row and a footer (numpy.savetxt)', () => {
+    const exp = tfExpected['docks_header_comments.csv'];
+    const r = read(tf('docks_header_comments.csv'), 'docks_header_comments.csv');
+    expect(r.problems).toEqual([]);
+    expect(r.notEdgeList).toBeUndefined();
+    expect(r.columns).toEqual(exp.columns);
+    expect(pairs(dense(r, 'edge_index'))).toEqual(exp.edges); // numpy.loadtxt's reading
+  });
+
+  it('decides from the first data lines: a majority of id lines is an edge list, half is not', () => {
+    expect(pairs(dense(readText('0 1\nnote\n1 2\n'), 'edge_index'))).toEqual([[0, 1], [1, 2]]);
+    expect(() => readText('0 1\nnote\n')).toThrow(NotEdgeListError);
+    // Only the first 20 data lines count: prose after them is reported line by line instead.
+    const r = readText('0 1\n'.repeat(20) + 'a b\n'.repeat(30));
+    expect(r.problems.map((p) => [p.code, p.count])).toEqual([['non-integer-index', 30]]);
+    // Whole numbers written as floats or with a sign are ids for this rule.
+    expect(() => readText('0.0 1.0\n-1 2e0\n')).not.toThrow(NotEdgeListError);
+  });
+});
+
+describe('CSV delimiter sniffing with a short line (soak item of issue 8)', () => {
+  it("picks the delimiter most lines agree on and reports the short line: printf '0,1\\n1,2\\n0\\n2,0\\n'", () => {
+    const r = readText('0,1\n1,2\n0\n2,0\n', 'a.csv');
+    expect(r.delimiter).toBe(',');
+    expect(pairs(dense(r, 'edge_index'))).toEqual([[0, 1], [1, 2], [2, 0]]);
+    expect(r.problems.map((p) => [p.code, p.severity, p.count, p.line])).toEqual([['edge-shape', 'error', 1, 3]]);
+    // The same file space-separated reads the same.
+    const s = readText('0 1\n1 2\n0\n2 0\n', 'a.txt');
+    expect(Array.from(dense(s, 'edge_index').data)).toEqual(Array.from(dense(r, 'edge_index').data));
+    expect(s.problems.map((p) => [p.code, p.line])).toEqual([['edge-shape', 3]]);
+  });
+
+  it('is not swayed by a minority delimiter or a short line among the first 20', () => {
+    const lines = Array.from({ length: 19 }, (_, k) => `${k};${k + 1};0,5`);
+    lines.splice(7, 0, '3');
+    const r = readText(lines.join('\n') + '\n', 'g.csv');
+    expect(r.delimiter).toBe(';');
+    expect(tensor(r, 'edge_index').shape).toEqual([2, 19]);
+    expect(r.problems.find((p) => p.code === 'edge-shape' && p.severity === 'error' && p.line === 8)).toBeDefined();
+  });
+});
+
+describe('text in other encodings and damaged gzip (messages that say what happened)', () => {
+  it('names UTF-16 and UTF-32 text (Python codecs, with and without a byte order mark) and how to convert it', () => {
+    for (const [name, enc, iconv] of [
+      ['karate_utf16.txt', 'UTF-16 (little-endian, with a byte order mark)', 'UTF-16'],
+      ['karate_utf16be.txt', 'UTF-16BE (no byte order mark)', 'UTF-16BE'],
+      ['karate_utf32.txt', 'UTF-32 (little-endian, with a byte order mark)', 'UTF-32'],
+    ] as const) {
+      const exp = tfExpected[name];
+      // Unicode Standard §23.8: FF FE starts little-endian UTF-16; FF FE 00 00 little-endian UTF-32.
+      expect(exp.firstBytes.slice(0, 4)).toBe(name === 'karate_utf16be.txt' ? '0030' : 'fffe');
+      const e = unreadable(() => read(tf(name), name));
+      expect(e.message).toContain(`is ${enc} text`);
+      expect(e.message).toContain(`iconv -f ${iconv} -t UTF-8`);
+      expect(e.message).not.toContain('NUL');
+    }
+    // Converted as the message says, the file is the 78-edge list NetworkX wrote.
+    const text = new TextDecoder('utf-16le').decode(tf('karate_utf16.txt')); // drops the BOM
+    expect(tensor(readText(text), 'edge_index').shape).toEqual([2, tfExpected['karate_utf16.txt'].count]);
+    // Binary data is still "not a text file".
+    expect(unreadable(() => read(new Uint8Array([0x30, 0x20, 0x31, 0x0a, 0, 1, 2, 3]))).message).toContain('NUL byte');
+  });
+
+  it('says truncated for a gzip file cut short, corrupt for damaged data (Python gzip, RFC 1952)', () => {
+    const cut = tfExpected['karate_cut.edges.gz'];
+    expect(cut.pythonError).toMatch(/^builtins\.EOFError/); // Python: the stream ended early
+    const a = unreadable(() => read(tf('karate_cut.edges.gz'), 'karate_cut.edges.gz'));
+    expect(a.message).toMatch(/^gzip data is truncated: the file \(90 bytes\) ends before the end of the compressed stream/);
+    expect(a.message).not.toMatch(/corrupt|impossible/);
+
+    expect(tfExpected['karate_cut_trailer.edges.gz'].pythonError).toMatch(/^builtins\.EOFError/);
+    const b = unreadable(() => read(tf('karate_cut_trailer.edges.gz'), 'karate_cut_trailer.edges.gz'));
+    expect(b.message).toMatch(/^gzip data is truncated: .* inside the 8-byte trailer/);
+
+    expect(tfExpected['karate_flipped.edges.gz'].pythonError).toMatch(/BadGzipFile|zlib\.error/); // damaged
+    const c = unreadable(() => read(tf('karate_flipped.edges.gz'), 'karate_flipped.edges.gz'));
+    expect(c.message).toMatch(/corrupt/);
+    expect(c.message).not.toMatch(/truncated/);
+
+    // A deflate stream cut at every length is always "truncated", never "corrupt".
+    const whole = fixture('karate.edges.gz');
+    for (let len = 10; len < whole.length; len += 7) {
+      expect(unreadable(() => read(whole.subarray(0, len), 'k.edges.gz')).message).toMatch(/truncated/);
+    }
   });
 });

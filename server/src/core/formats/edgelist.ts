@@ -17,6 +17,13 @@
  *   An empty field (what pandas writes for NaN) is read as NaN without a problem.
  * - a line with a different number of fields than the others → `edge-shape` (warning); missing
  *   weight/feature slots are NaN, extra fields are ignored.
+ * - a line with far more fields than the others (wideLimit) → `edge-shape` (error), left out; it
+ *   is not split beyond that, so one enormous line costs a scan for its end and no memory.
+ *
+ * A text file is taken for an edge list only when more than half of its first data lines start
+ * with two integer ids; otherwise the reader throws NotEdgeListError (an UnreadableError whose
+ * message says the rule and the counts), unless the caller says the file is an edge list (a
+ * manifest names it).
  * Negative ids are valid integers here; range checks belong to the checks layer.
  */
 import {
@@ -47,6 +54,7 @@ import {
   SPACE,
   TAB,
   bomLength,
+  countLF,
   fit,
   growFloat64,
   growUint32,
@@ -66,6 +74,21 @@ import {
 
 export type Delimiter = 'whitespace' | 'tab' | ',' | ';' | '|';
 
+/**
+ * Thrown for text whose first data lines are mostly not `id id …` lines (a README, a package list,
+ * a table of metrics). Callers that walk folders skip such files; `reason` says why.
+ */
+export class NotEdgeListError extends UnreadableError {
+  constructor(readonly reason: string) {
+    super(`not an edge list: ${reason}`, 0);
+  }
+}
+
+export interface EdgeListOptions {
+  /** Read the file as an edge list whatever its lines look like (a manifest names it as one). */
+  asEdgeList?: boolean;
+}
+
 export interface EdgeListReadResult extends ReadResult {
   /** How fields were separated. */
   delimiter: Delimiter;
@@ -74,10 +97,24 @@ export interface EdgeListReadResult extends ReadResult {
    * (`numpy.savetxt(..., header=...)` writes `# a,b,c`). Absent when the file names no columns.
    */
   columns?: string[];
+  /** Set when the lines do not look like an edge list and it was read as one because asked to. */
+  notEdgeList?: string;
 }
 
-/** Number of data lines the layout is sniffed from. */
-const SNIFF_LINES = 20;
+/** Number of data lines the layout (and whether the text is an edge list at all) is sniffed from. */
+export const SNIFF_LINES = 20;
+/** Fields split per sampled line; a line with more is far wider than any edge list row. */
+const SNIFF_MAX_FIELDS = 1 << 16;
+/** Bytes of a sampled line in which delimiters are counted. */
+const SNIFF_LINE_BYTES = 1 << 20;
+
+/**
+ * Fields beyond which a line is not an edge at all but lines run together (or a matrix saved as
+ * text): it is reported and left out without being split further.
+ */
+export function wideLimit(fieldCount: number): number {
+  return Math.max(4 * fieldCount, fieldCount + 62);
+}
 const DELIMS: ReadonlyArray<[number, Delimiter]> = [
   [TAB, 'tab'],
   [COMMA, ','],
@@ -101,6 +138,10 @@ interface Layout {
   trailingEmpty: boolean;
   /** Average bytes per sampled data line, to pre-size the arrays. */
   bytesPerLine: number;
+  /** Data lines sampled (header row not counted). */
+  dataLines: number;
+  /** Why the sampled lines are not an edge list (the rule and the counts), or undefined. */
+  notEdgeList: string | undefined;
 }
 
 /**
@@ -115,7 +156,9 @@ export interface ArrivingBytes {
 /** Bytes a streamed reader waits for before sniffing the layout (the first lines). */
 const SNIFF_PREFIX = 4 * 1024 * 1024;
 
-export function readEdgeList(bytes: Uint8Array, fileName: string, limits: ReadLimits, arriving?: ArrivingBytes): EdgeListReadResult {
+export function readEdgeList(
+  bytes: Uint8Array, fileName: string, limits: ReadLimits, arriving?: ArrivingBytes, options: EdgeListOptions = {},
+): EdgeListReadResult {
   let avail = bytes.length;
   if (arriving) {
     if (fileName.toLowerCase().endsWith('.gz')) throw new Error('a compressed file cannot be read while it arrives');
@@ -140,6 +183,7 @@ export function readEdgeList(bytes: Uint8Array, fileName: string, limits: ReadLi
     while (avail < n) avail = arriving!.waitBeyond(avail);
     layout = sniffLayout(b, first);
   }
+  if (layout.notEdgeList && !options.asEdgeList) throw new NotEdgeListError(layout.notEdgeList);
   const C = layout.fieldCount;
   const nw = C > 2 ? 1 : 0;
   const na = C > 3 ? C - 3 : 0;
@@ -161,6 +205,9 @@ export function readEdgeList(bytes: Uint8Array, fileName: string, limits: ReadLi
   let E = 0;
 
   const sp = new FieldSplitter(delim);
+  // A networkx dict needs only its start (field 3); other lines are not split past the wide limit.
+  const wide = wideLimit(C);
+  sp.maxFields = dict ? 3 : wide;
   // Lines that start at or before the last LF are scanned without bounds checks: every scan
   // stops at that line's LF at the latest. The fast path takes plain `int<sep>int[<sep>num…]`
   // lines with exactly the expected fields; anything else goes through the general path.
@@ -308,6 +355,10 @@ export function readEdgeList(bytes: Uint8Array, fileName: string, limits: ReadLi
       report.short(line, lineStart, i, sp.lineEnd);
       continue;
     }
+    if (sp.cut && !dict) {
+      report.wide(line, lineStart, i, en[f - 1]!, wide);
+      continue;
+    }
     const u = parseIntBytes(b, st[0]!, en[0]!);
     const v = parseIntBytes(b, st[1]!, en[1]!);
     if (u !== u || v !== v) {
@@ -368,6 +419,7 @@ export function readEdgeList(bytes: Uint8Array, fileName: string, limits: ReadLi
     format: 'edgelist', tensors, problems: report.problems.problems(), delimiter: layout.delimiter,
   };
   if (layout.columns) result.columns = layout.columns;
+  if (layout.notEdgeList) result.notEdgeList = layout.notEdgeList;
   return result;
 }
 
@@ -477,6 +529,16 @@ class Reporter {
         : undefined);
   }
 
+  /** [s, e) spans the fields that were split (not the whole line, which may be enormous). */
+  wide(line: number, lineStart: number, s: number, e: number, limit: number): void {
+    const expected = this.expected;
+    this.problems.add('wide', 'edge-shape', 'error', 'edge_index',
+      (cnt, p) => `${plural(cnt, 'line')} ${cnt === 1 ? 'has' : 'have'} far more fields than the ${expected} of ` +
+        `the other lines (first at line ${p?.line}: ${p?.detail}); ${cnt === 1 ? 'it is' : 'they are'} left out. ` +
+        'Such a line is usually many lines run together (lost line breaks) or a matrix saved as text.',
+      this.problems.wants('wide') ? this.loc(line, lineStart, s, e, `more than ${limit} fields`) : undefined);
+  }
+
   dictWeight(line: number, lineStart: number, s: number, e: number): void {
     this.problems.add('dictw', 'edge-shape', 'error', 'edge_weight',
       (cnt, p) => `${plural(cnt, 'weight')} ${cnt === 1 ? 'is' : 'are'} not a number (first at line ` +
@@ -537,39 +599,40 @@ function sniffLayout(b: Uint8Array, first: number): Layout {
   let bytesPerLine = 16;
   if (sampled > 0) bytesPerLine = Math.max(4, (pos - first) / sampled);
 
-  // Delimiter: one that occurs the same number of times on every sampled line wins (most
-  // occurrences first, then tab, comma, semicolon, pipe); else the one occurring most often on
-  // every line; else runs of whitespace.
-  let best: [number, Delimiter] | undefined;
-  let bestCount = 0;
-  let loose: [number, Delimiter] | undefined;
-  let looseMin = 0;
-  if (sampled > 0) {
-    for (const cand of DELIMS) {
-      let min = Infinity;
-      let max = 0;
-      for (let k = 0; k < sampled; k++) {
-        let cnt = 0;
-        // Counting stops at a '{': networkx dict data (`{'weight': 4, 'c': 1}`) has its own commas.
-        for (let p = lineStarts[k]!; p < lineEnds[k]! && b[p] !== 0x7b; p++) if (b[p] === cand[0]) cnt++;
-        if (cnt < min) min = cnt;
-        if (cnt > max) max = cnt;
-      }
-      if (min > 0 && min === max && min > bestCount) {
-        best = cand;
-        bestCount = min;
-      }
-      if (min > looseMin) {
-        loose = cand;
-        looseMin = min;
+  // Delimiter: the one whose count per line the most sampled lines agree on (at least one
+  // occurrence, on more than half of the lines), so that one short or odd line does not decide;
+  // ties go to more occurrences per line, then to tab, comma, semicolon, pipe. Else runs of
+  // whitespace.
+  let chosen: [number, Delimiter] | undefined;
+  let chosenAgree = 0;
+  let chosenCount = 0;
+  const perLine = new Map<number, number>();
+  for (const cand of DELIMS) {
+    perLine.clear();
+    for (let k = 0; k < sampled; k++) {
+      let cnt = 0;
+      // Counting stops at a '{': networkx dict data (`{'weight': 4, 'c': 1}`) has its own commas.
+      const end = Math.min(lineEnds[k]!, lineStarts[k]! + SNIFF_LINE_BYTES);
+      for (let p = lineStarts[k]!; p < end && b[p] !== 0x7b; p++) if (b[p] === cand[0]) cnt++;
+      if (cnt > 0) perLine.set(cnt, (perLine.get(cnt) ?? 0) + 1);
+    }
+    for (const [cnt, agree] of perLine) {
+      if (2 * agree <= sampled) continue;
+      if (agree > chosenAgree || (agree === chosenAgree && cnt > chosenCount)) {
+        chosen = cand;
+        chosenAgree = agree;
+        chosenCount = cnt;
       }
     }
   }
-  const chosen = best ?? loose;
   const delim = chosen ? chosen[0] : 0;
   const delimiter: Delimiter = chosen ? chosen[1] : 'whitespace';
 
   const sp = new FieldSplitter(delim);
+  sp.maxFields = SNIFF_MAX_FIELDS;
+  // Data lines that start with two integer ids: what makes the text an edge list.
+  let idLines = 0;
+  let firstOther = -1;
   const counts: number[] = [];
   let headerAt = -1;
   let columns: string[] | undefined;
@@ -584,14 +647,29 @@ function sniffLayout(b: Uint8Array, first: number): Layout {
       columns = fieldTexts(b, sp);
       continue;
     }
+    if (f >= 2 && isId(b, sp.starts[0]!, sp.ends[0]!) && isId(b, sp.starts[1]!, sp.ends[1]!)) idLines++;
+    else if (firstOther < 0) firstOther = lineStarts[k]!;
     if (f > 2 && b[sp.starts[2]!] === 0x7b /* { */) {
       dict = true;
       if (dictWeightBounds(b, sp.starts[2]!, sp.lineEnd) >= 0) dictWeightSeen = true;
     }
+    // A line too wide to split is reported by the reader; it does not set the layout.
+    if (sp.cut) continue;
     if (!(f >= 2 && sp.starts[f - 1] === sp.ends[f - 1])) trailingEmpty = false;
     counts.push(f);
   }
   if (counts.length === 0) trailingEmpty = false;
+  const dataLines = sampled - (headerAt >= 0 ? 1 : 0);
+  let notEdgeList: string | undefined;
+  // No data lines at all (only comments, or a header row): an empty edge list.
+  if (dataLines > 0 && 2 * idLines <= dataLines) {
+    const at = firstOther;
+    const lineNo = countLF(b, first, at) + 1;
+    const excerpt = tokenText(b, at, trimEnd(b, at, lineEndFrom(b, at, n)), 30);
+    notEdgeList = `${idLines} of its first ${plural(dataLines, 'data line')} ${dataLines === 1 ? 'starts' : 'start'} ` +
+      `with two integer node ids (the rule: more than half of the first data lines, up to ${SNIFF_LINES}, must), ` +
+      `e.g. line ${lineNo} is '${excerpt}'. If it is an edge list, name it in hopscope.json to have it read as one.`;
+  }
 
   let fieldCount: number;
   if (dict) {
@@ -624,13 +702,41 @@ function sniffLayout(b: Uint8Array, first: number): Layout {
       if (names) columns = fieldTexts(b, sp).slice(0, fieldCount);
     }
   }
-  return { delim, delimiter, fieldCount, headerAt, columns, dict, trailingEmpty, bytesPerLine, scanned: pos };
+  return {
+    delim, delimiter, fieldCount, headerAt, columns, dict, trailingEmpty, bytesPerLine, scanned: pos, dataLines,
+    notEdgeList,
+  };
 }
 
 function isNumeric(b: Uint8Array, s: number, e: number): boolean {
   if (s === e) return false;
   parseNumberBytes(b, s, e);
   return numberState.ok;
+}
+
+/** A token that can be a node id: a whole number, however it is written (`7`, `-1`, `7.0`, `7e0`). */
+function isId(b: Uint8Array, s: number, e: number): boolean {
+  if (s === e) return false;
+  const v = parseNumberBytes(b, s, e);
+  return numberState.ok && Number.isInteger(v);
+}
+
+/**
+ * For the first bytes of a file: why it is not an edge list, when its first data lines already
+ * say so (the same rule readEdgeList applies); undefined when they say it is one, or when the
+ * bytes end before SNIFF_LINES data lines and the file goes on (`whole` false).
+ */
+export function notEdgeListReason(prefix: Uint8Array, whole: boolean): string | undefined {
+  let b = prefix;
+  if (!whole) {
+    let last = b.length - 1;
+    while (last >= 0 && b[last] !== LF) last--;
+    b = b.subarray(0, last + 1);
+  }
+  if (onlyCrLineEnds(b)) return undefined; // read from a converted copy; leave it to the reader
+  const layout = sniffLayout(b, bomLength(b));
+  if (!whole && layout.dataLines + (layout.headerAt >= 0 ? 1 : 0) < SNIFF_LINES) return undefined;
+  return layout.notEdgeList;
 }
 
 function fieldTexts(b: Uint8Array, sp: FieldSplitter): string[] {

@@ -6,7 +6,7 @@
  * Columns are counted in UTF-16 code units, which is what editor and language-server positions use;
  * for text without characters outside the Basic Multilingual Plane this equals the character count.
  */
-import { gunzipSync } from 'fflate';
+import { Inflate, gunzipSync } from 'fflate';
 import {
   MAX_LOCATIONS,
   UnreadableError,
@@ -60,8 +60,10 @@ export function gunzipLimited(bytes: Uint8Array, limits: ReadLimits): Uint8Array
     );
   }
   if (isize > n * MAX_DEFLATE_RATIO + 1024) {
+    // A cut-off file ends in compressed data, which then reads as a nonsense trailer.
     throw new UnreadableError(
-      `gzip size trailer (${isize} bytes from ${n} compressed) is impossible: the data is corrupt`,
+      gzipFault(bytes, limits.maxDecompressedBytes) ??
+        `gzip size trailer (${isize} bytes from ${n} compressed) is impossible: the data is corrupt`,
       n - 4,
     );
   }
@@ -76,18 +78,101 @@ export function gunzipLimited(bytes: Uint8Array, limits: ReadLimits): Uint8Array
   try {
     result = gunzipSync(bytes, { out });
   } catch (e) {
-    throw new UnreadableError(`invalid gzip data: ${e instanceof Error ? e.message : String(e)}`);
+    throw new UnreadableError(
+      gzipFault(bytes, limits.maxDecompressedBytes) ?? `invalid gzip data: ${e instanceof Error ? e.message : String(e)}`,
+    );
   }
   if (result.length !== isize) {
     throw new UnreadableError(
-      'gzip data does not match its size trailer: it is corrupt, truncated, or made of several ' +
+      gzipFault(bytes, limits.maxDecompressedBytes) ??
+        'gzip data does not match its size trailer: it is corrupt, or made of several ' +
         'concatenated gzip members (not supported; decompress and recompress it as one)',
     );
   }
   if (crc32(result) !== crc) {
-    throw new UnreadableError('gzip data fails its CRC-32 check: it is corrupt (or has several members)');
+    throw new UnreadableError(
+      gzipFault(bytes, limits.maxDecompressedBytes) ??
+        'gzip data fails its CRC-32 check: it is corrupt (or has several members)',
+    );
   }
   return result;
+}
+
+/**
+ * Why a gzip stream failed a check, told apart by inflating it once more without keeping the
+ * output. RFC 1952 §2.2: a member is a header, deflate blocks up to the one marked final, then an
+ * 8-byte trailer (CRC-32, ISIZE). A file that stops inside any of these is truncated (cut short by
+ * a copy or a download); deflate data that does not decode is corrupt. Undefined when the stream
+ * and its trailer are complete (the trailer itself is wrong, or several members follow each
+ * other) or when the output runs past `limit` before anything is decided.
+ */
+export function gzipFault(bytes: Uint8Array, limit: number): string | undefined {
+  const n = bytes.length;
+  const start = gzipHeaderEnd(bytes);
+  const cut = (what: string) =>
+    `gzip data is truncated: the file (${n} bytes) ends ${what}; it was probably cut short while ` +
+    'being copied or downloaded, so copy it again from its source';
+  if (start < 0) return cut('inside the gzip header');
+  const whole = inflateProbe(bytes.subarray(start), limit);
+  if (whole.kind === 'eof') {
+    return cut(`before the end of the compressed stream (${whole.out} bytes decompress before the cut)`);
+  }
+  if (whole.kind === 'bad') {
+    return `gzip data is corrupt: the compressed stream is invalid (${whole.message}) after ${whole.out} ` +
+      'decompressed bytes';
+  }
+  if (whole.kind === 'over') return undefined;
+  // The deflate data ends inside the file; the 8 trailer bytes must follow it.
+  if (n - 8 < start || inflateProbe(bytes.subarray(start, n - 8), limit).kind === 'eof') {
+    return cut('inside the 8-byte trailer (CRC-32 and size) after a complete compressed stream');
+  }
+  return undefined;
+}
+
+/** Offset where the deflate data of a gzip member starts (RFC 1952 §2.3), or -1 past the end. */
+function gzipHeaderEnd(b: Uint8Array): number {
+  const n = b.length;
+  if (n < 10) return -1;
+  const flags = b[3]!;
+  let p = 10;
+  if (flags & 4) { // FEXTRA: 2-byte length, then that many bytes
+    if (p + 2 > n) return -1;
+    p += 2 + (b[p]! | (b[p + 1]! << 8));
+  }
+  for (const bit of [8, 16]) { // FNAME, FCOMMENT: zero-terminated
+    if (flags & bit) {
+      while (p < n && b[p] !== 0) p++;
+      p++;
+    }
+  }
+  if (flags & 2) p += 2; // FHCRC
+  return p > n ? -1 : p;
+}
+
+type InflateProbe = { kind: 'end' | 'eof' | 'over'; out: number } | { kind: 'bad'; out: number; message: string };
+
+/** Inflates raw deflate data, counting and dropping the output (at most `limit` bytes). */
+function inflateProbe(data: Uint8Array, limit: number): InflateProbe {
+  let out = 0;
+  const over = new Error('over');
+  const inflater = new Inflate((chunk) => {
+    out += chunk.length;
+    if (out > limit) throw over;
+  });
+  const step = 1 << 16;
+  try {
+    for (let p = 0; p < data.length || p === 0; p += step) {
+      const end = Math.min(data.length, p + step);
+      inflater.push(data.subarray(p, end), end === data.length);
+      if (end === data.length) break;
+    }
+  } catch (e) {
+    if (e === over) return { kind: 'over', out };
+    const code = (e as { code?: unknown }).code;
+    if (code === 0) return { kind: 'eof', out }; // fflate: 'unexpected EOF'
+    return { kind: 'bad', out, message: e instanceof Error ? e.message : String(e) };
+  }
+  return { kind: 'end', out };
 }
 
 let CRC_TABLES: Uint32Array | undefined;
@@ -159,12 +244,53 @@ function crToLf(b: Uint8Array): Uint8Array {
 // ---------------------------------------------------------------------------------------------
 // text sniffing
 
-/** Binary data (a NUL byte within the first KiB) is refused; UTF-16 text lands here too. */
+/**
+ * Binary data (a NUL byte within the first KiB) is refused. UTF-16 and UTF-32 text is told apart
+ * from binary data and refused with the way to convert it: by its byte order mark (Unicode
+ * Standard §23.8: FF FE / FE FF, FF FE 00 00 / 00 00 FE FF), or without one by NUL bytes in every
+ * other (every fourth) position, which is what ASCII characters look like in those encodings.
+ */
 export function assertText(b: Uint8Array): void {
+  const wide = wideEncoding(b);
+  if (wide) {
+    throw new UnreadableError(
+      `the file is ${wide.name} text, and Hopscope reads UTF-8 text: convert it first, e.g. ` +
+        `\`iconv -f ${wide.iconv} -t UTF-8 FILE > FILE-utf8\` (or save it as UTF-8 from your editor)`,
+      0,
+    );
+  }
   const end = Math.min(b.length, 1024);
   for (let i = 0; i < end; i++) {
     if (b[i] === 0) throw new UnreadableError(`not a text file (NUL byte at offset ${i})`, i);
   }
+}
+
+/** A UTF-16 or UTF-32 encoding recognised from the first KiB, for assertText. */
+export function wideEncoding(b: Uint8Array): { name: string; iconv: string } | undefined {
+  const n = b.length;
+  if (n >= 4 && b[0] === 0xff && b[1] === 0xfe && b[2] === 0 && b[3] === 0) {
+    return { name: 'UTF-32 (little-endian, with a byte order mark)', iconv: 'UTF-32' };
+  }
+  if (n >= 4 && b[0] === 0 && b[1] === 0 && b[2] === 0xfe && b[3] === 0xff) {
+    return { name: 'UTF-32 (big-endian, with a byte order mark)', iconv: 'UTF-32' };
+  }
+  if (n >= 2 && b[0] === 0xff && b[1] === 0xfe) return { name: 'UTF-16 (little-endian, with a byte order mark)', iconv: 'UTF-16' };
+  if (n >= 2 && b[0] === 0xfe && b[1] === 0xff) return { name: 'UTF-16 (big-endian, with a byte order mark)', iconv: 'UTF-16' };
+  // No mark: count NUL bytes by position modulo 4 in the first KiB (whole code units only).
+  const end = Math.min(n, 1024) & ~3;
+  if (end < 4) return undefined;
+  const nul = [0, 0, 0, 0];
+  for (let i = 0; i < end; i++) if (b[i] === 0) nul[i & 3]!++;
+  const units = end >> 2;
+  const all = (k: number) => nul[k] === units;
+  const none = (k: number) => nul[k] === 0;
+  if (none(0) && all(1) && all(2) && all(3)) return { name: 'UTF-32LE (no byte order mark)', iconv: 'UTF-32LE' };
+  if (all(0) && all(1) && all(2) && none(3)) return { name: 'UTF-32BE (no byte order mark)', iconv: 'UTF-32BE' };
+  // UTF-16: the high bytes of ASCII characters are NUL; most characters of a text are ASCII.
+  const even = nul[0]! + nul[2]!, odd = nul[1]! + nul[3]!, half = units * 2;
+  if (even === 0 && odd * 4 >= half * 3) return { name: 'UTF-16LE (no byte order mark)', iconv: 'UTF-16LE' };
+  if (odd === 0 && even * 4 >= half * 3) return { name: 'UTF-16BE (no byte order mark)', iconv: 'UTF-16BE' };
+  return undefined;
 }
 
 /** Length of a UTF-8 byte order mark at the start, 0 or 3. */
@@ -644,6 +770,13 @@ export class FieldSplitter {
   lineEnd = 0;
   /** Offset where the next line starts. */
   next = 0;
+  /**
+   * Fields kept per line: a line with more stops being split there (`count` is then `maxFields`
+   * and `cut` is set), so one enormous line costs a scan for its end, not memory per field.
+   */
+  maxFields = Infinity;
+  /** The last line had more than `maxFields` fields. */
+  cut = false;
 
   constructor(readonly delim: number) {}
 
@@ -651,6 +784,7 @@ export class FieldSplitter {
   split(b: Uint8Array, i: number, n: number): void {
     const d = this.delim;
     let f = 0;
+    this.cut = false;
     for (;;) {
       const s = i;
       let e: number;
@@ -678,6 +812,12 @@ export class FieldSplitter {
           if (c !== SPACE && c !== TAB && c !== CR) break;
           e--;
         }
+      }
+      if (f === this.maxFields) {
+        // One field too many: skip to the end of the line.
+        this.cut = true;
+        i = lineEndFrom(b, i, n);
+        break;
       }
       if (f === this.starts.length) this.growFields();
       this.starts[f] = s;
@@ -720,6 +860,11 @@ export function skipBlanks(b: Uint8Array, i: number, n: number): number {
 
 /** Offset of the LF that ends the line holding `i` (or n). */
 export function lineEndFrom(b: Uint8Array, i: number, n: number): number {
+  if (n === b.length) {
+    // The runtime's own search: far faster than a loop on a long line.
+    const k = b.indexOf(LF, i);
+    return k < 0 ? n : k;
+  }
   while (i < n && b[i] !== LF) i++;
   return i;
 }
