@@ -26,29 +26,11 @@
  *    carry many small identical islands whose eigenvalues repeat once per copy, which a Krylov
  *    method can only find one copy at a time; here every copy is found at once.
  *
- * 3. The rest (the larger components) comes from thick-restart Lanczos (Wu & Simon, 2000; the
- *    reference is recalled from memory) with full reorthogonalisation, on the complement of the
- *    null space, the small components and the locked vectors; the K-th smallest value known so far
- *    (from any source) bounds what it must find:
- *    - a basis of m = max(2K' + 20, 40) Float64Array vectors (K' = K minus the zeros; memory
- *      O(N·m)). Each new vector is made orthogonal to the last two basis vectors, then to the null
- *      space, the locked vectors and the whole basis by classical Gram–Schmidt, repeated when a
- *      sweep removes more than 1/√2 of it. The projected matrix H = Vᵀ L V (m x m, small and
- *      dense) is filled from those coefficients and diagonalised by ml-matrix's
- *      EigenvalueDecomposition (Householder tridiagonalisation + tql2);
- *    - residual estimates ‖L x − θ x‖ = β·|s_m| from the Lanczos relation; a Ritz pair is locked
- *      (deflated) once its estimate is below 0.01·tol·‖L‖, the smallest unlocked first, and is
- *      then verified with an explicit product (Rayleigh quotient and residual, ≤ tol·‖L‖);
- *    - Krylov spaces are shift-invariant, so Lanczos on L and on σI − L (σ ≥ λmax) build the same
- *      spaces and the same Ritz vectors; we work with L directly and keep its smallest Ritz values.
- *      σ = the Gershgorin bound (2·max degree for L, 2 for 𝓛) is the ‖L‖ in the tolerance;
- *    - repeated eigenvalues: a Krylov space from one start vector holds one direction per
- *      distinct eigenvalue, so copies (cycles, hypercubes, twin leaves) are found by
- *      restarts from fresh seeded random vectors: on breakdown (an invariant subspace) a random
- *      vector orthogonal to everything found so far continues the basis, and after a pass that
- *      locked something a new pass starts from a fresh random vector. The run ends only when a
- *      pass that locked nothing converges its smallest Ritz value at or above the K-th smallest
- *      eigenvalue known (or the basis has exhausted the whole space, making every Ritz pair exact).
+ * 3. The rest (the larger components) comes from thick-restart Lanczos (lanczos.ts) on the
+ *    complement of the null space and the small components, with a basis of
+ *    m = max(2K' + 20, 40) vectors (K' = K minus the zeros). Its tolerance is relative to the
+ *    Gershgorin bound σ (2·max degree for L, 2 for 𝓛); repeated eigenvalues are found by fresh
+ *    seeded random starts.
  *
  * Everything is deterministic for a given `seed`. Eigenvectors have unit 2-norm and a fixed sign:
  * the first entry whose magnitude is at least 1e-3 of the largest is positive.
@@ -56,6 +38,8 @@
 import { EigenvalueDecomposition, Matrix } from 'ml-matrix';
 import type { Csr } from './csr';
 import { throwIfCancelled, type Cancel } from './simple-undirected';
+import { lanczosSmallest, type Deflation, type SymmetricOperator } from './lanczos';
+import { axpy, fixSign, norm, scale } from './vectors';
 
 export type LaplacianKind = 'combinatorial' | 'normalized';
 
@@ -118,7 +102,7 @@ export const DENSE_LIMIT = 4096;
 // Operator
 
 /** y = L x (combinatorial) or y = 𝓛 x (normalized, Chung's convention) on a simple undirected CSR. */
-export class LaplacianOperator {
+export class LaplacianOperator implements SymmetricOperator {
   readonly n: number;
   readonly kind: LaplacianKind;
   /** Gershgorin bound on ‖L‖₂. */
@@ -206,7 +190,7 @@ export function connectedComponents(sym: Csr): { count: number; comp: Int32Array
   return { count, comp };
 }
 
-class NullSpace {
+class NullSpace implements Deflation {
   readonly count: number;
   readonly comp: Int32Array;
   /** w_v (null: all ones). */
@@ -381,355 +365,6 @@ function solveSmallComponents(sym: Csr, op: LaplacianOperator, nul: NullSpace, m
     }
   }
   return { values: order.map((t) => candValue[t]!), vectors: order.map((t) => vecOf.get(t)!), solved: chosen.length };
-}
-
-// ---------------------------------------------------------------------------------------------
-// Small helpers over Float64Array vectors
-
-function dot(a: Float64Array, b: Float64Array): number {
-  let s = 0;
-  for (let i = 0; i < a.length; i++) s += a[i]! * b[i]!;
-  return s;
-}
-
-function norm(a: Float64Array): number {
-  return Math.sqrt(dot(a, a));
-}
-
-/** y ← y + alpha·x */
-function axpy(alpha: number, x: Float64Array, y: Float64Array): void {
-  for (let i = 0; i < y.length; i++) y[i]! += alpha * x[i]!;
-}
-
-function scale(alpha: number, x: Float64Array): void {
-  for (let i = 0; i < x.length; i++) x[i]! *= alpha;
-}
-
-/** xorshift32-based uniform numbers in [-1, 1). */
-function makeRandom(seed: number): (x: Float64Array) => void {
-  let s = (seed >>> 0) || 1;
-  return (x: Float64Array) => {
-    for (let i = 0; i < x.length; i++) {
-      s ^= s << 13; s >>>= 0;
-      s ^= s >>> 17;
-      s ^= s << 5; s >>>= 0;
-      x[i] = s / 2147483648 - 1;
-    }
-  };
-}
-
-/** Eigen-decomposition of the leading j x j block of the symmetric m x m matrix H (row-major). */
-function eigSmall(H: Float64Array, j: number, m: number): { values: Float64Array; vectors: Float64Array } {
-  const A = new Matrix(j, j);
-  for (let r = 0; r < j; r++) for (let c = 0; c < j; c++) A.set(r, c, H[r * m + c]!);
-  const evd = new EigenvalueDecomposition(A, { assumeSymmetric: true });
-  const vals = evd.realEigenvalues;
-  const V = evd.eigenvectorMatrix;
-  const order = Array.from({ length: j }, (_, i) => i).sort((a, b) => vals[a]! - vals[b]!);
-  const values = new Float64Array(j);
-  // vectors[c * j + r] = component r of the c-th Ritz vector (column-contiguous).
-  const vectors = new Float64Array(j * j);
-  for (let c = 0; c < j; c++) {
-    values[c] = vals[order[c]!]!;
-    for (let r = 0; r < j; r++) vectors[c * j + r] = V.get(r, order[c]!);
-  }
-  return { values, vectors };
-}
-
-/**
- * V[0..q) ← V[0..j) · S[:, 0..q) in place, where S is column-contiguous (S[c * j + r]).
- * Rows are processed in blocks so the inner loops run over contiguous memory.
- */
-function rotateBasis(V: Float64Array[], j: number, S: Float64Array, q: number, block: Float64Array[]): void {
-  const n = V[0]!.length;
-  const B = block[0]!.length;
-  for (let i0 = 0; i0 < n; i0 += B) {
-    const len = Math.min(B, n - i0);
-    for (let c = 0; c < q; c++) {
-      const out = block[c]!;
-      out.fill(0, 0, len);
-      for (let r = 0; r < j; r++) {
-        const s = S[c * j + r]!;
-        if (s === 0) continue;
-        const vr = V[r]!;
-        for (let i = 0; i < len; i++) out[i]! += s * vr[i0 + i]!;
-      }
-    }
-    for (let c = 0; c < q; c++) V[c]!.set(block[c]!.subarray(0, len), i0);
-  }
-}
-
-/**
- * One classical Gram–Schmidt sweep: c[i] += ⟨Q[i], x⟩ for every i, then x ← x − Σ ⟨Q[i], x⟩ Q[i].
- * Rows go in blocks so the block of x stays in cache while every Q[i] streams past once per phase.
- */
-const SWEEP_ROWS = 2048;
-function gramSchmidtSweep(x: Float64Array, Q: Float64Array[], c: Float64Array | null): void {
-  const q = Q.length;
-  if (q === 0) return;
-  const n = x.length;
-  const d = new Float64Array(q);
-  for (let i0 = 0; i0 < n; i0 += SWEEP_ROWS) {
-    const i1 = Math.min(n, i0 + SWEEP_ROWS);
-    for (let k = 0; k < q; k++) {
-      const v = Q[k]!;
-      let s = 0;
-      for (let i = i0; i < i1; i++) s += v[i]! * x[i]!;
-      d[k]! += s;
-    }
-  }
-  for (let i0 = 0; i0 < n; i0 += SWEEP_ROWS) {
-    const i1 = Math.min(n, i0 + SWEEP_ROWS);
-    for (let k = 0; k < q; k++) {
-      const v = Q[k]!;
-      const h = d[k]!;
-      for (let i = i0; i < i1; i++) x[i]! -= h * v[i]!;
-    }
-  }
-  if (c) for (let k = 0; k < q; k++) c[k]! += d[k]!;
-}
-
-/** Sign convention: the first entry with magnitude ≥ 1e-3·max|x| is positive. */
-function fixSign(x: Float64Array): void {
-  let mx = 0;
-  for (let i = 0; i < x.length; i++) mx = Math.max(mx, Math.abs(x[i]!));
-  for (let i = 0; i < x.length; i++) {
-    if (Math.abs(x[i]!) >= 1e-3 * mx) {
-      if (x[i]! < 0) scale(-1, x);
-      return;
-    }
-  }
-}
-
-// ---------------------------------------------------------------------------------------------
-// Thick-restart Lanczos with locking on the complement of the null space
-
-interface Pair { value: number; vec: Float64Array; residual: number }
-
-interface LanczosOut {
-  pairs: Pair[];
-  converged: boolean;
-  matvecs: number;
-  passes: number;
-  restarts: number;
-}
-
-/**
- * The eigenpairs below the `want`-th smallest of (external ∪ found) on the complement of the null
- * space and of `nul.excluded`; `external` (ascending) are eigenvalues already known elsewhere.
- */
-function lanczosSmallest(op: LaplacianOperator, nul: NullSpace, want: number, external: readonly number[], m: number, tol: number, maxMatvecs: number, seed: number, cancel: Cancel | undefined): LanczosOut {
-  const n = op.n;
-  const sigma = op.normBound;
-  const tolAbs = tol * sigma;
-  const lockTol = 0.01 * tolAbs;
-  const breakTol = 1e-3 * lockTol;
-  const delta = tolAbs;
-  const random = makeRandom(seed);
-
-  const locked: Pair[] = [];
-  const pool: Float64Array[] = [];
-  const take = (): Float64Array => pool.pop() ?? new Float64Array(n);
-  const release = (x: Float64Array): void => { pool.push(x); };
-  const V: Float64Array[] = [];
-  const H = new Float64Array(m * m);
-  const coef = new Float64Array(m);
-  const lockedVecs: Float64Array[] = [];
-  const blockRows = Math.max(1, Math.min(n, 1024));
-  const block: Float64Array[] = Array.from({ length: m }, () => new Float64Array(blockRows));
-  let matvecs = 0, passes = 0, restarts = 0;
-
-  /**
-   * Removes from x its components on the null space, the locked vectors and V; coefficients on V
-   * are added to `c`. When `local` is true (a Lanczos step) x is first made orthogonal to the last
-   * two basis vectors, which removes nearly all of it; one blocked classical Gram–Schmidt sweep
-   * over everything follows, repeated while it still removes more than 1/√2 of the norm.
-   */
-  const orthogonalise = (x: Float64Array, c: Float64Array | null, local: boolean): number => {
-    if (local) {
-      for (let i = Math.max(0, V.length - 2); i < V.length; i++) {
-        const h = dot(V[i]!, x);
-        if (c) c[i]! += h;
-        axpy(-h, V[i]!, x);
-      }
-    }
-    let before = norm(x);
-    let after = before;
-    for (let pass = 0; pass < 3; pass++) {
-      nul.project(x);
-      gramSchmidtSweep(x, lockedVecs, null);
-      gramSchmidtSweep(x, V, c);
-      after = norm(x);
-      if (after > 0.7071 * before) break;
-      before = after;
-    }
-    return after;
-  };
-
-  /** A fresh random vector orthogonal to everything found so far, or null when nothing is left. */
-  const randomVector = (): { v: Float64Array; norm: number } | null => {
-    const u = take();
-    random(u);
-    const orig = norm(u);
-    const after = orthogonalise(u, null, false);
-    if (!(after > 1e-10 * orig)) { release(u); return null; }
-    return { v: u, norm: after };
-  };
-
-  let converged = false;
-  let finished = false;
-  // Continuation vector (unnormalised) and its norm; `beta` is the coupling in L V = V H + β v⁺ eₘᵀ.
-  let r: Float64Array | null = null;
-  let rnorm = 0;
-  let beta = 0;
-  let dropped = 0;
-  let lockedThisPass = 0;
-
-  const startPass = (): boolean => {
-    while (V.length) release(V.pop()!);
-    if (r) { release(r); r = null; }
-    const s = randomVector();
-    passes++;
-    lockedThisPass = 0;
-    dropped = 0;
-    beta = 0;
-    if (!s) return false;
-    r = s.v;
-    rnorm = s.norm;
-    return true;
-  };
-
-  if (!startPass()) return { pairs: [], converged: true, matvecs, passes, restarts };
-
-  while (!finished) {
-    // ---- expand the basis to m vectors
-    let exhausted = false;
-    while (V.length < m && r !== null) {
-      throwIfCancelled(cancel);
-      if (matvecs >= maxMatvecs) break;
-      const j = V.length;
-      const v: Float64Array = r;
-      scale(1 / rnorm, v);
-      V.push(v);
-      r = null;
-      const w = take();
-      op.apply(v, w);
-      matvecs++;
-      coef.fill(0, 0, j + 1);
-      const wn = orthogonalise(w, coef, true);
-      for (let i = 0; i <= j; i++) { H[i * m + j] = coef[i]!; H[j * m + i] = coef[i]!; }
-      if (wn > breakTol) {
-        r = w; rnorm = wn; beta = wn;
-      } else {
-        // Invariant subspace: continue with a random vector orthogonal to everything so far.
-        release(w);
-        dropped += wn;
-        beta = 0;
-        const s = randomVector();
-        if (s) { r = s.v; rnorm = s.norm; } else exhausted = true;
-      }
-    }
-    const j = V.length;
-    if (j === 0) break;
-
-    // ---- Rayleigh–Ritz on the basis
-    const { values: theta, vectors: S } = eigSmall(H, j, m);
-    const estimate = (i: number): number => beta * Math.abs(S[i * j + (j - 1)]!) + dropped;
-    const vals = [...external, ...locked.map((p) => p.value)].sort((a, b) => a - b);
-    let nLock = 0;
-    let certified = false;
-    for (let i = 0; i < j; i++) {
-      // Locking asks for 0.01·tol·σ; the bound that ends a pass only for tol·σ (the pair is then
-      // within tol·σ of an eigenvalue, which is all the comparison needs).
-      const est = estimate(i);
-      const threshold = vals.length >= want ? vals[want - 1]! : Infinity;
-      if (est <= lockTol && theta[i]! < threshold - delta) {
-        nLock++;
-        let at = vals.length;
-        while (at > 0 && vals[at - 1]! > theta[i]!) at--;
-        vals.splice(at, 0, theta[i]!);
-      } else {
-        if (est <= tolAbs && theta[i]! >= threshold - delta) certified = true;
-        break;
-      }
-    }
-    const wantLeft = Math.max(1, want - external.length - locked.length - nLock);
-    let keep = Math.min(j - nLock, wantLeft + Math.floor((m - wantLeft) / 2), m - 2);
-    if (exhausted || certified) keep = 0;
-    keep = Math.max(0, keep);
-    const q = nLock + keep;
-    if (q > 0) rotateBasis(V, j, S, q, block);
-    while (V.length > q) release(V.pop()!);
-
-    // ---- verify and lock
-    const kept: { vec: Float64Array; theta: number }[] = [];
-    for (let c = 0; c < q; c++) {
-      const y = V[c]!;
-      if (c < nLock) {
-        const ly = take();
-        op.apply(y, ly);
-        matvecs++;
-        const lambda = dot(y, ly);
-        axpy(-lambda, y, ly);
-        const res = norm(ly);
-        release(ly);
-        if (res <= tolAbs) {
-          locked.push({ value: lambda, vec: y, residual: res });
-          lockedVecs.push(y);
-          lockedThisPass++;
-          continue;
-        }
-      }
-      kept.push({ vec: y, theta: theta[c]! });
-    }
-    V.length = 0;
-
-    // ---- decide: finished, new pass, or thick restart
-    const haveAll = external.length + locked.length >= want;
-    if (exhausted && kept.length === 0 && (certified || nLock === j)) {
-      // The basis spanned everything left: every Ritz pair was exact.
-      converged = haveAll;
-      finished = true;
-      break;
-    }
-    if (certified && lockedThisPass === 0 && haveAll) {
-      // A pass from a fresh random start found nothing below the K-th locked eigenvalue.
-      for (const p of kept) release(p.vec);
-      converged = true;
-      finished = true;
-      break;
-    }
-    if (matvecs >= maxMatvecs) {
-      // Out of budget: report the best Ritz pairs for what is missing.
-      for (const p of kept) {
-        if (external.length + locked.length >= want) { release(p.vec); continue; }
-        const ly = take();
-        op.apply(p.vec, ly);
-        const lambda = dot(p.vec, ly);
-        axpy(-lambda, p.vec, ly);
-        locked.push({ value: lambda, vec: p.vec, residual: norm(ly) });
-        release(ly);
-      }
-      converged = false;
-      finished = true;
-      break;
-    }
-    if (certified || exhausted || (passes === 1 && haveAll && lockedThisPass > 0) || r === null) {
-      for (const p of kept) release(p.vec);
-      if (!startPass()) { converged = external.length + locked.length >= want; finished = true; }
-      continue;
-    }
-    // Thick restart: the kept Ritz vectors, then the continuation vector.
-    restarts++;
-    H.fill(0);
-    for (let c = 0; c < kept.length; c++) {
-      V.push(kept[c]!.vec);
-      H[c * m + c] = kept[c]!.theta;
-    }
-  }
-  if (r) release(r);
-  locked.sort((a, b) => a.value - b.value);
-  return { pairs: locked.slice(0, want), converged: converged && external.length + locked.length >= want, matvecs, passes, restarts };
 }
 
 // ---------------------------------------------------------------------------------------------
