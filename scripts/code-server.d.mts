@@ -27,6 +27,7 @@ export interface CodeServer {
   exited: Promise<number | string | null>;
 }
 
+export const CODE_SERVER_VERSION: string | undefined;
 export function codeServerInstalled(): boolean;
 export function makeProfile(base: string, opts?: { isolate?: boolean; settings?: Record<string, unknown> }): Profile;
 export function installVsix(profile: Profile, vsix: string): void;

@@ -2,7 +2,8 @@
 // scripts/e2e-setup.sh) for the end-to-end tests, the extension-host test runner and `npm run demo`.
 // code-server runs on its own Node 24 (first on PATH), in its own process group, bound to 127.0.0.1.
 import { spawn, spawnSync } from 'node:child_process';
-import { cpSync, createWriteStream, existsSync, mkdirSync, readdirSync, writeFileSync } from 'node:fs';
+import { cpSync, createWriteStream, existsSync, mkdirSync, mkdtempSync, readFileSync, readdirSync, rmSync, writeFileSync } from 'node:fs';
+import { tmpdir } from 'node:os';
 import { createServer } from 'node:net';
 import { dirname, join } from 'node:path';
 import { fileURLToPath } from 'node:url';
@@ -36,8 +37,29 @@ export const QUIET_SETTINGS = {
   'editor.hover.delay': 150,
 };
 
+/** The version scripts/e2e-setup.sh installs (read from the script, so it is written once). */
+export const CODE_SERVER_VERSION =
+  readFileSync(join(ROOT, 'scripts/e2e-setup.sh'), 'utf8').match(/^CODE_SERVER_VERSION=([\d.]+)/m)?.[1];
+
+/**
+ * True when .cache/e2e/cs holds a code-server that answers with the expected version. A folder left
+ * by an interrupted install has the files but does not answer. The first start of code-server writes
+ * a default config file and logs that before the version, so the version is read from its own line,
+ * with a throw-away home so nothing is read from or written to the user's.
+ */
 export function codeServerInstalled() {
-  return existsSync(CODE_SERVER_BIN) && existsSync(join(NODE24_BIN, 'node'));
+  if (!existsSync(CODE_SERVER_BIN) || !existsSync(join(NODE24_BIN, 'node'))) return false;
+  const home = mkdtempSync(join(tmpdir(), 'hopscope-cs-version-'));
+  try {
+    const r = spawnSync(CODE_SERVER_BIN, ['--version'], {
+      env: { ...process.env, HOME: home, XDG_CONFIG_HOME: join(home, 'config'), XDG_DATA_HOME: join(home, 'data'),
+        PATH: `${NODE24_BIN}:${process.env.PATH}` },
+      encoding: 'utf8', timeout: 60_000,
+    });
+    return (r.stdout ?? '').match(/^(\d+\.\d+\.\d+)\b/m)?.[1] === CODE_SERVER_VERSION;
+  } finally {
+    rmSync(home, { recursive: true, force: true });
+  }
 }
 
 /**
