@@ -156,6 +156,23 @@ const snap = npz({ edge_index: npy('<i8', [2, 6], i64([0, 1, 1, 2, 2, 0, 1, 0, 2
 write('archive/snapshot_2024.npz', snap.subarray(0, Math.floor(snap.length * 0.6)));
 // A tensor saved with an extra row of dock ids: neither 2 x E nor E x 2.
 write('archive/bad_export/edge_index.npy', npy('<i8', [3, 5], i64([0, 1, 2, 3, 4, 1, 2, 3, 4, 0, 9, 9, 9, 9, 9])));
+// The 2018 lane list: each lane written once (a → b only), as lane surveys list them.
+const lanes2018 = ['# Larkhaven lanes, 2018 survey: one line per lane'];
+for (let u = 0; u < 20; u++) lanes2018.push(`${u} ${(u + 1) % 20}`, ...(u % 4 === 0 ? [`${u} ${(u + 7) % 20}`] : []));
+write('archive/lanes_2018.el', lanes2018.join('\n') + '\n');
+// Net rides between docks (rides a → b minus rides b → a): skew-symmetric, lower triangle stored.
+// The export also wrote each dock's own ride total on the diagonal, which a skew-symmetric matrix cannot hold.
+const flow = ['%%MatrixMarket matrix coordinate integer skew-symmetric', '% Larkhaven net rides between docks, March'];
+const fEntries = [];
+for (let u = 2; u <= 8; u++) fEntries.push(`${u} ${u - 1} ${randint(40) - 20 || 3}`);
+fEntries.push('5 5 112', '6 6 87');
+flow.push(`8 8 ${fEntries.length}`, ...fEntries);
+write('archive/net_flow.mtx', flow.join('\n') + '\n');
+// A map tool's export: docks and paths, but not in any graph layout that is read.
+write('archive/dock_map.json', JSON.stringify({
+  nodes: Array.from({ length: 4 }, (_, i) => ({ dock: `D${i + 1}`, lat: 51.5 + i / 100, lon: -0.1 - i / 100 })),
+  paths: [{ from: 'D1', to: 'D2' }, { from: 'D2', to: 'D3' }, { from: 'D3', to: 'D4' }],
+}, null, 2) + '\n');
 
 // --- the manifest --------------------------------------------------------------------------------
 write('hopscope.json', JSON.stringify({

@@ -4,7 +4,7 @@
  */
 import * as fs from 'node:fs';
 import * as path from 'node:path';
-import { checkPaths, loadManifest } from './node/load';
+import { checkPaths, loadManifest, type RelatedProblem, type SkippedFile } from './node/load';
 import { useParallelPairBuilder } from './node/pair-build';
 import type { CheckSetOptions, FileReport } from './core/checks/check-set';
 import type { Problem, Severity } from './core/formats/types';
@@ -134,7 +134,7 @@ export function main(argv: string[], io: CliIo): number {
     inputs.push(args.manifest);
   }
   const t0 = performance.now();
-  const result = checkPaths(inputs, args.options);
+  const result = checkPaths(inputs, args.options, { explainNamedJson: true, refuseNamedText: true });
   const total = performance.now() - t0;
 
   for (const m of result.missing) io.err(`hopscope check: ${m}: no such file or folder\n`);
@@ -142,12 +142,20 @@ export function main(argv: string[], io: CliIo): number {
 
   const files = result.files;
   const all = [...files.flatMap((f) => f.problems), ...result.manifestProblems.map((m) => m.problem)];
-  const summary = {
+  const summary: Summary = {
     files: files.length,
     errors: all.filter((p) => p.severity === 'error').length,
     warnings: all.filter((p) => p.severity === 'warning').length,
     infos: all.filter((p) => p.severity === 'info').length,
   };
+  // Siblings read beside the asked files that disagree with them: their problems count too.
+  const related = result.related.map((r) => r.problem);
+  if (related.length) {
+    summary.related = {
+      errors: related.filter((p) => p.severity === 'error').length,
+      warnings: related.filter((p) => p.severity === 'warning').length,
+    };
+  }
 
   if (args.json) {
     const report = {
@@ -156,11 +164,14 @@ export function main(argv: string[], io: CliIo): number {
         ...files.map(jsonFile),
         ...result.manifestProblems.map((m) => ({ path: m.path, format: 'json', tensors: [], graph: null, problems: [jsonProblem(m.problem)] })),
       ],
+      ...(result.related.length ? { related: result.related.map((r) => ({ path: r.path, for: r.for, problem: jsonProblem(r.problem) })) } : {}),
+      // Text files left out because they are not edge lists, with the rule that decided.
+      skipped: result.skipped,
       summary,
     };
     io.out(JSON.stringify(report, null, 2) + '\n');
   } else {
-    io.out(renderText(files, result.manifestProblems, summary, io.color));
+    io.out(withSkipped(renderText(files, result.manifestProblems, result.related, summary, io.color), result.skipped, io.color));
   }
 
   if (process.env.HOPSCOPE_TIMINGS) {
@@ -176,10 +187,11 @@ export function main(argv: string[], io: CliIo): number {
   const unreadable = files.some((f) => f.problems.some((p) => p.code === 'unreadable' && p.severity === 'error'));
   if (result.missing.length || result.unsupported.length || unreadable) return 2;
   if (files.length === 0 && result.manifestProblems.length === 0) {
-    io.err('hopscope check: no supported graph files found\n');
+    const n = result.skipped.length;
+    io.err(`hopscope check: no supported graph files found${n ? ` (${n} text file${n === 1 ? '' : 's'} skipped: not edge lists)` : ''}\n`);
     return 2;
   }
-  if (args.failOn !== 'never' && all.some((p) => severityAtLeast(p.severity, args.failOn as Severity))) return 1;
+  if (args.failOn !== 'never' && [...all, ...related].some((p) => severityAtLeast(p.severity, args.failOn as Severity))) return 1;
   return 0;
 }
 
@@ -201,8 +213,17 @@ function jsonProblem(p: Problem) {
 
 const STYLE = { red: 31, yellow: 33, blue: 34, dim: 2, bold: 1, green: 32 } as const;
 
+interface Summary {
+  files: number;
+  errors: number;
+  warnings: number;
+  infos: number;
+  /** Problems of siblings read beside the asked files (not asked for themselves). */
+  related?: { errors: number; warnings: number };
+}
+
 function renderText(files: FileReport[], manifestProblems: Array<{ path: string; problem: Problem }>,
-  summary: { files: number; errors: number; warnings: number; infos: number }, color: boolean): string {
+  related: RelatedProblem[], summary: Summary, color: boolean): string {
   const c = (style: keyof typeof STYLE, s: string) => (color ? `\x1b[${STYLE[style]}m${s}\x1b[0m` : s);
   const sevLabel = (s: Severity) => (s === 'error' ? c('red', 'error  ') : s === 'warning' ? c('yellow', 'warning') : c('blue', 'info   '));
   const lines: string[] = [];
@@ -233,13 +254,42 @@ function renderText(files: FileReport[], manifestProblems: Array<{ path: string;
     lines.push(problemLine(m.problem));
     lines.push('');
   }
+  for (const r of related) {
+    lines.push(c('bold', r.path) + c('dim', `  (read beside ${r.for}, not asked for)`));
+    lines.push(problemLine(r.problem));
+    lines.push('');
+  }
   const parts = [
     `${summary.files} file${summary.files === 1 ? '' : 's'}`,
     summary.errors ? c('red', `${summary.errors} error${summary.errors === 1 ? '' : 's'}`) : '0 errors',
     summary.warnings ? c('yellow', `${summary.warnings} warning${summary.warnings === 1 ? '' : 's'}`) : '0 warnings',
     `${summary.infos} info`,
   ];
+  if (summary.related) {
+    const { errors, warnings } = summary.related;
+    const what = [errors ? `${errors} error${errors === 1 ? '' : 's'}` : '', warnings ? `${warnings} warning${warnings === 1 ? '' : 's'}` : '']
+      .filter(Boolean).join(' and ');
+    if (what) parts.push(`and ${what} in files read beside them`);
+  }
   lines.push(parts.join(', '));
+  return lines.join('\n') + '\n';
+}
+
+/**
+ * The text report with the skipped text files listed before its summary line, which gains
+ * "N skipped".
+ */
+function withSkipped(report: string, skipped: SkippedFile[], color: boolean): string {
+  if (skipped.length === 0) return report;
+  const dim = (s: string) => (color ? `\x1b[2m${s}\x1b[0m` : s);
+  const lines = report.replace(/\n$/, '').split('\n');
+  const summary = lines.pop()!;
+  for (const s of skipped) {
+    lines.push(`${s.path}${dim('  (skipped: not an edge list)')}`);
+    lines.push(dim(`  ${s.reason}`));
+    lines.push('');
+  }
+  lines.push(`${summary}, ${skipped.length} skipped`);
   return lines.join('\n') + '\n';
 }
 

@@ -114,6 +114,22 @@ describe('language server over stdio', () => {
     expect(add.edit.changes[uri('lanes/lanes.csv')]![0]!.newText).toBe('1,37,137\n');
   });
 
+  it('a list with each lane written once gets an info, and the same quick fix adds the reverse lines', async () => {
+    // demo/archive/lanes_2018.el (scripts/make-demo.mjs): 25 lanes, none written both ways.
+    const d = diags('archive/lanes_2018.el').filter((x) => x.code === 'asymmetric-adjacency');
+    expect(d).toHaveLength(1);
+    expect(d[0]!.severity).toBe(3); // Information
+    const text = fs.readFileSync(path.join(ws, 'archive/lanes_2018.el'), 'utf8');
+    await conn.sendNotification('textDocument/didOpen', { textDocument: { uri: uri('archive/lanes_2018.el'), languageId: 'plaintext', version: 1, text } });
+    const actions = await conn.sendRequest('textDocument/codeAction', {
+      textDocument: { uri: uri('archive/lanes_2018.el') }, range: d[0]!.range, context: { diagnostics: d },
+    }) as Array<{ title: string; edit: { changes: Record<string, Array<{ newText: string }>> } }>;
+    expect(actions.map((a) => a.title)).toEqual(['Add 25 missing reverse edges']);
+    const added = actions[0]!.edit.changes[uri('archive/lanes_2018.el')]![0]!.newText.trim().split('\n');
+    expect(added).toHaveLength(25);
+    expect(added[0]).toBe('1 0'); // the reverse of the first lane, "0 1"
+  });
+
   it('custom requests: summary, tensor page, statistics', async () => {
     const s = await conn.sendRequest('hopscope/fileSummary', { uri: uri('lanes/dock_features.npy') }) as { status: string; report: { tensors: Array<{ shape: number[] }> } };
     expect(s.status).toBe('ok');

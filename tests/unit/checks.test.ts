@@ -172,7 +172,8 @@ describe('shape and index conventions (common practice: PyTorch Geometric-style 
     const e = t('edge_index', [2, 3], [1, 2, 3, 2, 3, 1]);
     const c = checkGraph([{ file: 'e', tensor: e, guess: guessRole(e) }], { indexBase: 1 });
     expect(c.figures).toMatchObject({ nodes: 3, edges: 3, indexBase: 1, components: 1 });
-    expect(c.problems).toEqual([]);
+    // A one-way 3-cycle: only the info that no edge has its reverse.
+    expect(c.problems.map((q) => [q.problem.code, q.problem.severity])).toEqual([['asymmetric-adjacency', 'info']]);
   });
   it('adjacency must be square; A[i, j] != 0 is the edge i -> j', () => {
     const c = run(t('adj', [2, 3], [0, 1, 0, 0, 0, 1]));
@@ -217,5 +218,46 @@ describe('node-link JSON through the checks (figures from NetworkX 2.8, tests/fi
     expect(f.graph).toMatchObject({ nodes: e.nodes, edges: e.edges, selfLoops: e.selfLoops, components: e.weakComponents });
     expect(f.problems.map((p) => p.code).sort()).toEqual(['index-out-of-range', 'isolated-nodes', 'self-loops']);
     expect(f.tensors.map((t) => `${t.name}:${t.role}`)).toEqual(['edge_index:edge-index', 'edge_weight:edge-weight', 'x:features', 'y:labels', 'train_mask:mask']);
+  });
+});
+
+// Zachary's karate club (W. W. Zachary, 1977), as NetworkX 2.8 holds it and writes it with
+// nx.write_edgelist(nx.karate_club_graph(), …, data=False): 34 nodes, 78 undirected edges, each
+// written once, so no line has its reverse (tests/fixtures/text/expected.json, karate.edges).
+describe('edge lists that store each undirected edge once (NetworkX write_edgelist of the karate club)', () => {
+  const textDir = path.join(__dirname, '../fixtures/text');
+  const exp = JSON.parse(fs.readFileSync(path.join(textDir, 'expected.json'), 'utf8'))['karate.edges'];
+  const file = path.join(textDir, 'karate.edges');
+
+  it('gets an asymmetric-adjacency info that names both readings', () => {
+    expect([exp.nodes, exp.undirectedEdges, exp.count, exp.reversedInFile]).toEqual([34, 78, 78, 0]);
+    const f = checkPaths([file]).files[0]!;
+    expect(f.graph).toMatchObject({ nodes: exp.nodes, edges: exp.count, asymmetricPairs: exp.count, directed: true });
+    expect(f.problems.map((p) => [p.code, p.severity])).toEqual([['asymmetric-adjacency', 'info']]);
+    const p = problem(f, 'asymmetric-adjacency')!;
+    expect(p.count).toBe(exp.undirectedEdges);
+    expect(p.line).toBe(1); // the first line, "0 1", has no "1 0"
+    expect(p.message).toMatch(/add the reverse edges/);
+    expect(p.message).toMatch(/"directed": true in hopscope\.json/);
+  });
+
+  it('stays silent when the graph is declared directed (flag, manifest or editor default)', () => {
+    expect(checkPaths([file], { directed: true }).files[0]!.problems).toEqual([]);
+    expect(checkPaths([file], { defaults: { directed: true } }).files[0]!.problems).toEqual([]);
+    const tmp = fs.mkdtempSync(path.join(os.tmpdir(), 'hopscope-oneway-'));
+    fs.copyFileSync(file, path.join(tmp, 'karate.edges'));
+    fs.writeFileSync(path.join(tmp, 'hopscope.json'), JSON.stringify({ directed: true }));
+    expect(checkPaths([tmp]).files[0]!.problems).toEqual([]);
+    // Declared undirected: every one-way edge is an error, as before.
+    expect(problem(checkPaths([file], { directed: false }).files[0]!, 'asymmetric-adjacency')).toMatchObject({ severity: 'error', count: 78 });
+  });
+
+  it('keeps today\'s behaviour when some pairs have their reverse: mostly one-way stays silent', () => {
+    // 78 one-way lines plus the reverse of the first: 1 of 79 distinct pairs reciprocated.
+    const tmp = fs.mkdtempSync(path.join(os.tmpdir(), 'hopscope-oneway-'));
+    const text = fs.readFileSync(file, 'utf8');
+    const [u, v] = (exp.edges as number[][])[0]!;
+    fs.writeFileSync(path.join(tmp, 'g.edges'), `${text}${v} ${u}\n`);
+    expect(problem(checkPaths([tmp]).files[0]!, 'asymmetric-adjacency')).toBeUndefined();
   });
 });

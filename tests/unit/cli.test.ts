@@ -5,7 +5,8 @@
 import { describe, expect, it } from 'vitest';
 import * as fs from 'node:fs';
 import * as path from 'node:path';
-import { spawnSync } from 'node:child_process';
+import * as os from 'node:os';
+import { spawn, spawnSync } from 'node:child_process';
 import { main } from '../../server/src/cli';
 import { ALL_CODES, CODES } from '../../server/src/core/checks/codes';
 import { checkPaths } from '../../server/src/node/load';
@@ -94,6 +95,105 @@ describe('hopscope check', () => {
   });
 });
 
+// tests/fixtures/graphs/karate_bundle: edge_index.npy and x.npy written by NumPy 1.24
+// (make_graph_fixtures.py); x has one row per node of the karate club (34, NetworkX).
+describe('a sibling that disagrees with the command line', () => {
+  const bundle = path.join(fixtures, 'karate_bundle');
+  const edgeIndex = path.join(bundle, 'edge_index.npy');
+  const rows = expected.graphs.karate.figures.nodes;
+
+  it('--num-nodes 40 with a 34-row x.npy beside the asked file: an info on the asked file, exit 1', () => {
+    const r = run('check', edgeIndex, '--num-nodes', '40', '--json');
+    expect(r.code).toBe(1);
+    const j = JSON.parse(r.out);
+    expect(j.files).toHaveLength(1);
+    const f = j.files[0];
+    expect(f.graph.nodes).toBe(rows);
+    const info = f.problems.find((p: { code: string }) => p.code === 'feature-rows-mismatch');
+    expect(info.severity).toBe('info');
+    expect(info.message).toContain('x.npy');
+    expect(info.message).toContain(`checked with ${rows} nodes, the rows of x in x.npy, not the 40 given on the command line`);
+    // The sibling's own error is listed apart and counts toward --fail-on.
+    expect(j.related).toHaveLength(1);
+    expect(path.basename(j.related[0].path)).toBe('x.npy');
+    expect(j.related[0].problem).toMatchObject({ code: 'feature-rows-mismatch', severity: 'error' });
+    expect(j.summary.related).toEqual({ errors: 1, warnings: 0 });
+    expect(run('check', edgeIndex, '--num-nodes', '40', '--fail-on', 'never').code).toBe(0);
+    const text = run('check', edgeIndex, '--num-nodes', '40');
+    expect(text.out).toMatch(/x\.npy {2}\(read beside .*edge_index\.npy, not asked for\)/);
+    expect(text.out).toMatch(/1 error in files read beside them/);
+  });
+
+  it('without the flag, or with the flag that agrees, nothing is relayed', () => {
+    for (const extra of [[], ['--num-nodes', String(rows)]]) {
+      const r = run('check', edgeIndex, ...extra, '--json');
+      expect(r.code).toBe(0);
+      const j = JSON.parse(r.out);
+      expect(j.related).toBeUndefined();
+      expect(j.files[0].problems).toEqual([]);
+    }
+    // The folder asked as a whole: the error is on x.npy itself, not relayed.
+    const all = JSON.parse(run('check', bundle, '--num-nodes', '40', '--json').out);
+    expect(all.related).toBeUndefined();
+    expect(all.files.find((f: { path: string }) => path.basename(f.path) === 'x.npy').problems[0].code).toBe('feature-rows-mismatch');
+  });
+});
+
+describe('paths that are not regular files', () => {
+  // A named pipe blocks whoever opens it for reading until a writer comes. The checks run in a
+  // child process with a time limit (or, in this process, with a writer that comes after 3 s), so
+  // a regression fails instead of hanging the run.
+  const tmp = fs.mkdtempSync(path.join(os.tmpdir(), 'hopscope-fifo-'));
+  const fifo = path.join(tmp, 'f.npy');
+  const made = spawnSync('mkfifo', [fifo]).status === 0;
+  const cli = path.join(root, 'dist/cli.js');
+
+  it.runIf(made)('hopscope check on a named pipe is unreadable (exit 2) and does not hang', () => {
+    if (!fs.existsSync(cli)) throw new Error('dist/cli.js missing: run npm run build (npm test does)');
+    const r = spawnSync(process.execPath, [cli, 'check', fifo, '--json'], { encoding: 'utf8', timeout: 20_000 });
+    expect(r.signal).toBeNull(); // not killed by the time limit
+    expect(r.status).toBe(2);
+    const p = JSON.parse(r.stdout).files[0].problems[0];
+    expect(p).toMatchObject({ code: 'unreadable', severity: 'error' });
+    expect(p.message).toMatch(/named pipe \(FIFO\), not a regular file/);
+    // A pipe named like a sibling (x.npy) or a manifest beside an asked file is not opened either.
+    fs.writeFileSync(path.join(tmp, 'edge_index.npy'), fs.readFileSync(path.join(fixtures, 'karate_bundle', 'edge_index.npy')));
+    spawnSync('mkfifo', [path.join(tmp, 'x.npy')]);
+    const s = spawnSync(process.execPath, [cli, 'check', path.join(tmp, 'edge_index.npy'), '--json'], { encoding: 'utf8', timeout: 20_000 });
+    expect(s.signal).toBeNull();
+    expect(s.status).toBe(0);
+    expect(JSON.parse(s.stdout).files[0].graph.nodes).toBe(expected.graphs.karate.figures.nodes);
+  });
+
+  it.runIf(made)('the node layer (language server checks and hovers) refuses it too', async () => {
+    const { GraphService } = await import('../../server/src/node/service');
+    // Guard: should the read block, this writer opens the pipe after 3 s and lets it end.
+    const guard = spawn('timeout', ['8', 'sh', '-c', 'sleep 3; : > "$1"', 'sh', fifo], { stdio: 'ignore' });
+    try {
+      const t0 = Date.now();
+      const out = new GraphService().check([fifo]);
+      expect(Date.now() - t0).toBeLessThan(2_500);
+      expect(out.files[0]!.problems[0]).toMatchObject({ code: 'unreadable' });
+      expect(out.files[0]!.problems[0]!.message).toMatch(/named pipe/);
+    } finally {
+      if (guard.pid) process.kill(guard.pid);
+    }
+  });
+});
+
+describe('JSON without graph tensors', () => {
+  it('a JSON file named on the command line gets an info; a folder scan of package.json/tsconfig.json gets none', () => {
+    const tmp = fs.mkdtempSync(path.join(os.tmpdir(), 'hopscope-json-'));
+    fs.copyFileSync(path.join(root, 'tsconfig.json'), path.join(tmp, 'tsconfig.json'));
+    fs.writeFileSync(path.join(tmp, 'package.json'), JSON.stringify({ name: 'x', version: '1.0.0', files: ['dist'] }));
+    const named = JSON.parse(run('check', path.join(tmp, 'tsconfig.json'), '--json').out);
+    expect(named.files[0].problems.map((p: { code: string; severity: string }) => `${p.code}:${p.severity}`)).toEqual(['no-graph-tensors:info']);
+    expect(named.files[0].problems[0].message).toMatch(/^JSON without graph tensors/);
+    const folder = JSON.parse(run('check', tmp, '--json').out);
+    expect(folder.files.flatMap((f: { problems: unknown[] }) => f.problems)).toEqual([]);
+  });
+});
+
 describe('demo workspace and README stay in step with the codes', () => {
   it('hopscope check demo/ shows every problem code', () => {
     const r = checkPaths([path.join(root, 'demo')]);
@@ -121,6 +221,78 @@ describe('demo workspace and README stay in step with the codes', () => {
     for (const f of walk(path.join(root, 'server/src/core'))) {
       const src = fs.readFileSync(f, 'utf8');
       expect(src, f).not.toMatch(/from ['"](vscode|vscode-languageserver[^'"]*|node:fs|fs)['"]/);
+    }
+  });
+});
+
+describe('text files that are not edge lists (issue 8, report item 2)', () => {
+  // README.txt, requirements.txt and metrics.csv (numpy.savetxt) from tests/fixtures/textfiles;
+  // graph.npy is karate.npy as NumPy wrote it (tests/fixtures/graphs, 156 entries).
+  const textfiles = path.join(root, 'tests/fixtures/textfiles');
+  const NOT_EDGE_LISTS = ['README.txt', 'metrics.csv', 'requirements.txt'];
+  const folder = (): string => {
+    const dir = fs.mkdtempSync(path.join(os.tmpdir(), 'hopscope-texts-'));
+    fs.copyFileSync(path.join(fixtures, 'karate.npy'), path.join(dir, 'graph.npy'));
+    for (const f of NOT_EDGE_LISTS) fs.copyFileSync(path.join(textfiles, f), path.join(dir, f));
+    return dir;
+  };
+
+  it('a folder check skips them, lists them as skipped with the rule, and exits 0', () => {
+    const dir = folder();
+    try {
+      const t = run('check', dir);
+      expect(t.code).toBe(0);
+      expect(t.out).toContain('graph.npy');
+      for (const f of NOT_EDGE_LISTS) expect(t.out).toContain(`${f}  (skipped: not an edge list)`);
+      expect(t.out).toMatch(/more than half of the first data lines/);
+      expect(t.out).toMatch(/1 file, 0 errors, 0 warnings, 0 info, 3 skipped\n$/);
+      const j = JSON.parse(run('check', dir, '--json').out);
+      expect(j.files.map((f: { path: string }) => path.basename(f.path))).toEqual(['graph.npy']);
+      expect(j.files[0].graph.edges).toBe(expected.graphs.karate.figures.edges);
+      expect(j.skipped.map((s: { path: string }) => path.basename(s.path))).toEqual(NOT_EDGE_LISTS);
+      expect(j.skipped[0].reason).toMatch(/^0 of its first \d+ data lines start with two integer node ids/);
+      expect(j.summary.errors).toBe(0);
+    } finally {
+      fs.rmSync(dir, { recursive: true, force: true });
+    }
+  });
+
+  it('a file named on the command line gets one unreadable problem; a manifest entry is read as an edge list', () => {
+    const dir = folder();
+    try {
+      const r = run('check', path.join(dir, 'metrics.csv'), '--json');
+      expect(r.code).toBe(2);
+      const j = JSON.parse(r.out);
+      expect(j.skipped).toEqual([]);
+      expect(j.files[0].problems.map((p: { code: string }) => p.code)).toEqual(['unreadable']);
+      expect(j.files[0].problems[0].message).toMatch(/^Cannot read metrics\.csv: not an edge list: 0 of its first 19 data lines/);
+      // Named in hopscope.json, it is read as the edge list the manifest says it is.
+      fs.writeFileSync(path.join(dir, 'hopscope.json'), JSON.stringify({ graphs: [{ name: 'metrics', edges: 'metrics.csv' }] }));
+      const m = JSON.parse(run('check', dir, '--json').out);
+      const metrics = m.files.find((f: { path: string }) => f.path.endsWith('metrics.csv'));
+      expect(metrics.format).toBe('edgelist');
+      expect(metrics.problems.map((p: { code: string }) => p.code)).toContain('non-integer-index');
+      expect(m.skipped.map((s: { path: string }) => path.basename(s.path))).toEqual(['README.txt', 'requirements.txt']);
+    } finally {
+      fs.rmSync(dir, { recursive: true, force: true });
+    }
+  });
+
+  it("CSV with one short line reads its edges and reports the line (printf '0,1\\n1,2\\n0\\n2,0\\n' > a.csv)", () => {
+    const dir = fs.mkdtempSync(path.join(os.tmpdir(), 'hopscope-csv-'));
+    try {
+      const a = path.join(dir, 'a.csv');
+      fs.writeFileSync(a, '0,1\n1,2\n0\n2,0\n');
+      const r = run('check', a, '--json');
+      expect(r.code).toBe(1);
+      const f = JSON.parse(r.out).files[0];
+      expect(f.graph.edges).toBe(3);
+      const codes = f.problems.map((p: { code: string; line?: number }) => `${p.code}@${p.line ?? ''}`);
+      expect(codes).toContain('edge-shape@3');
+      expect(codes.filter((c: string) => c.startsWith('edge-shape'))).toHaveLength(1);
+      expect(codes).not.toContain('empty-graph@');
+    } finally {
+      fs.rmSync(dir, { recursive: true, force: true });
     }
   });
 });

@@ -11,6 +11,7 @@ import * as path from 'node:path';
 import { applyEdits, edgeListFixes } from '../../server/src/core/fixes/edgelist-fixes';
 import { checkPaths } from '../../server/src/node/load';
 import { describeFixedCopy, suggestedTarget, writeFixedCopy } from '../../server/src/node/fixed-copy';
+import { encodeNpyInt64 } from '../../server/src/core/formats/write';
 import { readNpy } from '../../server/src/core/formats/npy';
 import { readNpz } from '../../server/src/core/formats/npz';
 import { DEFAULT_LIMITS, type DenseTensor } from '../../server/src/core/formats/types';
@@ -48,6 +49,27 @@ describe('edge-list quick fixes', () => {
     const [fix] = edgeListFixes(one, 'g.csv', ['to-zero-based']);
     expect(applyEdits(one, fix!.edits)).toBe('src,dst,w\n0,1,0.5\n1,2,1.5\n');
   });
+  it('a list with each undirected edge once (karate club, NetworkX write_edgelist data=False): the info is offered the fix', () => {
+    // tests/fixtures/text/karate.edges: Zachary (1977), 34 nodes, 78 edges as NetworkX 2.8 writes them.
+    const file = path.join(root(), 'tests/fixtures/text/karate.edges');
+    const exp = JSON.parse(fs.readFileSync(path.join(root(), 'tests/fixtures/text/expected.json'), 'utf8'))['karate.edges'];
+    const info = checkPaths([file]).files[0]!.problems.find((p) => p.code === 'asymmetric-adjacency')!;
+    expect(info.severity).toBe('info');
+    const karate = fs.readFileSync(file, 'utf8');
+    const [fix] = edgeListFixes(karate, file, ['add-reverse-edges']);
+    expect(fix!.title).toBe(`Add ${exp.undirectedEdges} missing reverse edges`);
+    const out = applyEdits(karate, fix!.edits);
+    const got = pairs(out);
+    expect(got).toHaveLength(2 * exp.undirectedEdges);
+    const set = new Set(got.map(([a, b]) => `${a},${b}`));
+    for (const [a, b] of exp.edges as number[][]) expect(set.has(`${a},${b}`) && set.has(`${b},${a}`)).toBe(true);
+    // Re-checked, the list is undirected with no problem left.
+    const tmp = path.join(fs.mkdtempSync(path.join(os.tmpdir(), 'hopscope-fix-')), 'karate.edges');
+    fs.writeFileSync(tmp, out);
+    const again = checkPaths([tmp]).files[0]!;
+    expect(again.graph).toMatchObject({ nodes: exp.nodes, edges: 2 * exp.undirectedEdges, directed: false });
+    expect(again.problems).toEqual([]);
+  });
   it('nothing to fix gives no fixes', () => {
     expect(edgeListFixes('0 1\n1 0\n', 'g.edges')).toEqual([]);
   });
@@ -73,6 +95,20 @@ describe('corrected copies of binary files (never over the original)', () => {
     // A second copy does not overwrite the first.
     expect(suggestedTarget(file)).toBe(path.join(dir, 'edge_index.fixed-1.npy'));
     expect(() => writeFixedCopy(file, done.written, report)).toThrow();
+  });
+  it('a copy of a list where no edge has its reverse does not guess that it is undirected', () => {
+    // The karate club edges as NetworkX writes them (each once), stored as a 2 x E int64 .npy.
+    const karate = fs.readFileSync(path.join(root(), 'tests/fixtures/text/karate.edges'), 'utf8');
+    const e = pairs(karate);
+    const file = path.join(dir, 'one_way.npy');
+    fs.writeFileSync(file, encodeNpyInt64([2, e.length], [...e.map((p) => p[0]), ...e.map((p) => p[1])]));
+    const plan = describeFixedCopy(file, checkPaths([file]).files[0]!);
+    expect(plan.changes.join('\n')).not.toMatch(/add \d+ missing reverse/);
+    expect(plan.changes.join('\n')).toMatch(/no edge has its reverse, so none are added/);
+    // Declared undirected, the copy adds all 78.
+    fs.writeFileSync(path.join(dir, 'hopscope.json'), JSON.stringify({ directed: false }));
+    expect(describeFixedCopy(file, checkPaths([file]).files[0]!).changes).toContain(`add ${e.length} missing reverse edges`);
+    fs.rmSync(path.join(dir, 'hopscope.json'));
   });
   it('an .npz copy keeps every other member as it was', () => {
     const file = path.join(dir, 'g.npz');

@@ -231,3 +231,60 @@ describe('node-link JSON (NetworkX node_link_data)', () => {
     expect(plain.tensors.map((t) => t.name)).toEqual(['nodes', 'links']);
   });
 });
+
+// Fixtures written by json.dumps of networkx 2.8's json_graph.adjacency_data / cytoscape_data
+// (make_text_fixtures.py); the expected entries, weights and positions were computed there.
+describe('adjacency and Cytoscape JSON (NetworkX adjacency_data, cytoscape_data)', () => {
+  it('reads adjacency_data of the karate club: every row as listed, both directions already there', () => {
+    const exp = expected['karate_adjacency.json'];
+    const r = read(fixture('karate_adjacency.json'));
+    expect(r.problems).toEqual([]);
+    expect(r.hints).toEqual({ nodes: exp.nodes, directed: false });
+    const ei = dense(r, 'edge_index');
+    expect(ei.declaredRole).toBe('edge-index');
+    expect(ei.shape).toEqual([2, 2 * exp.edges]); // NetworkX: 34 nodes, 78 edges → 156 entries
+    expect(pairs(ei)).toEqual(exp.entries);
+    expect(Array.from(dense(r, 'edge_weight').data)).toEqual(exp.weights);
+    // Entry 5 (row 0, position 5) is located at its "id" value in the text.
+    const s = ei.locator!.locate(ei.shape[1]! + 5)!;
+    const text = new TextDecoder().decode(fixture('karate_adjacency.json'));
+    expect(Number(text.split('\n')[s.line - 1]!.slice(s.column - 1, s.column - 1 + s.length))).toBe(exp.entries[5][1]);
+  });
+
+  it('reads cytoscape_data of the karate club: each undirected edge once, read as both directions', () => {
+    const exp = expected['karate_cytoscape.json'];
+    const r = read(fixture('karate_cytoscape.json'));
+    expect(r.problems).toEqual([]);
+    expect(r.hints).toEqual({ nodes: exp.nodes, directed: false });
+    const ei = dense(r, 'edge_index');
+    expect(ei.shape).toEqual([2, 2 * exp.edges]);
+    expect(pairs(ei)).toEqual(exp.entries);
+    expect(Array.from(dense(r, 'edge_weight').data)).toEqual(exp.weights);
+    // Cytoscape's own node keys (id, value, name) are not tensors; `club` holds strings.
+    expect(r.tensors.map((t) => t.name)).toEqual(['edge_index', 'edge_weight']);
+  });
+
+  it('a directed Cytoscape graph: string ids in node order, per-node tensors, an edge to a missing node located', () => {
+    const exp = expected['docks_cytoscape.json'];
+    const r = read(fixture('docks_cytoscape.json'));
+    expect(r.hints).toEqual({ nodes: exp.nodes, directed: true });
+    expect(pairs(dense(r, 'edge_index'))).toEqual((exp.links as string[][]).map(([a, b]) => [exp.index[a!], exp.index[b!]]));
+    expect(Array.from(dense(r, 'x').data)).toEqual(exp.x.flat());
+    expect(Array.from(dense(r, 'y').data)).toEqual(exp.y);
+    expect(r.problems.map((p) => p.code)).toEqual(['index-out-of-range']);
+    const p = r.problems[0]!;
+    expect(p.message).toContain('elements.edges[5].data.target "dock-q"');
+    expect({ line: p.line, column: p.column, length: p.locations![0]!.length }).toEqual(exp.missing);
+  });
+
+  it('JSON with graph keys in a layout that is not read gets a no-graph-tensors info; other JSON gets nothing', () => {
+    const r = readText('{"nodes": [{"dock": "A"}, {"dock": "B"}], "routes": [{"from": "A", "to": "B"}]}');
+    expect(r.tensors).toEqual([]);
+    expect(r.problems.map((p) => [p.code, p.severity])).toEqual([['no-graph-tensors', 'info']]);
+    expect(r.problems[0]!.message).toMatch(/^JSON without graph tensors/);
+    expect(r.problems[0]!.message).toContain('"nodes"');
+    // package.json / tsconfig.json-like files: no graph keys, nothing said.
+    expect(readText('{"name": "x", "version": "1.0.0", "files": ["dist"], "scripts": {"build": "tsc"}}').problems).toEqual([]);
+    expect(readText('{"compilerOptions": {"strict": true, "lib": ["es2022"]}}').problems).toEqual([]);
+  });
+});

@@ -159,11 +159,19 @@ describe('problems', () => {
     expect(Number.isNaN(a.values![0])).toBe(true);
   });
 
-  it('reports diagonal entries of a skew-symmetric file and upper-triangle entries of a symmetric one', () => {
+  it('keeps the diagonal of a skew-symmetric file as scipy.io.mmread does, and reports the non-zero entries', () => {
     // NISTIR 5935 (REFERENCES.md §1.5): skew-symmetric stores entries strictly below the diagonal.
-    const skew = readText('%%MatrixMarket matrix coordinate real skew-symmetric\n2 2 2\n1 1 3\n2 1 4\n');
-    expect(sparse(skew).row.length).toBe(2);
-    expect(skew.problems.map((p) => [p.code, p.severity, p.line])).toEqual([['edge-shape', 'error', 3]]);
+    // skew_diagonal.mtx stores two diagonal entries (2.5 and an explicit 0); expected.json holds
+    // what scipy 1.10's mmread returned: the diagonal kept once, not mirrored, the explicit 0 too.
+    const exp = expected['skew_diagonal.mtx'];
+    const r = read(fixture('skew_diagonal.mtx'));
+    const a = sparse(r);
+    expect(toDense(a)).toEqual(exp.dense);
+    expect(a.row.length).toBe(exp.nnz);
+    expect(r.problems.map((p) => [p.code, p.severity, p.line, p.count])).toEqual([
+      ['skew-symmetric-diagonal', 'warning', exp.diagonalLine, exp.nonZeroDiagonal],
+    ]);
+    expect(r.problems[0]!.message).toMatch(/diagonal must be zero.*kept as stored/);
     const sym = readText('%%MatrixMarket matrix coordinate real symmetric\n2 2 1\n1 2 4\n');
     expect(toDense(sparse(sym))).toEqual([[0, 4], [4, 0]]);
     expect(sym.problems.map((p) => [p.code, p.severity])).toEqual([['edge-shape', 'warning']]);
@@ -220,9 +228,52 @@ describe('banner and size line', () => {
     expect(r.hints?.nodes).toBeUndefined();
   });
 
+  it('says the real limit for a size line with 10^12 entries (a whole number, not a malformed one)', () => {
+    // size_1e12.mtx: hand-written, declares 10^12 entries and stores one (expected.json).
+    const exp = expected['size_1e12.mtx'];
+    const msg = unreadable(() => read(fixture('size_1e12.mtx'))).message;
+    expect(msg).not.toContain('non-negative integers');
+    expect(msg).toContain(`declares ${exp.declared} entries, found ${exp.found}`);
+    expect(unreadable(() => readText('%%MatrixMarket matrix coordinate real general\n3000000000 3 1\n1 1 1\n')).message)
+      .toMatch(/3000000000 rows is above the 2147483647/);
+    expect(unreadable(() => readText('%%MatrixMarket matrix coordinate real general\n3 3 100000000000000000000\n1 1 1\n')).message)
+      .toMatch(/entries is above 9007199254740991/);
+    expect(unreadable(() => readText('%%MatrixMarket matrix coordinate real general\n3 3 1.5\n1 1 1\n')).message)
+      .toContain('non-negative integers');
+  });
+
   it('stores integer values that do not fit in int32 as Float64Array', () => {
     const a = sparse(readText('%%MatrixMarket matrix coordinate integer general\n1 1 1\n1 1 3000000000\n'));
     expect(a.values).toBeInstanceOf(Float64Array);
     expect(a.values![0]).toBe(3000000000);
   });
+});
+
+// The Matrix Market examples of SciPy's own test module (scipy/io/tests/test_mmio.py, copied by
+// make_text_fixtures.py with what scipy 1.10's mmread returned or raised for each).
+describe("SciPy's test_mmio.py examples", () => {
+  const names = Object.keys(expected).filter((k) => k.startsWith('scipy_'));
+  it('are all there', () => expect(names.length).toBeGreaterThanOrEqual(14));
+  for (const name of names) {
+    const exp = expected[name];
+    it(`${name}: ${exp.error ? `refused, as mmread raises ${exp.error}` : exp.complex ? 'complex: refused' : 'the matrix mmread returns'}`, () => {
+      if (exp.error) {
+        // Integers beyond int64: mmread raises OverflowError; never an int64 that cannot hold them.
+        expect(exp.error).toBe('OverflowError');
+        expect(unreadable(() => read(fixture(name), name)).message).toMatch(/does not fit in int64/);
+        return;
+      }
+      if (exp.complex) {
+        expect(unreadable(() => read(fixture(name), name)).message).toContain('complex');
+        return;
+      }
+      const r = read(fixture(name), name);
+      const a = sparse(r);
+      expect(a.shape).toEqual(exp.shape);
+      expect(a.dtype).toBe(exp.dtype === 'int64' ? 'int64' : exp.banner.includes('pattern') ? 'bool' : 'float64');
+      // int64 values near 2^63 compare as the doubles JSON.parse makes of them, like the reader's.
+      expect(toDense(a)).toEqual(exp.dense);
+      for (const p of r.problems) expect(['skew-symmetric-diagonal', 'edge-shape']).toContain(p.code);
+    });
+  }
 });

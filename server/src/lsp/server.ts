@@ -56,6 +56,8 @@ export function startServer(connection: Connection, workerScript: string): void 
   /** Last published problems per file (absolute path), for status counts and hovers. */
   const published = new Map<string, FileReport>();
   const manifestPublished = new Map<string, Problem[]>();
+  /** Text files found to be something else than edge lists (README.txt, metrics.csv): never published. */
+  const notGraphFiles = new Set<string>();
   /** Graph membership from the last checks: file → files of its graph. */
   const graphOf = new Map<string, string[]>();
   const pending = new Map<string, NodeJS.Timeout>();
@@ -175,7 +177,13 @@ export function startServer(connection: Connection, workerScript: string): void 
   }
 
   function publishOutcome(outcome: CheckOutcome, manifests: string[] = []): void {
+    for (const s of outcome.skipped) {
+      notGraphFiles.add(s);
+      // It may have had problems while it looked like an edge list: clear them.
+      if (published.delete(s)) void connection.sendDiagnostics({ uri: URI.file(s).toString(), diagnostics: [] });
+    }
     for (const f of outcome.files) {
+      notGraphFiles.delete(f.path);
       published.set(f.path, f);
       void connection.sendDiagnostics({ uri: URI.file(f.path).toString(), diagnostics: f.problems.map((p) => toDiagnostic(p, f.path)) });
     }
@@ -328,7 +336,7 @@ export function startServer(connection: Connection, workerScript: string): void 
 
   async function summarise(abs: string, wait: boolean): Promise<FileSummary> {
     const uri = URI.file(abs).toString();
-    if (!isSupportedFile(abs)) return { uri, status: 'unsupported' };
+    if (!isSupportedFile(abs) || (notGraphFiles.has(abs) && !published.has(abs))) return { uri, status: 'unsupported' };
     let size: number;
     try { size = fs.statSync(abs).size; } catch { return { uri, status: 'missing' }; }
     let report = published.get(abs);

@@ -12,8 +12,8 @@ import { dropHelper, getHelper, sharedInt32, signal, waitWhile } from './helper-
 /** Files below this size are read the ordinary way. */
 export const ARRIVING_MIN_BYTES = 32 * 1024 ** 2;
 const CHUNK = 4 * 1024 ** 2;
-/** The one control word: chunks filled so far, or -1 once reading failed. */
-const CHUNKS = 0, FAILED = -1;
+/** Control words: chunks filled so far (-1 once reading failed), and a stop request from the reader. */
+const CHUNKS = 0, FAILED = -1, STOP = 1;
 /** Longest wait for the next chunk before giving up. */
 const STALL_MS = 60_000;
 
@@ -26,14 +26,16 @@ export interface ReadJob {
 
 /**
  * Starts reading `p` (of `size` bytes) on the helper thread. Returns the buffer (final length,
- * filled as it arrives) and the waiting side for the parser, or null when there is no helper.
+ * filled as it arrives), the waiting side for the parser, and `stop` for a parser that gave up
+ * early (the file is refused from its first bytes): the helper then reads no further chunks.
+ * Null when there is no helper.
  */
-export function readArriving(p: string, size: number, minBytes = ARRIVING_MIN_BYTES): { bytes: Uint8Array; arriving: ArrivingBytes } | null {
+export function readArriving(p: string, size: number, minBytes = ARRIVING_MIN_BYTES): { bytes: Uint8Array; arriving: ArrivingBytes; stop(): void } | null {
   if (size < minBytes) return null;
   const w = getHelper();
   if (!w) return null;
   const bytes = new Uint8Array(new SharedArrayBuffer(size));
-  const control = sharedInt32(1);
+  const control = sharedInt32(2);
   const job: ReadJob = { kind: 'read', path: p, bytes, control };
   w.postMessage(job);
   const arriving: ArrivingBytes = {
@@ -52,7 +54,7 @@ export function readArriving(p: string, size: number, minBytes = ARRIVING_MIN_BY
       }
     },
   };
-  return { bytes, arriving };
+  return { bytes, arriving, stop: () => signal(control, STOP, 1) };
 }
 
 /** The helper thread's side: fills the buffer chunk by chunk. */
@@ -63,6 +65,7 @@ export function runReadJob(job: ReadJob): void {
     fd = fs.openSync(job.path, 'r');
     let off = 0, chunks = 0;
     while (off < bytes.length) {
+      if (Atomics.load(control, STOP) !== 0) return; // nobody waits for the rest
       const end = Math.min(bytes.length, off + CHUNK);
       while (off < end) {
         const n = fs.readSync(fd, bytes, off, end - off, off);

@@ -8,7 +8,8 @@
  * - entries with out-of-range or non-integer ids are dropped;
  * - repeated (u, v) entries are dropped (the first stays);
  * - self-loops are dropped when the graph forbids them;
- * - missing reverse edges are appended when the graph is (or looks) undirected.
+ * - missing reverse edges are appended when the graph is (or looks) undirected (not when no edge
+ *   has its reverse: that graph may be directed, and only a declaration says which).
  * Feature values (NaN, Inf) are not touched: how to fill them is a modelling choice.
  */
 import * as fs from 'node:fs';
@@ -16,7 +17,8 @@ import * as path from 'node:path';
 import type { FileReport } from '../core/checks/check-set';
 import { DEFAULT_LIMITS } from '../core/formats/types';
 import { openZip } from '../core/formats/zip';
-import { crc32, encodeNpyInt64, encodeZip, replaceSafetensor, type ZipMember } from '../core/formats/write';
+import { crc32 } from '../core/formats/crc32';
+import { encodeNpyInt64, encodeZip, replaceSafetensor, type ZipMember } from '../core/formats/write';
 import { checkPaths } from './load';
 import type { FixedCopyResult } from '../protocol';
 
@@ -75,7 +77,9 @@ function plan(file: string, report: FileReport | undefined): Plan | { changes: s
   }
   if (dups) changes.push(`drop ${dups} repeated entr${dups === 1 ? 'y' : 'ies'}`);
   if (loops) changes.push(`drop ${loops} self-loop${loops === 1 ? '' : 's'} (the graph forbids them)`);
-  if (has('asymmetric-adjacency')) {
+  // An info means no pair has its reverse: maybe a directed graph, so a copy does not guess.
+  const oneWayOnly = problems.some((p) => p.code === 'asymmetric-adjacency' && p.severity === 'info');
+  if (has('asymmetric-adjacency') && !oneWayOnly) {
     let added = 0;
     const m = src.length;
     for (let k = 0; k < m; k++) {
@@ -87,8 +91,12 @@ function plan(file: string, report: FileReport | undefined): Plan | { changes: s
     }
     if (added) changes.push(`add ${added} missing reverse edge${added === 1 ? '' : 's'}`);
   }
+  if (oneWayOnly) changes.push('(no edge has its reverse, so none are added: declare the graph undirected in hopscope.json to have them added)');
   if (has('non-finite-features')) changes.push('(NaN/Inf feature values are left as they are: choose how to fill them)');
-  return { changes, tensor: t.name, values: [...src, ...dst], e: src.length };
+  // A graph checked on its touched ids (sparse ids) holds compact nodes: write the ids back.
+  const ids = s.ids;
+  const out = ids ? [...src, ...dst].map((u) => ids[u]!) : [...src, ...dst];
+  return { changes, tensor: t.name, values: out, e: src.length };
 }
 
 export function describeFixedCopy(file: string, report: FileReport | undefined): FixedCopyResult {

@@ -35,7 +35,8 @@ export class GraphLoadError extends Error {
 }
 
 export function loadGraph(file: string, options: CheckSetOptions = {}): LoadedGraph {
-  const r = checkPaths([file], options);
+  // A text file that is not an edge list is one clear `unreadable` ("not an edge list: …").
+  const r = checkPaths([file], options, { refuseNamedText: true });
   if (r.missing.length) throw new GraphLoadError(`${file}: no such file`);
   if (r.unsupported.length) throw new GraphLoadError(`${file}: not a supported graph file`);
   const report = r.files[0];

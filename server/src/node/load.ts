@@ -7,14 +7,16 @@ import * as path from 'node:path';
 import * as v8 from 'node:v8';
 import * as vm from 'node:vm';
 import { MANIFEST_NAME, readerFor } from '../core/formats';
-import { DEFAULT_LIMITS, UnreadableError, type ReadLimits, type ReadResult } from '../core/formats/types';
+import { DEFAULT_LIMITS, UnreadableError, type Problem, type ProblemCode, type ReadLimits, type ReadResult } from '../core/formats/types';
+import { withoutGraphTensors } from '../core/formats/json';
 import { checkSet, type CheckSetOptions, type CheckSetResult, type LoadedFile, type LoadedManifest } from '../core/checks/check-set';
 import { ManifestError, parseManifest } from '../core/checks/manifest';
 import { roleFromName } from '../core/checks/roles';
 import { timed } from '../core/timing';
 import { readNpyStreaming } from './npy-stream';
 import { readArriving } from './file-stream';
-import { readEdgeList } from '../core/formats/edgelist';
+import { NotEdgeListError, notEdgeListReason, readEdgeList, type EdgeListReadResult } from '../core/formats/edgelist';
+import { assertText } from '../core/formats/text-common';
 import type { FileCache } from './service';
 
 export interface LoadOptions {
@@ -27,6 +29,18 @@ export interface LoadOptions {
   exclude?: (absPath: string) => boolean;
   /** Files already read, keyed by absolute path, reused while mtime and size are unchanged. */
   cache?: FileCache;
+  /**
+   * A text file named on its own (not found in a folder) that is not an edge list is reported
+   * `unreadable` ("not an edge list: …") instead of being skipped. For the command line; editors
+   * pass every file of a folder by name and skip such files quietly.
+   */
+  refuseNamedText?: boolean;
+  /**
+   * A JSON file named on its own (not found in a folder) that holds no graph tensors gets a
+   * `no-graph-tensors` info, so the user sees it was looked at. Off for editors, which pass every
+   * file of a folder (package.json, tsconfig.json) by name.
+   */
+  explainNamedJson?: boolean;
 }
 
 export const DEFAULT_MAX_FILE_BYTES = 2 * 1024 ** 3;
@@ -82,26 +96,44 @@ export function collect(inputs: string[], opts: LoadOptions = {}): Collected {
   return out;
 }
 
-export function loadFile(p: string, opts: LoadOptions = {}): LoadedFile {
+/** A loaded file; `notEdgeList` is set when a text file was not read because it is not an edge list. */
+export interface LoadedText extends LoadedFile {
+  notEdgeList?: string;
+}
+
+/**
+ * Reads one file. `asEdgeList` (a manifest names the file) reads text as an edge list whatever its
+ * lines look like; otherwise text that is not an edge list comes back with `notEdgeList` set.
+ */
+export function loadFile(p: string, opts: LoadOptions = {}, asEdgeList = false): LoadedText {
   const reader = readerFor(p);
   if (!reader) return { path: p, format: 'json', error: { message: 'not a supported graph file type' } };
   const max = opts.maxFileBytes ?? DEFAULT_MAX_FILE_BYTES;
   try {
     const st = fs.statSync(p);
+    // A named pipe would block the read until something writes to it; devices never end.
+    if (!st.isFile()) return { path: p, format: reader.format, error: { message: notRegularFile(st) } };
     const size = st.size;
     const abs = path.resolve(p);
     const cached = opts.cache?.get(abs, st.mtimeMs, size);
-    if (cached) return { ...cached, path: p };
+    // A text file read as an edge list only because a manifest said so is not one otherwise.
+    if (cached && (asEdgeList || !(cached.result as EdgeListReadResult | undefined)?.notEdgeList)) return { ...cached, path: p };
     if (size > max) {
       return { path: p, format: reader.format, error: { message: `the file is ${(size / 1024 ** 2).toFixed(0)} MiB, above the ${(max / 1024 ** 2).toFixed(0)} MiB limit for checking` } };
     }
     const limits = opts.limits ?? DEFAULT_LIMITS;
-    const result = timed('read', () => readLarge(p, reader.format, size, limits))
-      ?? timed('read', () => reader.read(readWhole(p, size), p, limits));
+    probeText(p, reader.format, size, asEdgeList);
+    const result = timed('read', () => readLarge(p, reader.format, size, limits, asEdgeList))
+      ?? timed('read', () => reader.format === 'edgelist'
+        ? readEdgeList(readWhole(p, size), p, limits, undefined, { asEdgeList })
+        : reader.read(readWhole(p, size), p, limits));
     const loaded: LoadedFile = { path: p, format: result.format, result };
     opts.cache?.set(abs, st.mtimeMs, size, loaded);
     return loaded;
   } catch (e) {
+    if (e instanceof NotEdgeListError) {
+      return { path: p, format: reader.format, error: { message: e.message }, notEdgeList: e.reason };
+    }
     if (e instanceof UnreadableError) {
       return { path: p, format: reader.format, error: { message: e.message, ...(e.line !== undefined ? { line: e.line } : {}), ...(e.offset !== undefined ? { offset: e.offset } : {}) } };
     }
@@ -118,13 +150,51 @@ export function loadFile(p: string, opts: LoadOptions = {}): LoadedFile {
  * The large-file paths: integer .npy edge indices streamed into int32, plain-text edge lists
  * parsed while the helper thread reads them. Null when neither applies (read the whole file).
  */
-function readLarge(p: string, format: string, size: number, limits: ReadLimits): ReadResult | null {
+function readLarge(p: string, format: string, size: number, limits: ReadLimits, asEdgeList: boolean): ReadResult | null {
   if (format === 'npy') return readNpyStreaming(p, size, limits);
   if (format === 'edgelist' && !p.toLowerCase().endsWith('.gz')) {
     const a = readArriving(p, size);
-    if (a) return readEdgeList(a.bytes, p, limits, a.arriving);
+    if (a) {
+      try {
+        return readEdgeList(a.bytes, p, limits, a.arriving, { asEdgeList });
+      } catch (e) {
+        a.stop(); // refused from its first megabytes: the helper reads no further
+        throw e;
+      }
+    }
   }
   return null;
+}
+
+/** Bytes of a large text file looked at before the rest is read. */
+export const PROBE_BYTES = 64 * 1024;
+
+/**
+ * What the first 64 KiB of a large text file already decide, before the rest is read: binary or
+ * UTF-16 data, and (for a text file no manifest names) lines that are not an edge list. Throws
+ * what the reader would throw; a 1000 MiB file of zeros is refused after 64 KiB, not 1000 MiB.
+ */
+function probeText(p: string, format: string, size: number, asEdgeList: boolean): void {
+  if (size <= PROBE_BYTES || p.toLowerCase().endsWith('.gz')) return;
+  if (format !== 'edgelist' && format !== 'mtx' && format !== 'json') return;
+  const head = new Uint8Array(PROBE_BYTES);
+  let got = 0;
+  const fd = fs.openSync(p, 'r');
+  try {
+    while (got < PROBE_BYTES) {
+      const n = fs.readSync(fd, head, got, PROBE_BYTES - got, got);
+      if (n <= 0) break;
+      got += n;
+    }
+  } finally {
+    fs.closeSync(fd);
+  }
+  const b = head.subarray(0, got);
+  assertText(b);
+  if (format === 'edgelist' && !asEdgeList) {
+    const reason = notEdgeListReason(b, false);
+    if (reason !== undefined) throw new NotEdgeListError(reason);
+  }
 }
 
 /** Reads a file into one Uint8Array (not a pooled Buffer slice), in 64 MiB steps. */
@@ -144,8 +214,18 @@ function readWhole(p: string, size: number): Uint8Array {
   }
 }
 
+/** Why a path that exists is not read: it is not a regular file. */
+function notRegularFile(st: fs.Stats): string {
+  const what = st.isFIFO() ? 'a named pipe (FIFO)' : st.isSocket() ? 'a socket'
+    : st.isCharacterDevice() ? 'a character device' : st.isBlockDevice() ? 'a block device'
+      : st.isDirectory() ? 'a folder' : 'not a regular file';
+  return `it is ${what}, not a regular file; only regular files are read (copy the data into a file to check it)`;
+}
+
 export function loadManifest(p: string): LoadedManifest {
   try {
+    const st = fs.statSync(p);
+    if (!st.isFile()) return { path: p, error: `${path.basename(p)} could not be read: ${notRegularFile(st)}` };
     const text = fs.readFileSync(p, 'utf8');
     return { path: p, manifest: parseManifest(text) };
   } catch (e) {
@@ -160,7 +240,7 @@ export function manifestsAbove(dir: string): string[] {
   let d = path.resolve(dir);
   for (;;) {
     const m = path.join(d, MANIFEST_NAME);
-    if (fs.existsSync(m)) found.unshift(m);
+    if (fs.existsSync(m)) found.unshift(m); // loadManifest refuses one that is not a regular file
     if (fs.existsSync(path.join(d, '.git'))) break;
     const parent = path.dirname(d);
     if (parent === d) break;
@@ -169,10 +249,37 @@ export function manifestsAbove(dir: string): string[] {
   return found;
 }
 
+export interface SkippedFile {
+  path: string;
+  /** Why it is not an edge list: the rule and what the first lines hold. */
+  reason: string;
+}
+
 export interface CheckPathsResult extends CheckSetResult {
   missing: string[];
   unsupported: string[];
+  /** Text files that are not edge lists, left out of the check (found in folders, or any for editors). */
+  skipped: SkippedFile[];
+  /**
+   * Problems of files that were not asked for but were read beside an asked file and disagree
+   * with it or with a declaration (a feature matrix whose rows differ from --num-nodes): the asked
+   * file carries an info naming them; callers count these toward their exit status.
+   */
+  related: RelatedProblem[];
 }
+
+export interface RelatedProblem {
+  /** The sibling that has the problem. */
+  path: string;
+  /** The asked file whose check depends on it. */
+  for: string;
+  problem: Problem;
+}
+
+/** Problems of a sibling that are about its agreement with the rest of the graph. */
+const RELAYED_CODES: ReadonlySet<ProblemCode> = new Set<ProblemCode>([
+  'feature-rows-mismatch', 'label-length-mismatch', 'mask-length-mismatch', 'edge-features-rows-mismatch',
+]);
 
 /**
  * Checks files and folders. Files that a manifest names, and role-named siblings of a file given
@@ -181,6 +288,7 @@ export interface CheckPathsResult extends CheckSetResult {
 export function checkPaths(inputs: string[], options: CheckSetOptions = {}, load: LoadOptions = {}): CheckPathsResult {
   const c = collect(inputs, load);
   const requested = new Set(c.files.map((f) => path.resolve(f)));
+  const named = new Set(inputs.filter((i) => !isFolder(i)).map((i) => path.resolve(i)));
   const manifestPaths = new Set(c.manifests.map((m) => path.resolve(m)));
   const filePaths = new Set(requested);
   for (const f of c.files) {
@@ -190,24 +298,105 @@ export function checkPaths(inputs: string[], options: CheckSetOptions = {}, load
     for (const s of siblings(dir)) filePaths.add(s);
   }
   const manifests = [...manifestPaths].map(loadManifest);
+  // Files a manifest names are read as it says: text as an edge list, whatever its lines hold.
+  const declared = new Set<string>();
   for (const m of manifests) {
     for (const g of m.manifest?.graphs ?? []) {
-      for (const ref of g.parts) filePaths.add(path.resolve(path.dirname(m.path), ref.file));
+      for (const ref of g.parts) {
+        const f = path.resolve(path.dirname(m.path), ref.file);
+        filePaths.add(f);
+        declared.add(f);
+      }
     }
   }
-  const loaded = [...filePaths].filter((p) => readerFor(p) && fs.existsSync(p)).map((p) => loadFile(p, load));
+  const givenPaths = new Set(inputs.map((i) => path.resolve(i)));
+  const skipped: SkippedFile[] = [];
+  const loaded: LoadedFile[] = [];
+  for (const p of filePaths) {
+    if (!readerFor(p) || !fs.existsSync(p)) continue;
+    const f = loadFile(p, load, declared.has(p));
+    // Text that is not an edge list (a README, a metrics table): left out, and listed when it was
+    // asked for, unless the command line named it (then it is one `unreadable` problem).
+    if (f.notEdgeList !== undefined && !(load.refuseNamedText && givenPaths.has(p))) {
+      if (requested.has(p)) skipped.push({ path: displayPath(p), reason: f.notEdgeList });
+      continue;
+    }
+    loaded.push(f);
+  }
   // The raw file bytes are garbage now; a 10M-edge .npy is 160 MB of them. Return them before the
   // graph is built, so peak memory is the tensors plus the graph, not plus the file as well.
   if (loaded.reduce((s, f) => s + tensorBytes(f), 0) > 64 * 1024 ** 2) collectGarbage();
   const result = checkSet(loaded, manifests, options);
   const shown = result.files.filter((f) => requested.has(path.resolve(f.path)));
+  if (load.explainNamedJson) {
+    for (const f of shown) {
+      if (f.format === 'json' && named.has(path.resolve(f.path)) && f.tensors.length === 0 && f.problems.length === 0) {
+        f.problems.push(withoutGraphTensors());
+      }
+    }
+  }
+  const related = relayRelated(result, requested, options);
   return {
     ...result,
     files: shown.map((f) => ({ ...f, path: displayPath(f.path) })),
     manifestProblems: result.manifestProblems.map((m) => ({ ...m, path: displayPath(m.path) })),
     missing: c.missing,
     unsupported: c.unsupported,
+    skipped,
+    related: related.map((r) => ({ ...r, path: displayPath(r.path), for: displayPath(r.for) })),
   };
+}
+
+function isFolder(p: string): boolean {
+  try {
+    return fs.statSync(p).isDirectory();
+  } catch {
+    return false;
+  }
+}
+
+/**
+ * For each graph that joins asked files with siblings that were not asked for: the siblings'
+ * disagreements (RELAYED_CODES) become an info on the asked file — naming the sibling and the node
+ * count the graph was checked with — and are returned so callers count them.
+ */
+function relayRelated(result: CheckSetResult, requested: ReadonlySet<string>, options: CheckSetOptions): RelatedProblem[] {
+  const out: RelatedProblem[] = [];
+  const reportOf = new Map(result.files.map((f) => [path.resolve(f.path), f]));
+  for (const g of result.graphs) {
+    const asked = g.files.filter((f) => requested.has(path.resolve(f)));
+    const hidden = g.files.filter((f) => !requested.has(path.resolve(f)));
+    if (!asked.length || !hidden.length) continue;
+    const sf = g.check.structureFile;
+    const target = sf && requested.has(path.resolve(sf)) ? sf : asked[0]!;
+    const targetReport = reportOf.get(path.resolve(target));
+    if (!targetReport) continue;
+    for (const h of hidden) {
+      for (const p of reportOf.get(path.resolve(h))?.problems ?? []) {
+        if (!RELAYED_CODES.has(p.code)) continue;
+        out.push({ path: h, for: target, problem: p });
+        const figures = g.check.figures;
+        const used = figures ? ` ${path.basename(target)} was checked with ${figures.nodes} nodes${nodeSource(g.check, figures.nodes)}` +
+          (options.nodes !== undefined && options.nodes !== figures.nodes ? `, not the ${options.nodes} given on the command line.` : '.') : '';
+        targetReport.problems.push({
+          code: p.code, severity: 'info', count: p.count,
+          message: `${path.basename(h)} (read beside ${path.basename(target)}, not asked for) has ${p.severity === 'warning' ? 'a' : 'an'} ${p.severity}: ${p.message}${used} ` +
+            `The ${p.severity} in ${path.basename(h)} counts toward the exit status.`,
+        });
+      }
+    }
+  }
+  return out;
+}
+
+/** Where the node count came from, when a part of the graph explains it (", the rows of x in x.npy"). */
+function nodeSource(check: CheckSetResult['graphs'][number]['check'], n: number): string {
+  const features = check.parts.find((p) => p.guess.role === 'features' && p.tensor.shape[0] === n);
+  if (features) return `, the rows of ${features.tensor.name} in ${path.basename(features.file)}`;
+  const perNode = check.parts.find((p) => (p.guess.role === 'labels' || (p.guess.role === 'mask' && !p.guess.indexList)) &&
+    p.tensor.shape.length === 1 && p.tensor.shape[0] === n);
+  if (perNode) return `, the length of ${perNode.tensor.name} in ${path.basename(perNode.file)}`;
+  return '';
 }
 
 function tensorBytes(f: LoadedFile): number {
@@ -239,7 +428,16 @@ function siblings(dir: string): string[] {
   }
   return names
     .filter((n) => readerFor(n) && roleFromName(n.replace(/\.[^.]*(\.gz)?$/, '')) !== undefined)
-    .map((n) => path.join(dir, n));
+    .map((n) => path.join(dir, n))
+    .filter(isRegularFile); // as folder scans do: a pipe named x.npy is not read
+}
+
+function isRegularFile(p: string): boolean {
+  try {
+    return fs.statSync(p).isFile();
+  } catch {
+    return false;
+  }
 }
 
 function displayPath(p: string): string {

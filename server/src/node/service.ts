@@ -26,6 +26,8 @@ export interface CheckOutcome {
   manifestProblems: Array<{ path: string; problem: FileReport['problems'][number] }>;
   /** For every graph: its files (absolute). */
   graphs: Array<{ name: string; files: string[]; structureFile: string | null }>;
+  /** Text files that are not edge lists (absolute): no report, and no diagnostics in the editor. */
+  skipped: string[];
 }
 
 interface StructureInfo {
@@ -73,6 +75,7 @@ export class GraphService {
       files: r.files.map((f) => ({ ...f, path: path.resolve(f.path) })),
       manifestProblems: r.manifestProblems.map((m) => ({ path: path.resolve(m.path), problem: m.problem })),
       graphs: r.graphs.map((g) => ({ name: g.name, files: g.files.map((f) => path.resolve(f)), structureFile: g.check.structureFile ? path.resolve(g.check.structureFile) : null })),
+      skipped: r.skipped.map((s) => path.resolve(s.path)),
     };
   }
 

@@ -4,8 +4,11 @@
  *     E ≠ 2 is taken as it stands); any other top-level array becomes one tensor named `data`;
  * (b) an object of named arrays, possibly nested: every array becomes one DenseTensor named by its
  *     key path joined with '.' (`masks.train`); the checks layer reads roles from the last key.
- * (c) node-link JSON (NetworkX's node_link_data; node-link.ts): nodes and links become edge_index
- *     and per-node tensors.
+ * (c) graph JSON in the layouts of NetworkX's json_graph (node_link_data, adjacency_data,
+ *     cytoscape_data; node-link.ts): nodes and edges become edge_index and per-node tensors.
+ * An object with graph keys ("nodes", "edges", …) that gives no tensor gets a `no-graph-tensors`
+ * info, so a graph in some other layout is not passed over in silence; other JSON (package.json,
+ * tsconfig.json) gets none.
  * Arrays holding strings or objects are not tensors and are skipped, as are scalars. Ragged arrays
  * are unreadable. dtype: all booleans → bool; all whole numbers written without '.'/exponent →
  * int64 (Int32Array when every value fits, else Float64Array); anything else (a float, a null,
@@ -20,6 +23,7 @@ import {
   type DType,
   type DenseTensor,
   type GraphHints,
+  type Problem,
   type ReadLimits,
   type ReadResult,
   type TensorData,
@@ -27,7 +31,9 @@ import {
   type TextSpan,
 } from './types';
 import { INT32_MAX, StringLines, assertText } from './text-common';
-import { isNodeLink, isObject, readNodeLink } from './node-link';
+import {
+  isAdjacencyData, isCytoscapeData, isNodeLink, isObject, readAdjacencyData, readCytoscapeData, readNodeLink,
+} from './node-link';
 
 /** Deepest array nesting taken as a tensor, and deepest object nesting walked for names. */
 const MAX_DIMS = 32;
@@ -66,16 +72,43 @@ export function readJson(bytes: Uint8Array, _fileName: string, _limits: ReadLimi
     const linksKey = Array.isArray(root['links']) ? 'links' : 'edges';
     const nl = readNodeLink(root, text, doc.lines, doc.spans.get(linksKey)?.start);
     return { format: 'json', tensors: nl.tensors, problems: nl.problems, hints: nl.hints };
+  } else if (isObject(root) && isAdjacencyData(root)) {
+    const g = readAdjacencyData(root, text, doc.lines, doc.spans.get('adjacency')?.start);
+    return { format: 'json', tensors: g.tensors, problems: g.problems, hints: g.hints };
+  } else if (isObject(root) && isCytoscapeData(root)) {
+    const g = readCytoscapeData(root, text, doc.lines, doc.spans.get('elements.edges')?.start);
+    return { format: 'json', tensors: g.tensors, problems: g.problems, hints: g.hints };
   } else if (isObject(root)) {
     walk(root, '', 0, doc, tensors);
     const nodes = root['num_nodes'];
     if (typeof nodes === 'number' && Number.isInteger(nodes) && nodes >= 0) hints.nodes = nodes;
   }
   const result: ReadResult = { format: 'json', tensors, problems: [] };
+  if (tensors.length === 0 && isObject(root)) {
+    // Keys that name graph parts, in a layout not read: say the file was looked at.
+    const graphKeys = Object.keys(root).filter((k) => GRAPH_KEYS.has(k.toLowerCase()));
+    if (graphKeys.length > 0) result.problems.push(withoutGraphTensors(graphKeys));
+  }
   if (hints.nodes !== undefined) result.hints = hints;
   return result;
 }
 
+
+/** Top-level keys that say a JSON object is meant as a graph. */
+const GRAPH_KEYS = new Set(['nodes', 'links', 'edges', 'adjacency', 'elements', 'edge_index', 'edgeindex', 'adj']);
+
+/** The `no-graph-tensors` info: a JSON object with graph keys in a layout this reader does not take. */
+export function withoutGraphTensors(graphKeys: string[] = []): Problem {
+  const what = graphKeys.length
+    ? `it has ${graphKeys.map((k) => `"${k}"`).join(', ')}, but in no layout that is read, and no array of numbers`
+    : 'no array of numbers and no graph layout that is read';
+  return {
+    code: 'no-graph-tensors', severity: 'info', count: 1,
+    message: `JSON without graph tensors: ${what}. ` +
+      'Read are: arrays of numbers (an [E, 2] or [2, E] edge index, named arrays such as "edge_index", "x", "y"), ' +
+      'and the node-link, adjacency and Cytoscape layouts of NetworkX\'s json_graph.',
+  };
+}
 
 const join = (path: string, key: string): string => (path === '' ? key : `${path}.${key}`);
 

@@ -11,7 +11,10 @@
  * (each off-diagonal entry is also stored mirrored, so it counts twice; skew-symmetric mirrors
  * carry the negated value); array files keep only non-zero entries (NaN counts as non-zero).
  * Duplicate coordinates stay as separate entries (SciPy would sum them; the checks layer reports
- * them). Banner words are case-insensitive, as in the reference readers.
+ * them). A diagonal entry stored in a skew-symmetric coordinate file is kept once, as SciPy's
+ * mmread keeps it, and a non-zero one is reported (`skew-symmetric-diagonal`). An integer value
+ * beyond int64 makes the file unreadable (SciPy's mmread raises OverflowError). Banner words are
+ * case-insensitive, as in the reference readers.
  *
  * Complex and hermitian matrices are refused: a complex adjacency is not graph data, and reading
  * only the real part would silently drop information.
@@ -162,7 +165,7 @@ function readHeader(b: Uint8Array, first: number): Header {
     sp.split(b, i, n);
     const want = format === 'coordinate' ? 3 : 2;
     const nums: number[] = [];
-    for (let k = 0; k < sp.count; k++) nums.push(parseIntBytes(b, sp.starts[k]!, sp.ends[k]!));
+    for (let k = 0; k < sp.count; k++) nums.push(parseCount(b, sp.starts[k]!, sp.ends[k]!));
     if (sp.count !== want || nums.some((x) => !(x >= 0))) {
       const text = tokenText(b, i, sp.lineEnd, 60).trimEnd();
       throw new UnreadableError(
@@ -171,6 +174,21 @@ function readHeader(b: Uint8Array, first: number): Header {
         i,
         line,
       );
+    }
+    // Whole numbers, but maybe beyond what is read: say which limit.
+    const names = ['rows', 'columns', 'entries'];
+    for (let k = 0; k < want; k++) {
+      const x = nums[k]!;
+      if (x === Infinity) {
+        throw new UnreadableError(
+          `Matrix Market size line: ${tokenText(b, sp.starts[k]!, sp.ends[k]!, 40)} ${names[k]} is above ` +
+            `${Number.MAX_SAFE_INTEGER} (2^53 − 1), more than any file can hold`, i, line);
+      }
+      if (k < 2 && x > INT32_MAX) {
+        throw new UnreadableError(
+          `Matrix Market size line: ${x} ${names[k]} is above the ${INT32_MAX} (2^31 − 1) rows and columns ` +
+            `Hopscope reads (node ids are int32)`, i, line);
+      }
     }
     const [rows, cols] = nums as [number, number];
     let entries: number;
@@ -184,6 +202,57 @@ function readHeader(b: Uint8Array, first: number): Header {
     }
     return { format, field, symmetry, rows, cols, entries, pos: sp.next, line };
   }
+}
+
+/**
+ * A size-line count: `[+]digits` as an exact number up to 2^53 − 1, Infinity for longer digit
+ * strings, NaN for anything else (signs other than '+', fractions, exponents).
+ */
+function parseCount(b: Uint8Array, s: number, e: number): number {
+  let i = s;
+  if (i < e && b[i] === 43) i++;
+  if (i === e) return NaN;
+  let v = 0;
+  for (; i < e; i++) {
+    const d = b[i]! - 48;
+    if (d < 0 || d > 9) return NaN;
+    v = v * 10 + d;
+  }
+  return v > Number.MAX_SAFE_INTEGER ? Infinity : v;
+}
+
+const INT64_MAX_DIGITS = '9223372036854775807';
+const INT64_MIN_DIGITS = '9223372036854775808';
+const TWO_63 = 2 ** 63;
+
+/**
+ * Whether an integer-field token whose value rounded to a double is at least 2^63 in magnitude
+ * still names an int64 (2^63 − 1 and −2^63 round to ±2^63). Anything not `[+-]digits` is not.
+ */
+function fitsInt64(b: Uint8Array, s: number, e: number): boolean {
+  let i = s;
+  const neg = b[i] === 45;
+  if (neg || b[i] === 43) i++;
+  while (i < e - 1 && b[i] === 48) i++;
+  let digits = '';
+  for (; i < e; i++) {
+    const c = b[i]!;
+    if (c < 48 || c > 57) return false;
+    digits += String.fromCharCode(c);
+  }
+  const limit = neg ? INT64_MIN_DIGITS : INT64_MAX_DIGITS;
+  return digits.length < limit.length || (digits.length === limit.length && digits <= limit);
+}
+
+/** SciPy's mmread refuses integer values beyond int64 (OverflowError); so does this reader. */
+function refuseBeyondInt64(b: Uint8Array, s: number, e: number, line: number): never {
+  throw new UnreadableError(
+    `line ${line}: the value ${tokenText(b, s, e, 40)} does not fit in int64 (the banner says integer; ` +
+      `int64 holds -9223372036854775808..9223372036854775807, and SciPy's mmread refuses such a file too). ` +
+      'If the values are meant as floats, write the file with field real.',
+    s,
+    line,
+  );
 }
 
 // ---------------------------------------------------------------------------------------------
@@ -251,6 +320,7 @@ function readCoordinate(b: Uint8Array, h: Header): Built {
   const sym = h.symmetry !== 'general';
   const skew = h.symmetry === 'skew-symmetric';
   const hasValue = h.field !== 'pattern';
+  const intField = h.field === 'integer';
   const want = hasValue ? 3 : 2;
   // Each entry takes at least 4 bytes ("1 1\n"): never trust L beyond what the bytes can hold.
   const room = Math.floor((n - h.pos) / 4) + 1;
@@ -315,6 +385,7 @@ function readCoordinate(b: Uint8Array, h: Header): Built {
           if (j === s) break fast;
           v = parseDecimalBytes(b, s, j);
           if (!numberState.ok) break fast;
+          if (intField && (v >= TWO_63 || v <= -TWO_63) && !fitsInt64(b, s, j)) refuseBeyondInt64(b, s, j, line);
         }
         while (x === SPACE || x === TAB || x === CR) x = b[++j]!;
         if (x !== LF) break fast;
@@ -353,6 +424,9 @@ function readCoordinate(b: Uint8Array, h: Header): Built {
     if (hasValue) {
       v = parseDecimalBytes(b, st[2]!, en[2]!);
       if (!numberState.ok) report.notNumber(line, lineStart, st[2]!, en[2]!);
+      else if (intField && (v >= TWO_63 || v <= -TWO_63) && !fitsInt64(b, st[2]!, en[2]!)) {
+        refuseBeyondInt64(b, st[2]!, en[2]!, line);
+      }
     }
     if (f > want) report.extra(line, lineStart, st[want]!, trimEnd(b, st[want]!, sp.lineEnd), want);
     addEntry(store, report, r - 1, q - 1, v, i, sym, skew, line, lineStart);
@@ -376,9 +450,9 @@ function addEntry(
     if (r < c) report.upper(line, lineStart, offset, skew);
     store.push(r, c, v, offset);
     store.push(c, r, skew ? -v : v, offset);
-  } else if (skew) {
-    report.skewDiagonal(line, lineStart, offset);
   } else {
+    // A skew-symmetric file should store no diagonal; SciPy's mmread keeps what is stored.
+    if (skew && v !== 0) report.skewDiagonal(line, lineStart, offset);
     store.push(r, c, v, offset);
   }
 }
@@ -390,6 +464,7 @@ function readArray(b: Uint8Array, h: Header): Built {
   const expected = h.entries;
   const sym = h.symmetry !== 'general';
   const skew = h.symmetry === 'skew-symmetric';
+  const intField = h.field === 'integer';
   const report = new Reporter(b, M, N);
   const store = new Entries(1024, true);
   const sp = new FieldSplitter(0);
@@ -425,6 +500,8 @@ function readArray(b: Uint8Array, h: Header): Built {
       if (!numberState.ok) {
         report.notNumber(line, lineStart, s, e);
         v = NaN;
+      } else if (intField && (v >= TWO_63 || v <= -TWO_63) && !fitsInt64(b, s, e)) {
+        refuseBeyondInt64(b, s, e, line);
       }
       if (v !== 0) {
         store.push(r, c, v, s);
@@ -541,10 +618,12 @@ class Reporter {
 
   skewDiagonal(line: number, lineStart: number, s: number): void {
     const e = trimEnd(this.b, s, lineEndFrom(this.b, s, this.b.length));
-    this.problems.add('skewdiag', 'edge-shape', 'error', 'adjacency',
-      (cnt, p) => `a skew-symmetric matrix has a zero diagonal, but ${plural(cnt, 'diagonal entry', 'diagonal entries')} ` +
-        `${cnt === 1 ? 'is' : 'are'} stored (first at line ${p?.line}); ${cnt === 1 ? 'it is' : 'they are'} left out`,
-      this.problems.wants('skewdiag') ? this.loc(line, lineStart, s, e, 'diagonal entry') : undefined);
+    this.problems.add('skewdiag', 'skew-symmetric-diagonal', 'warning', 'adjacency',
+      (cnt, p) => `the banner says skew-symmetric, so the diagonal must be zero, but ` +
+        `${plural(cnt, 'non-zero diagonal entry', 'non-zero diagonal entries')} ${cnt === 1 ? 'is' : 'are'} stored ` +
+        `(first at line ${p?.line}: ${p?.detail}). ${cnt === 1 ? 'It is' : 'They are'} kept as stored, as SciPy's ` +
+        `mmread does (as edges they are self-loops); if the matrix is not skew-symmetric, fix the banner`,
+      this.problems.wants('skewdiag') ? this.loc(line, lineStart, s, e, `'${tokenText(this.b, s, e)}'`) : undefined);
   }
 
   upper(line: number, lineStart: number, s: number, skew: boolean): void {

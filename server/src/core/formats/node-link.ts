@@ -1,12 +1,16 @@
 /**
- * Node-link JSON, as NetworkX's `json_graph.node_link_data` writes it (and D3 drawings use):
+ * Graph JSON in the three layouts NetworkX's json_graph writes:
+ * - node-link (`node_link_data`, also what D3 drawings use):
  *   { "directed": bool, "multigraph": bool, "graph": {...},
  *     "nodes": [{ "id": ..., attr... }, ...], "links" (or "edges"): [{ "source": id, "target": id, attr... }] }
- * Node i is the i-th entry of "nodes"; ids may be numbers or strings. An undirected graph lists
- * each edge once, so it becomes both directions (a self-loop once), as a message-passing layer
- * needs it. Per-node attributes that every node has as a number, boolean or equal-length list of
- * numbers become tensors named by their key ([N] or [N, F]); a numeric "weight" on every link
- * becomes edge_weight. A link naming an id no node has is left out and reported.
+ * - adjacency (`adjacency_data`): "nodes" plus "adjacency", one list of neighbours per node;
+ * - Cytoscape (`cytoscape_data`): "elements": { "nodes": [{ "data": … }], "edges": [{ "data": … }] }.
+ * Node i is the i-th node listed; ids may be numbers or strings. An undirected node-link or
+ * Cytoscape graph lists each edge once, so it becomes both directions (a self-loop once), as a
+ * message-passing layer needs it; the adjacency layout already lists both. Per-node attributes
+ * that every node has as a number, boolean or equal-length list of numbers become tensors named by
+ * their key ([N] or [N, F]); a numeric "weight" on every edge becomes edge_weight. An edge naming
+ * an id no node has is left out and reported.
  */
 import {
   MAX_LOCATIONS, type DenseTensor, type GraphHints, type Problem, type ProblemLocation, type TensorData,
@@ -40,34 +44,156 @@ export function readNodeLink(root: Record<string, unknown>, text: string, lines:
   const linksKey = Array.isArray(root['links']) ? 'links' : 'edges';
   const nodes = root['nodes'] as Record<string, unknown>[];
   const links = root[linksKey] as Record<string, unknown>[];
-  const directed = root['directed'] === true;
+  const finder = linksStart === undefined ? undefined : new ElementFinder(text, linksStart);
+  return buildGraph(nodes, nodes.map((node, i) => [node['id'] ?? i]), {
+    count: links.length,
+    source: (k) => links[k]!['source'],
+    target: (k) => links[k]!['target'],
+    weight: (k) => links[k]!['weight'],
+    name: (k, side) => `${linksKey}[${k}].${side}`,
+    find: finder && ((k, side) => {
+      const at = finder.element(k);
+      const v = at === undefined ? undefined : valueOfKey(text, at, side);
+      return v && lines.span(v[0], v[1]);
+    }),
+  }, root['directed'] === true);
+}
+
+// ---------------------------------------------------------------------------------------------
+// NetworkX's other two JSON layouts
+
+/**
+ * `json_graph.adjacency_data`: { "directed", "multigraph", "graph", "nodes": [{ "id": …, attr… }],
+ * "adjacency": [[{ "id": neighbour, attr… }, …], …] } — row i lists the neighbours of node i.
+ * An undirected graph lists each edge in both rows already (a self-loop once).
+ */
+export function isAdjacencyData(root: Record<string, unknown>): boolean {
+  const nodes = root['nodes'], adj = root['adjacency'];
+  return Array.isArray(nodes) && Array.isArray(adj) && nodes.length === adj.length && nodes.every(isObject) &&
+    adj.every((row) => Array.isArray(row) && row.every(isObject));
+}
+
+export function readAdjacencyData(root: Record<string, unknown>, text: string, lines: StringLines, adjacencyStart: number | undefined): NodeLinkResult {
+  const nodes = root['nodes'] as Record<string, unknown>[];
+  const rows = root['adjacency'] as Record<string, unknown>[][];
+  // Entry k of the flattened rows: its row and position.
+  let total = 0;
+  for (const r of rows) total += r.length;
+  const rowOf = new Int32Array(total), posOf = new Int32Array(total);
+  let k = 0;
+  rows.forEach((r, i) => { for (let j = 0; j < r.length; j++) { rowOf[k] = i; posOf[k] = j; k++; } });
+  const outer = adjacencyStart === undefined ? undefined : new ElementFinder(text, adjacencyStart);
+  let innerRow = -1;
+  let inner: ElementFinder | undefined;
+  return buildGraph(nodes, nodes.map((node, i) => [node['id'] ?? i]), {
+    count: total,
+    source: (e) => nodes[rowOf[e]!]!['id'] ?? rowOf[e],
+    target: (e) => rows[rowOf[e]!]![posOf[e]!]!['id'],
+    weight: (e) => rows[rowOf[e]!]![posOf[e]!]!['weight'],
+    name: (e, side) => side === 'source' ? `nodes[${rowOf[e]}].id` : `adjacency[${rowOf[e]}][${posOf[e]}].id`,
+    find: outer && ((e) => {
+      // Both ends are located at the entry's "id": the entry sits in its source's row.
+      const i = rowOf[e]!;
+      if (i !== innerRow) {
+        const at = outer.element(i);
+        inner = at === undefined ? undefined : new ElementFinder(text, at);
+        innerRow = i;
+      }
+      const at = inner?.element(posOf[e]!);
+      const v = at === undefined ? undefined : valueOfKey(text, at, 'id');
+      return v && lines.span(v[0], v[1]);
+    }),
+  }, root['directed'] === true, false);
+}
+
+/**
+ * `json_graph.cytoscape_data` (Cytoscape.js elements JSON): { "data", "directed", "multigraph",
+ * "elements": { "nodes": [{ "data": { "id": "0", "value": 0, "name": "0", attr… } }],
+ * "edges": [{ "data": { "source": 0, "target": 1, attr… } }] } }. NetworkX writes the node itself
+ * as "value" and its string as "id", and names edge ends by the node itself; Cytoscape.js names
+ * them by "id". Both are matched. An undirected graph lists each edge once.
+ */
+export function isCytoscapeData(root: Record<string, unknown>): boolean {
+  const el = root['elements'];
+  if (!isObject(el) || !Array.isArray(el['nodes'])) return false;
+  const edges = el['edges'];
+  return el['nodes'].every((n) => isObject(n) && isObject(n['data'])) &&
+    (edges === undefined || (Array.isArray(edges) && edges.every((e) => isObject(e) && isObject(e['data']) &&
+      'source' in e['data'] && 'target' in e['data'])));
+}
+
+export function readCytoscapeData(root: Record<string, unknown>, text: string, lines: StringLines, edgesStart: number | undefined): NodeLinkResult {
+  const el = root['elements'] as Record<string, unknown>;
+  const nodes = (el['nodes'] as Array<{ data: Record<string, unknown> }>).map((n) => n.data);
+  const edges = ((el['edges'] ?? []) as Array<{ data: Record<string, unknown> }>).map((e) => e.data);
+  // Attributes other than Cytoscape's own keys become per-node tensors.
+  const attrs = nodes.map((d) => {
+    const { id: _id, value: _value, name: _name, ...rest } = d;
+    return rest;
+  });
+  const finder = edgesStart === undefined ? undefined : new ElementFinder(text, edgesStart);
+  return buildGraph(attrs, nodes.map((d, i) => ('value' in d ? [d['value'], d['id'] ?? i] : [d['id'] ?? i])), {
+    count: edges.length,
+    source: (k) => edges[k]!['source'],
+    target: (k) => edges[k]!['target'],
+    weight: (k) => edges[k]!['weight'],
+    name: (k, side) => `elements.edges[${k}].data.${side}`,
+    find: finder && ((k, side) => {
+      const at = finder.element(k);
+      const data = at === undefined ? undefined : valueOfKey(text, at, 'data');
+      const v = data && valueOfKey(text, data[0], side);
+      return v && lines.span(v[0], v[1]);
+    }),
+  }, root['directed'] === true);
+}
+
+// ---------------------------------------------------------------------------------------------
+// the shared build
+
+interface LinkList {
+  count: number;
+  source(k: number): unknown;
+  target(k: number): unknown;
+  weight(k: number): unknown;
+  /** Where an end is in the document's own terms, for messages. */
+  name(k: number, side: 'source' | 'target'): string;
+  find?: (k: number, side: 'source' | 'target') => TextSpan | undefined;
+}
+
+/**
+ * edge_index (each undirected link in both directions when `mirror`), edge_weight and per-node
+ * tensors. `ids[i]` are the values links may use to name node i (the first one that is new wins).
+ */
+function buildGraph(nodes: Record<string, unknown>[], ids: unknown[][], links: LinkList, directed: boolean, mirror = !directed): NodeLinkResult {
   const n = nodes.length;
   const index = new Map<string, number>();
-  nodes.forEach((node, i) => {
-    const key = idKey(node['id'] ?? i);
-    if (!index.has(key)) index.set(key, i);
+  ids.forEach((names, i) => {
+    for (const id of names) {
+      const key = idKey(id);
+      if (!index.has(key)) index.set(key, i);
+    }
   });
 
-  const locator = linksStart === undefined ? undefined : new LinkFinder(text, lines, linksStart);
   const problems: Problem[] = [];
   const missing: ProblemLocation[] = [];
   let missingCount = 0;
   // Directed entries: link l as stored, and (undirected) its reverse unless it is a self-loop.
   const src: number[] = [], dst: number[] = [], linkOf: number[] = [], reversed: number[] = [];
-  links.forEach((l, k) => {
-    const a = index.get(idKey(l['source'])), b = index.get(idKey(l['target']));
+  for (let k = 0; k < links.count; k++) {
+    const s = links.source(k), t = links.target(k);
+    const a = index.get(idKey(s)), b = index.get(idKey(t));
     if (a === undefined || b === undefined) {
       missingCount++;
       if (missing.length < MAX_LOCATIONS) {
         const side = a === undefined ? 'source' : 'target';
-        const span = locator?.find(k, side);
-        missing.push({ tensor: 'edge_index', detail: `${linksKey}[${k}].${side} ${JSON.stringify(l[side])}`, ...(span ?? {}) });
+        const span = links.find?.(k, side);
+        missing.push({ tensor: 'edge_index', detail: `${links.name(k, side)} ${JSON.stringify(side === 'source' ? s : t)}`, ...(span ?? {}) });
       }
-      return;
+      continue;
     }
     src.push(a); dst.push(b); linkOf.push(k); reversed.push(0);
-    if (!directed && a !== b) { src.push(b); dst.push(a); linkOf.push(k); reversed.push(1); }
-  });
+    if (mirror && a !== b) { src.push(b); dst.push(a); linkOf.push(k); reversed.push(1); }
+  }
   if (missingCount > 0) {
     const first = missing[0]!;
     problems.push({
@@ -83,22 +209,24 @@ export function readNodeLink(root: Record<string, unknown>, text: string, lines:
   const data = new Int32Array(2 * e);
   for (let k = 0; k < e; k++) { data[k] = src[k]!; data[e + k] = dst[k]!; }
   const edgeIndex: DenseTensor = { kind: 'dense', name: 'edge_index', dtype: 'int64', shape: [2, e], data, declaredRole: 'edge-index' };
-  if (locator) {
+  const find = links.find;
+  if (find) {
     const lo = Int32Array.from(linkOf), rv = Uint8Array.from(reversed);
     edgeIndex.locator = {
       locate(flat: number): TextSpan | undefined {
         if (!Number.isInteger(flat) || flat < 0 || flat >= 2 * e) return undefined;
         const row = flat >= e ? 1 : 0, col = flat - row * e;
-        return locator.find(lo[col]!, (row ^ rv[col]!) === 0 ? 'source' : 'target');
+        return find(lo[col]!, (row ^ rv[col]!) === 0 ? 'source' : 'target');
       },
     } satisfies TextLocator;
   }
   const tensors: DenseTensor[] = [edgeIndex];
 
-  const weights = links.map((l) => l['weight']);
-  if (weights.every((w) => typeof w === 'number')) {
+  let weighted = links.count > 0;
+  for (let k = 0; k < links.count && weighted; k++) if (typeof links.weight(k) !== 'number') weighted = false;
+  if (weighted) {
     const w = new Float64Array(e);
-    for (let k = 0; k < e; k++) w[k] = weights[linkOf[k]!] as number;
+    for (let k = 0; k < e; k++) w[k] = links.weight(linkOf[k]!) as number;
     tensors.push({ kind: 'dense', name: 'edge_weight', dtype: 'float64', shape: [e], data: w, declaredRole: 'edge-weight' });
   }
   if (n > 0) {
@@ -138,58 +266,85 @@ function nodeTensor(nodes: Record<string, unknown>[], key: string): DenseTensor 
 }
 
 /**
- * Finds the source/target value of the k-th link in the text: walks the links array's elements
- * (skipping strings, tracking nesting), remembering where the last one started so ascending
- * look-ups do not rescan.
+ * Finds where the k-th element of a JSON array starts (the array's '[' at `start`); remembers the
+ * last element found, so ascending look-ups walk on from there instead of from the start.
  */
-class LinkFinder {
+class ElementFinder {
   private lastK = -1;
   private lastAt = 0;
 
-  constructor(private readonly text: string, private readonly lines: StringLines, private readonly start: number) {}
+  constructor(private readonly text: string, private readonly start: number) {}
 
-  find(k: number, key: 'source' | 'target'): TextSpan | undefined {
-    const t = this.text, n = t.length;
-    let i = this.start + 1, count = -1;
-    if (this.lastK >= 0 && this.lastK <= k) { i = this.lastAt; count = this.lastK - 1; }
-    // Advance to the '{' of element k (depth 1 = directly inside the links array).
-    let depth = 1;
-    while (i < n) {
-      const c = t.charCodeAt(i);
-      if (c === 34) { i = skipString(t, i); continue; }
-      if (c === 123 || c === 91) {
-        if (depth === 1 && c === 123 && ++count === k) break;
-        depth++;
-      } else if (c === 125 || c === 93) {
-        if (--depth === 0) return undefined;
-      }
-      i++;
+  element(k: number): number | undefined {
+    const t = this.text;
+    let i: number, count: number;
+    if (this.lastK >= 0 && this.lastK <= k) { i = this.lastAt; count = this.lastK; }
+    else {
+      i = skipSpace(t, this.start + 1);
+      if (i >= t.length || t.charCodeAt(i) === 93) return undefined;
+      count = 0;
     }
-    if (i >= n) return undefined;
+    while (count < k) {
+      i = skipSpace(t, valueEnd(t, i));
+      if (t.charCodeAt(i) !== 44) return undefined; // not ',': the array ended
+      i = skipSpace(t, i + 1);
+      count++;
+    }
     this.lastK = k; this.lastAt = i;
-    // Inside the object: find "key" at its own level, then the value after ':'.
-    const want = `"${key}"`;
-    let d = 0;
-    for (let p = i + 1; p < n; p++) {
-      const c = t.charCodeAt(p);
-      if (c === 34) {
-        const end = skipString(t, p);
-        if (d === 0 && t.startsWith(want, p) && end === p + want.length) {
-          let v = end;
-          while (v < n && t.charCodeAt(v) !== 58) v++; // ':'
-          v++;
-          while (v < n && /\s/.test(t[v]!)) v++;
-          const ve = t.charCodeAt(v) === 34 ? skipString(t, v) : tokenEnd(t, v);
-          return this.lines.span(v, ve);
-        }
-        p = end - 1;
-        continue;
-      }
-      if (c === 123 || c === 91) d++;
-      else if (c === 125 || c === 93) { if (d === 0) return undefined; d--; }
-    }
-    return undefined;
+    return i;
   }
+}
+
+function skipSpace(t: string, i: number): number {
+  while (i < t.length) {
+    const c = t.charCodeAt(i);
+    if (c !== 32 && c !== 9 && c !== 10 && c !== 13) break;
+    i++;
+  }
+  return i;
+}
+
+/** Offset just past the JSON value starting at `i`. */
+function valueEnd(t: string, i: number): number {
+  const c = t.charCodeAt(i);
+  if (c === 34) return skipString(t, i);
+  if (c !== 123 && c !== 91) return tokenEnd(t, i);
+  let d = 0;
+  for (let p = i; p < t.length; p++) {
+    const x = t.charCodeAt(p);
+    if (x === 34) { p = skipString(t, p) - 1; continue; }
+    if (x === 123 || x === 91) d++;
+    else if ((x === 125 || x === 93) && --d === 0) return p + 1;
+  }
+  return t.length;
+}
+
+/** The value of `key` in the object whose '{' is at `at`, as [start, end) offsets. */
+function valueOfKey(t: string, at: number, key: string): [number, number] | undefined {
+  const n = t.length;
+  if (t.charCodeAt(at) !== 123) return undefined;
+  const want = JSON.stringify(key);
+  let d = 0;
+  for (let p = at + 1; p < n; p++) {
+    const c = t.charCodeAt(p);
+    if (c === 34) {
+      const end = skipString(t, p);
+      if (d === 0 && end === p + want.length && t.startsWith(want, p)) {
+        let v = end;
+        while (v < n && t.charCodeAt(v) !== 58) v++; // ':'
+        v++;
+        while (v < n && /\s/.test(t[v]!)) v++;
+        const c0 = t.charCodeAt(v);
+        const ve = c0 === 34 ? skipString(t, v) : c0 === 123 || c0 === 91 ? v + 1 : tokenEnd(t, v);
+        return [v, ve];
+      }
+      p = end - 1;
+      continue;
+    }
+    if (c === 123 || c === 91) d++;
+    else if (c === 125 || c === 93) { if (d === 0) return undefined; d--; }
+  }
+  return undefined;
 }
 
 /** Offset just past the string starting at the quote at `i`. */
