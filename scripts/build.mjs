@@ -13,6 +13,8 @@ const common = {
   minify: production,
   logLevel: 'warning',
   target: 'node20',
+  // The Python helpers "Inspect as Graph" sends to a debuggee (extension/src/debug/*.py) are bundled as text.
+  loader: { '.py': 'text' },
 };
 
 const entries = [

@@ -9,6 +9,7 @@ import { spawnSync } from 'node:child_process';
 import { mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
+import { fileURLToPath } from 'node:url';
 import { afterAll, describe, expect, it } from 'vitest';
 import {
   parseReply, pythonInspectSnippet, replyJson, type PythonReply,
@@ -111,6 +112,44 @@ print(json.dumps({k: [str(z[k].dtype), list(z[k].shape), z[k].ravel().tolist()] 
       train_mask: ['bool', [3], [true, false, true]],
       w: ['float16', [2], [1, -2]],
       x: ['float32', [3], [0.5, -1.25, 3]],
+    });
+  });
+});
+
+describe('the helper files run by themselves (no debugger, no extension)', () => {
+  const DEBUG_DIR = fileURLToPath(new URL('../../extension/src/debug/', import.meta.url));
+  const run = (code: string) => spawnSync(PYTHON, ['-c', code], { encoding: 'utf8', env: { ...process.env, TMPDIR: tmp, PYTHONDONTWRITEBYTECODE: '1' } });
+
+  it('compile, and define only their functions (every import inside them, nothing else left behind)', () => {
+    const r = run(`import runpy, json
+out = {}
+for f, names in (('save_value_npz.py', ['save_value_npz']), ('saved_npz_file.py', ['read_chunk', 'remove_saved'])):
+    ns = runpy.run_path(${JSON.stringify(DEBUG_DIR)} + f)
+    out[f] = sorted(k for k in ns if not k.startswith('__'))
+print(json.dumps(out))`);
+    expect(r.stderr).toBe('');
+    expect(JSON.parse(r.stdout)).toEqual({ 'save_value_npz.py': ['save_value_npz'], 'saved_npz_file.py': ['read_chunk', 'remove_saved'] });
+  });
+
+  it.skipIf(!HAVE_NUMPY)('save, read back in chunks, remove: numpy.load reads the bytes read_chunk returns', () => {
+    const r = run(`import runpy, base64, json, os, io
+import numpy as np
+save = runpy.run_path(${JSON.stringify(DEBUG_DIR + 'save_value_npz.py')})['save_value_npz']
+io_ = runpy.run_path(${JSON.stringify(DEBUG_DIR + 'saved_npz_file.py')})
+unwrap = lambda s: json.loads(base64.b64decode(s[len('HOPSCOPE1:'):-len(':END')]))
+reply = unwrap(save({'edge_index': np.array([[0, 1], [1, 0]]), 'x': np.ones((2, 3), np.float32)}, 'g', ['edge_index', 'x'], 1 << 20))
+data = b''
+while True:
+    part = base64.b64decode(io_['read_chunk'](reply['path'], len(data), 100)[len('HOPSCOPE1:'):-len(':END')])
+    if not part: break
+    data += part
+z = np.load(io.BytesIO(data))
+gone = io_['remove_saved'](reply['path']) == 'HOPSCOPE1::END' and not os.path.exists(os.path.dirname(reply['path']))
+print(json.dumps({'size': reply['size'] == len(data), 'tensors': reply['tensors'], 'x': z['x'].tolist(), 'gone': gone}))`);
+    expect(r.stderr).toBe('');
+    expect(JSON.parse(r.stdout)).toEqual({
+      size: true, gone: true, x: [[1, 1, 1], [1, 1, 1]],
+      tensors: [{ name: 'edge_index', dtype: 'int64', shape: [2, 2] }, { name: 'x', dtype: 'float32', shape: [2, 3] }],
     });
   });
 });

@@ -8,9 +8,13 @@
  * Python, is tests/debug/.
  */
 import * as vm from 'node:vm';
+import { createRequire } from 'node:module';
+import { fileURLToPath } from 'node:url';
+import * as esbuild from 'esbuild';
 import { describe, expect, it } from 'vitest';
 import {
-  jsInspectSnippet, labelFor, languageOfSession, npzFromJsReply, parseReply, replyJson, type JsReply,
+  jsInspectSnippet, labelFor, languageOfSession, npzFromJsReply, parseReply, pythonChunkSnippet, pythonCleanupSnippet,
+  pythonInspectSnippet, replyJson, type JsReply,
 } from '../../extension/src/debug/snippets';
 import { JS_REPL_CHARS, fetchFromJavaScript, type Evaluate } from '../../extension/src/debug/transfer';
 import { encodeNpy, encodeNpz } from '../../server/src/core/formats/write';
@@ -190,6 +194,36 @@ describe('JavaScript inspect snippet (run in a vm context)', () => {
   it('gives the same reply with Node’s Buffer as with its own base64 encoder', () => {
     const v = new Uint8Array(Array.from({ length: 1001 }, (_, i) => (i * 37) % 256));
     expect(run('v', { v, Buffer })).toBe(run('v', { v }));
+  });
+});
+
+describe('the snippets as the production bundle sends them', () => {
+  /** snippets.ts bundled and minified the way scripts/build.mjs --production does (.py as text). */
+  async function bundled(): Promise<typeof import('../../extension/src/debug/snippets')> {
+    const out = await esbuild.build({
+      entryPoints: [fileURLToPath(new URL('../../extension/src/debug/snippets.ts', import.meta.url))],
+      bundle: true, write: false, minify: true, format: 'cjs', platform: 'node', target: 'node20', loader: { '.py': 'text' },
+    });
+    const mod = { exports: {} as Record<string, unknown> };
+    new Function('module', 'exports', 'require', out.outputFiles[0]!.text)(mod, mod.exports, createRequire(import.meta.url));
+    return mod.exports as unknown as typeof import('../../extension/src/debug/snippets');
+  }
+
+  it('the minified JavaScript function still runs alone in a fresh realm and replies the same', async () => {
+    const b = await bundled();
+    const scope = { data: { edge_index: [[0, 1, 2], [1, 2, 0]], x: new Float32Array([0.5, 1.5, 2.5]), name: 'ring' } };
+    const opts = { label: 'data', maxBytes: MB, maxChars: null };
+    const fromBundle = vm.runInNewContext(b.jsInspectSnippet('data', opts), { ...scope }) as string;
+    expect(fromBundle).toBe(vm.runInNewContext(jsInspectSnippet('data', opts), { ...scope }) as string);
+    expect(fromBundle).not.toBe(run('data', { data: { edge_index: [[0], [1]] } }));
+  });
+
+  it('carries the Python helper files byte for byte', async () => {
+    const b = await bundled();
+    expect(b.pythonInspectSnippet('g', { label: 'g', maxBytes: 1000 })).toBe(pythonInspectSnippet('g', { label: 'g', maxBytes: 1000 }));
+    expect(b.pythonChunkSnippet('/tmp/x.npz', 0, 10)).toBe(pythonChunkSnippet('/tmp/x.npz', 0, 10));
+    expect(b.pythonCleanupSnippet('/tmp/x.npz')).toBe(pythonCleanupSnippet('/tmp/x.npz'));
+    expect(pythonInspectSnippet('g', { label: 'g', maxBytes: 1000 })).toContain('ns["save_value_npz"](');
   });
 });
 

@@ -121,8 +121,10 @@ export function checkGraph(parts: GraphPart[], opts: GraphOptions = {}): GraphCh
   } else if (edges) {
     const { src, dst, flags } = edges;
     for (let k = 0; k < src.length; k++) {
-      if (flags && flags[k]) continue;
-      const a = src[k]!, b = dst[k]!;
+      const fl = flags ? flags[k]! : 0;
+      if (fl & 3) continue; // not a whole number: left out
+      // Ids beyond int32 are ids like any other (a sparse numbering): their value is in the tensor.
+      const a = fl & 4 ? edges.raw(k, 0) : src[k]!, b = fl & 8 ? edges.raw(k, 1) : dst[k]!;
       if (a > maxId) maxId = a;
       if (b > maxId) maxId = b;
       if (a < minId) minId = a;
@@ -172,7 +174,7 @@ export function checkGraph(parts: GraphPart[], opts: GraphOptions = {}): GraphCh
   if (features) checkNonFinite(features, report, 'feature');
   if (labels) checkLabels(labels, nKnown ? n : -1, report);
   for (const m of masks) checkMask(m, nKnown ? n : -1, report);
-  checkMaskOverlap(masks, nKnown ? n : -1, report);
+  checkMaskOverlap(masks, report);
 
   if (!edges) {
     if (edgeParts.length === 0 && adjParts.length === 0) {
@@ -193,7 +195,7 @@ export function checkGraph(parts: GraphPart[], opts: GraphOptions = {}): GraphCh
     src = shift(src); dst = shift(dst);
     if (nodeCountFromIds) n = Math.max(0, maxId);
     maxId -= 1; minId -= 1;
-  } else if (isIndex && opts.indexBase === undefined && e > 0 && minId === 1 &&
+  } else if (isIndex && opts.indexBase === undefined && e > 0 && minId === 1 && !idsLookSparse &&
     (nodeCountFromIds || maxId === n)) {
     const zeroNote = nodeCountFromIds
       ? `no id is 0, so node 0 would be an isolated phantom node`
@@ -211,9 +213,9 @@ export function checkGraph(parts: GraphPart[], opts: GraphOptions = {}): GraphCh
   const allInRange = !flags && (e === 0 || (minId >= 0 && maxId < n));
   for (let k = 0; k < e && !allInRange; k++) {
     const f = flags ? flags[k]! : 0;
-    const a = src[k]!, b = dst[k]!;
     if ((f & 3) !== 0) continue; // non-integer: reported separately, left out
-    if (a < 0 || a >= n || b < 0 || b >= n || (f & 12) !== 0) {
+    const a = f & 4 ? idOf(k, 0) : src[k]!, b = f & 8 ? idOf(k, 1) : dst[k]!;
+    if (a < 0 || a >= n || b < 0 || b >= n) {
       outOfRange++;
       if (oorExamples.length < MAX_LOCATIONS) oorExamples.push(k);
     }
@@ -222,8 +224,8 @@ export function checkGraph(parts: GraphPart[], opts: GraphOptions = {}): GraphCh
     const locs: ProblemLocation[] = [];
     for (const k of oorExamples) {
       for (const side of [0, 1] as const) {
-        const v = (side === 0 ? src : dst)[k]!;
-        const bad = (flags && (flags[k]! & (side === 0 ? 4 : 8))) || v < 0 || v >= n;
+        const v = idOf(k, side);
+        const bad = v < 0 || v >= n;
         if (bad && locs.length < MAX_LOCATIONS) {
           const loc = edges.locate(k, side);
           loc.detail = loc.detail ? `${loc.detail} = ${edges.raw(k, side)}` : `id ${edges.raw(k, side)}`;
@@ -232,12 +234,18 @@ export function checkGraph(parts: GraphPart[], opts: GraphOptions = {}): GraphCh
       }
     }
     const ex = locs.slice(0, EXAMPLES_IN_MESSAGE).map(describe).join('; ');
-    const hint = blameFeatures || featureRows === undefined || featureRows === n
+    const hint = sparseIds ? 'Node ids must be 0 or more.' : blameFeatures || featureRows === undefined || featureRows === n
       ? `Node ids must lie in ${indexBase}..${n - 1 + indexBase} (${n} nodes from ${nSource}).`
       : `Node ids must lie in ${indexBase}..${n - 1 + indexBase}.`;
     report(sp, 'index-out-of-range',
       `${outOfRange} edge entr${outOfRange === 1 ? 'y refers' : 'ies refer'} to nodes that do not exist: ${ex}. ${hint} ` +
       `Those entries are left out of the graph figures; gather/scatter on them fails or reads another node's row.`,
+  const shiftBy = isIndex && opts.indexBase === 1 ? 1 : 0;
+  /** Endpoint of edge k as a 0-based id (ids beyond int32 come from the tensor itself). */
+  const idOf = (k: number, side: 0 | 1): number =>
+    flags && flags[k]! & (side === 0 ? 4 : 8) ? edges!.raw(k, side) - shiftBy : (side === 0 ? src : dst)[k]!;
+  const wide = n > denseLimit;
+  const sparseIds = wide && idsLookSparse;
       outOfRange, locs);
   }
 
@@ -258,7 +266,7 @@ export function checkGraph(parts: GraphPart[], opts: GraphOptions = {}): GraphCh
   const orig = (j: number) => (keep ? keep[j]! : j);
 
   // ---- 6. structure -------------------------------------------------------------------------
-  const structure = analyseStructure(n, gSrc, gDst);
+  const structure = analyseStructure(nodeIds ? nodeIds.length : n, gSrc, gDst);
   const f = structure.figures;
   const edgeLocs = (ids: number[], what: (k: number) => string) => ids.map((j) => {
     const k = orig(j);
@@ -307,12 +315,29 @@ export function checkGraph(parts: GraphPart[], opts: GraphOptions = {}): GraphCh
     const ids = isolatedExamples(structure.fwd, structure.rev, MAX_LOCATIONS);
     const locs: ProblemLocation[] = ids.map((u) => ({ tensor: sp.tensor.name, detail: `node ${u + indexBase}` }));
     report(sp, 'isolated-nodes',
-      `${f.isolatedNodes} of ${n} nodes have no edges (e.g. node${ids.length > 1 ? 's' : ''} ${ids.slice(0, 5).map((u) => u + indexBase).join(', ')}). ` +
+      `${isolatedNodes} of ${nodes} nodes have no edges (e.g. node${ids.length > 1 ? 's' : ''} ${ids.slice(0, 5).map((u) => u + indexBase).join(', ')}). ` +
       'A message-passing layer gives them only their own features (and a self-loop, if added).',
-      f.isolatedNodes, locs);
+      isolatedNodes, locs);
+  // The whole graph's figures: with sparse ids its nodes are the distinct ids; with a node count
+  // far beyond the touched ids, each untouched id is one isolated node and one component.
+  const touched = structure.figures.nodes;
+  const nodes = sparseIds ? touched : n;
+  const untouched = nodes - touched;
+  const isolatedNodes = f.isolatedNodes + untouched;
+  const components = f.components + untouched;
+  if (sparseIds) {
+    let at = 0;
+    for (let k = 0; k < e; k++) if (idOf(k, 0) === maxId || idOf(k, 1) === maxId) { at = k; break; }
+    report(sp, 'sparse-ids',
+      `${sp.tensor.name}: ids are sparse: ${touched} distinct id${touched === 1 ? '' : 's'} up to ${maxId + indexBase}; ` +
+      `checked on the distinct ids (${touched} node${touched === 1 ? '' : 's'}). A model that takes the largest id + 1 as the ` +
+      `node count would hold ${n} nodes, ${n - touched} of them without edges: renumber the ids to ${indexBase}..${touched - 1 + indexBase} ` +
+      `(e.g. np.unique(edge_index, return_inverse=True)) and keep the original ids beside them.`,
+      n - touched, [edges.locate(at, 'edge')]);
   }
-  if (n === 0 || e === 0) {
-    report(sp, 'empty-graph', n === 0 ? `${sp.tensor.name} describes a graph with no nodes.` : `${sp.tensor.name} has no edges: every node is isolated.`, 1);
+  }
+  if (nodes === 0 || e === 0) {
+    report(sp, 'empty-graph', nodes === 0 ? `${sp.tensor.name} describes a graph with no nodes.` : `${sp.tensor.name} has no edges: every node is isolated.`, 1);
   }
 
   // ---- 7. per-edge tensors ------------------------------------------------------------------
@@ -331,13 +356,13 @@ export function checkGraph(parts: GraphPart[], opts: GraphOptions = {}): GraphCh
   }
 
   const figures: GraphFigures = {
-    nodes: f.nodes, edges: f.edges, directed: f.directed, selfLoops: f.selfLoops,
+    nodes, edges: f.edges, directed: f.directed, selfLoops: f.selfLoops,
     duplicateEdges: f.duplicateEdges, asymmetricPairs: f.asymmetricPairs,
-    isolatedNodes: f.isolatedNodes, components: f.components, indexBase,
+    isolatedNodes, components, indexBase,
   };
   return {
     structureFile: sp.file, structureTensor: sp.tensor.name, figures, problems,
-    structure: { ...structure, src: gSrc, dst: gDst }, parts, options: opts,
+    structure: { ...structure, src: gSrc, dst: gDst, ...(nodeIds ? { ids: nodeIds } : {}) }, parts, options: opts,
   };
 }
 
@@ -351,6 +376,17 @@ function edgesFromIndex(part: GraphPart, report: Reporter): EdgeSource | undefin
   const t = part.tensor;
   if (t.kind !== 'dense') return undefined;
   if (t.strings) {
+    } else if (opts.directed === undefined && f.asymmetricPairs === f.distinctNonLoopPairs) {
+      // Not one pair has its reverse: either a directed graph, or an undirected one stored with
+      // each edge once (the usual layout of published edge-list files). Say both readings.
+      const ids = asymmetricExamples(structure.fwd, gSrc, gDst, EXAMPLES_IN_MESSAGE);
+      const locs = edgeLocs(ids, (k) => `${arrow(k)} has no ${edges!.raw(k, 1)} → ${edges!.raw(k, 0)}`);
+      report(sp, 'asymmetric-adjacency',
+        `None of the ${f.asymmetricPairs} edge${f.asymmetricPairs === 1 ? '' : 's'} has its reverse (${locs.map(describe).join('; ')}). ` +
+        'An undirected graph stored with each edge once looks like this, and a message-passing layer then sends ' +
+        'messages one way only. If the graph is undirected, add the reverse edges (a quick fix does it for text edge lists); ' +
+        'if it is directed, declare it: "directed": true in hopscope.json (or --directed).',
+        f.asymmetricPairs, locs, 'info');
     report(part, 'edge-shape', `${t.name} holds text, not node ids.`, 1);
     return undefined;
   }
@@ -547,7 +583,6 @@ function checkLabels(part: GraphPart, n: number, report: Reporter): void {
       Math.abs(len - n));
   }
   if (t.shape.length !== 1) return; // multi-label / one-hot: no class-id checks
-  const d = t.data;
   if (isFloatDType(t.dtype)) {
     for (let i = 0; i < d.length; i++) if (Number.isFinite(d[i]!) && !Number.isInteger(d[i]!)) return; // regression targets
   } else if (!isIntegerDType(t.dtype)) return;
@@ -563,6 +598,9 @@ function checkLabels(part: GraphPart, n: number, report: Reporter): void {
         const sp = spanOf(t, i);
         negLocs.push({ tensor: t.name, index: i, ...(sp ? { line: sp.line, column: sp.column, length: sp.length } : {}), detail: `${t.name}[${i}] = ${v}` });
       }
+/** Roles whose checks need only a tensor's shape and figures (see TensorSummary). */
+const SUMMARY_SUFFICES: ReadonlySet<string> = new Set(['features', 'edge-features', 'unknown']);
+
     } else if (v > max) max = v;
   }
   const parts: string[] = [];
@@ -616,11 +654,12 @@ function checkMask(part: GraphPart, n: number, report: Reporter): void {
   }
 }
 
-function checkMaskOverlap(masks: GraphPart[], n: number, report: Reporter): void {
+function checkMaskOverlap(masks: GraphPart[], report: Reporter): void {
   const bySplit = new Map<Split, GraphPart>();
   for (const m of masks) if (m.guess.split && !bySplit.has(m.guess.split) && m.tensor.kind === 'dense') bySplit.set(m.guess.split, m);
   if (bySplit.size < 2) return;
-  let size = Math.max(n, 0);
+  // Only ids the masks mention can overlap: the member array covers those, not the whole graph.
+  let size = 0;
   for (const m of bySplit.values()) {
     const d = (m.tensor as DenseTensor).data;
     if (!m.guess.indexList) size = Math.max(size, d.length);

@@ -98,7 +98,9 @@ export type ProblemCode =
   | 'non-finite-features'
   | 'mask-overlap'
   | 'label-range'
-  | 'empty-graph';
+  | 'empty-graph'
+  | 'skew-symmetric-diagonal'
+  | 'no-graph-tensors';
 
 /** One place a problem shows up. Text formats fill line/column; binary ones tensor/index. */
 export interface ProblemLocation {
