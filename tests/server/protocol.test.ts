@@ -32,6 +32,9 @@ const diags = (rel: string) => diagnostics.get(uri(rel)) ?? [];
 beforeAll(async () => {
   ws = fs.mkdtempSync(path.join(os.tmpdir(), 'hopscope-lsp-'));
   fs.cpSync(path.join(root, 'demo'), ws, { recursive: true });
+  // Text beside the graphs that is not an edge list (tests/fixtures/textfiles: hand-written README,
+  // numpy.savetxt metrics table): never a diagnostic.
+  for (const f of ['README.txt', 'metrics.csv']) fs.copyFileSync(path.join(root, 'tests/fixtures/textfiles', f), path.join(ws, 'lanes', f));
   session = await startServer(ws, 'demo', (c) => {
     c.onNotification('textDocument/publishDiagnostics', (p: { uri: string; diagnostics: never[] }) => {
       diagnostics.set(p.uri, p.diagnostics);
@@ -140,6 +143,19 @@ describe('language server over stdio', () => {
     const stats = await conn.sendRequest('hopscope/tensorStats', { uri: uri('lanes/dock_features.npy'), tensor: 'dock_features' }) as { columns: Array<{ nan: number; inf: number }> };
     expect(stats.columns[1]!.nan).toBe(1);
     expect(stats.columns[2]!.inf).toBe(1);
+  });
+
+  it('publishes nothing for text that is not an edge list, and clears an edge list that becomes prose', async () => {
+    expect(diagnostics.has(uri('lanes/README.txt'))).toBe(false);
+    expect(diagnostics.has(uri('lanes/metrics.csv'))).toBe(false);
+    const s = await conn.sendRequest('hopscope/fileSummary', { uri: uri('lanes/metrics.csv') }) as { status: string };
+    expect(s.status).toBe('unsupported');
+    // An edge list with problems (closed_docks.el warns: empty graph) rewritten as notes.
+    await waitFor(() => diags('archive/closed_docks.el').length > 0);
+    fs.writeFileSync(path.join(ws, 'archive/closed_docks.el'), 'Docks closed in 2024:\nthe north square dock\nthe harbour dock\n');
+    await conn.sendNotification('workspace/didChangeWatchedFiles', { changes: [{ uri: uri('archive/closed_docks.el'), type: 2 }] });
+    await waitFor(() => diags('archive/closed_docks.el').length === 0);
+    expect(diagnostics.has(uri('lanes/README.txt'))).toBe(false);
   });
 
   it('re-checks a file changed on disk', async () => {

@@ -10,6 +10,7 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { readEdgeList } from '../../server/src/core/formats/edgelist';
 import { DEFAULT_LIMITS, UnreadableError, type DenseTensor } from '../../server/src/core/formats/types';
 import { readArriving } from '../../server/src/node/file-stream';
+import { PROBE_BYTES, loadFile } from '../../server/src/node/load';
 import { setHelperScript } from '../../server/src/node/helper-thread';
 
 const dir = path.join(__dirname, '../fixtures/text');
@@ -90,5 +91,66 @@ describe('edge lists read while they arrive', () => {
     fs.writeFileSync(p, '0 1\n1 2\n2 0\n');
     const a = readArriving(p, 64 * 1024, 0)!;
     expect(() => readEdgeList(a.bytes, p, DEFAULT_LIMITS, a.arriving)).toThrow(UnreadableError);
+  });
+});
+
+describe('large files refused from their first bytes (soak item of issue 8)', () => {
+  // A sparse file reads as zeros without taking disk space (POSIX ftruncate, here fs.truncateSync).
+  const sparse = (name: string, size: number, head = ''): string => {
+    const p = path.join(tmp, name);
+    fs.writeFileSync(p, head);
+    fs.truncateSync(p, size);
+    return p;
+  };
+  const rssMiB = () => process.memoryUsage().rss / 1024 ** 2;
+
+  it('a 1000 MiB sparse file of zeros named .txt is refused at byte 0 without being read into memory', () => {
+    const p = sparse('zeros.txt', 1000 * 1024 ** 2);
+    const before = rssMiB();
+    const f = loadFile(p);
+    const grew = rssMiB() - before;
+    expect(f.result).toBeUndefined();
+    expect(f.error!.message).toBe('not a text file (NUL byte at offset 0)');
+    // Reading it whole (or into the helper's buffer) would add about 1000 MiB.
+    expect(grew).toBeLessThan(100);
+    fs.rmSync(p);
+  });
+
+  it('a 1000 MiB file that starts with prose is skipped as not an edge list from its first 64 KiB', () => {
+    const prose = Array.from({ length: 40 }, (_, k) => `Larkhaven dock ${k} was moved to the north side of the square.`).join('\n') + '\n';
+    const p = sparse('notes.txt', 1000 * 1024 ** 2, prose);
+    const before = rssMiB();
+    const f = loadFile(p);
+    expect(rssMiB() - before).toBeLessThan(100);
+    expect(f.notEdgeList).toMatch(/^0 of its first \d+ data lines start with two integer node ids/);
+    expect(f.error!.message).toMatch(/^not an edge list: /);
+    fs.rmSync(p);
+  });
+
+  it('UTF-16 text is named as such from the first bytes of a large file', () => {
+    const text = '0 1\n1 2\n'.repeat(5000); // 40 000 characters, 80 000 bytes in UTF-16
+    const p = path.join(tmp, 'wide.txt');
+    fs.writeFileSync(p, Buffer.concat([Buffer.from([0xff, 0xfe]), Buffer.from(text, 'utf16le')]));
+    expect(fs.statSync(p).size).toBeGreaterThan(PROBE_BYTES);
+    expect(loadFile(p).error!.message).toMatch(/UTF-16 \(little-endian, with a byte order mark\).*iconv -f UTF-16 -t UTF-8/);
+  });
+
+  it('the helper stops reading once the parser has refused the file; later reads still work', () => {
+    // 48 MiB of prose in lines long enough that the first 64 KiB hold fewer than 20 of them:
+    // the decision falls on the 4 MiB the parser waits for, while the helper reads on.
+    const line = 'Larkhaven '.repeat(400) + '\n';
+    const p = path.join(tmp, 'long-prose.txt');
+    fs.writeFileSync(p, line.repeat(Math.ceil((48 * 1024 ** 2) / line.length)));
+    const a = readArriving(p, fs.statSync(p).size, 0)!;
+    expect(() => readEdgeList(a.bytes, p, DEFAULT_LIMITS, a.arriving)).toThrow(/not an edge list/);
+    a.stop();
+    // The same through loadFile, which stops the helper itself.
+    expect(loadFile(p).notEdgeList).toBeDefined();
+    // The helper takes the next job as usual.
+    const next = path.join(tmp, 'after-refusal.txt');
+    fs.writeFileSync(next, Array.from({ length: 200_000 }, (_, k) => `${k} ${(k * 7) % 200_000}`).join('\n') + '\n');
+    const { whole, streamed } = both(next);
+    expect(observe(streamed)).toEqual(observe(whole));
+    expect(whole.tensors[0]!.shape).toEqual([2, 200_000]);
   });
 });
