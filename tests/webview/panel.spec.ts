@@ -5,6 +5,9 @@
  * the language server would. Expected numbers: karate club field sizes 1, 17, 26 for node 0 and
  * 34 at three layers (REFERENCES.md §2.1); the 1-WL partition from NetworkX
  * (tests/fixtures/structure/expected.json); the single karate bridge (0, 11) (REFERENCES.md §6).
+ * Framing is checked on the rendered page itself (getBoundingClientRect of every node circle and
+ * ring label against the stage's client rectangle); the palette's OKLCH conversion against
+ * Chromium's own oklch() colour conversion (CSS Color Module Level 4).
  *
  * Needs /usr/bin/chromium (Debian's chromium package): `npm run test:webview`.
  */
@@ -17,11 +20,13 @@ import { panelHtml } from '../../extension/src/panel-html';
 import { AnalysisService } from '../../server/src/node/analysis-service';
 import type { PanelMessage, PanelRequest, PanelState } from '../../webview/src/panel-messages';
 import { expected as structureExpected } from '../unit/structure-fixtures';
+import { groupColour, hopColour, oklab, oklchHex } from '../../webview/src/panel-colours';
 
 const root = path.join(__dirname, '../..');
 const ORIGIN = 'https://hopscope.test';
 const KARATE = path.join(root, 'tests/fixtures/graphs/karate.npy');
 const XSS = '<img src=x onerror=alert(1)>';
+const LANES = path.join(root, 'demo/lanes/lanes.csv');
 
 let browser: Browser;
 let tmp: string;
@@ -63,6 +68,8 @@ interface HostOptions {
   noWorker?: boolean;
   bodyClass?: string;
   cssVars?: Record<string, string>;
+  /** Page size; 1200 x 900 unless given. */
+  viewport?: { width: number; height: number };
 }
 
 interface Opened {
@@ -73,7 +80,7 @@ interface Opened {
 }
 
 async function openPanel(o: HostOptions): Promise<Opened> {
-  const page = await browser.newPage({ viewport: { width: 1200, height: 900 } });
+  const page = await browser.newPage({ viewport: o.viewport ?? { width: 1200, height: 900 } });
   const problems: string[] = [];
   page.on('dialog', (d) => { problems.push(`dialog: ${d.message()}`); void d.dismiss(); });
   page.on('pageerror', (e) => problems.push(`page error: ${e.message}`));
@@ -147,6 +154,61 @@ async function drawn(page: Page, renderer: 'svg' | 'canvas', nodes: number): Pro
     return s?.dataset.renderer === r && s.dataset.nodes === String(n) && !s.classList.contains('busy');
   }, [renderer, nodes] as const, { timeout: 60_000 });
 }
+/** Waits until the stage shows a finished drawing of some field. */
+async function settled(page: Page): Promise<void> {
+  await page.waitForFunction(() => {
+    const s = document.getElementById('stage');
+    return !!s?.dataset.nodes && !s.classList.contains('busy') && !!s.querySelector('svg circle.node');
+  }, null, { timeout: 60_000 });
+}
+
+interface Framing {
+  /** The stage's visible rectangle (inside its border). */
+  stage: { left: number; top: number; right: number; bottom: number };
+  circles: Array<{ x: number; y: number; r: number }>;
+  ringLabels: Array<{ left: number; top: number; right: number; bottom: number; text: string }>;
+  /** Union of everything drawn but the ring circles: nodes, node labels, ring labels. */
+  drawn: { left: number; top: number; right: number; bottom: number };
+  transform: string;
+}
+async function framing(page: Page): Promise<Framing> {
+  return page.evaluate(() => {
+    const st = document.getElementById('stage')!;
+    const sr = st.getBoundingClientRect();
+    const stage = { left: sr.left + st.clientLeft, top: sr.top + st.clientTop, right: sr.left + st.clientLeft + st.clientWidth, bottom: sr.top + st.clientTop + st.clientHeight };
+    const circles = [...st.querySelectorAll('svg circle.node')].map((c) => { const r = c.getBoundingClientRect(); return { x: r.left + r.width / 2, y: r.top + r.height / 2, r: r.width / 2 }; });
+    const box = (e: Element) => { const r = e.getBoundingClientRect(); return { left: r.left, top: r.top, right: r.right, bottom: r.bottom }; };
+    const ringLabels = [...st.querySelectorAll('svg text.ring-label')].map((t) => ({ ...box(t), text: t.textContent! }));
+    const all = [...st.querySelectorAll('svg circle.node, svg g.labels text, svg text.ring-label')].map(box);
+    const drawn = { left: Math.min(...all.map((b) => b.left)), top: Math.min(...all.map((b) => b.top)), right: Math.max(...all.map((b) => b.right)), bottom: Math.max(...all.map((b) => b.bottom)) };
+    return { stage, circles, ringLabels, drawn, transform: st.querySelector('svg g.viewport')!.getAttribute('transform')! };
+  });
+}
+/** Every node circle inside the stage; no ring label on a node; the drawing fills and is centred. */
+function expectFramed(f: Framing): void {
+  expect(f.circles.length).toBeGreaterThan(0);
+  for (const c of f.circles) {
+    expect(c.x - c.r).toBeGreaterThanOrEqual(f.stage.left);
+    expect(c.x + c.r).toBeLessThanOrEqual(f.stage.right);
+    expect(c.y - c.r).toBeGreaterThanOrEqual(f.stage.top);
+    expect(c.y + c.r).toBeLessThanOrEqual(f.stage.bottom);
+  }
+  for (const l of f.ringLabels) {
+    for (const c of f.circles) {
+      // Distance from the circle's centre to the label's box exceeds the radius: no overlap.
+      const dx = Math.max(l.left - c.x, 0, c.x - l.right), dy = Math.max(l.top - c.y, 0, c.y - l.bottom);
+      expect(Math.hypot(dx, dy), `${l.text} overlaps a node`).toBeGreaterThan(c.r);
+    }
+  }
+  const sw = f.stage.right - f.stage.left, sh = f.stage.bottom - f.stage.top;
+  const dw = f.drawn.right - f.drawn.left, dh = f.drawn.bottom - f.drawn.top;
+  // Fills the stage in the tighter direction (16 px margins, label widths are estimated) ...
+  expect(Math.max(dw / sw, dh / sh)).toBeGreaterThan(0.85);
+  // ... and sits in its middle.
+  expect(Math.abs((f.drawn.left + f.drawn.right) / 2 - (f.stage.left + f.stage.right) / 2)).toBeLessThan(0.06 * sw);
+  expect(Math.abs((f.drawn.top + f.drawn.bottom) / 2 - (f.stage.top + f.stage.bottom) / 2)).toBeLessThan(0.06 * sh);
+}
+
 async function fills(page: Page): Promise<Map<number, string>> {
   const ids = await page.evaluate(() => [...document.querySelectorAll('#stage svg circle.node')].map((c) => [
     Number(c.querySelector('title')!.textContent!.match(/^node (\d+)/)![1]), c.getAttribute('fill')!,
@@ -345,9 +407,15 @@ describe('receptive-field panel in Chromium', () => {
     await first.page.focus('#layers');
     await first.page.keyboard.press('ArrowLeft');
     await drawn(first.page, 'svg', 17);
+    // A view that is still the fit saves no zoom (a reload fits again, to its own size) ...
+    await new Promise((r) => setTimeout(r, 400));
+    expect((await first.state())?.zoom).toBeUndefined();
+    // ... one the user zoomed is saved.
+    await first.page.focus('#stage');
+    await first.page.keyboard.press('+');
+    await expect.poll(async () => (await first.state())?.zoom, { timeout: 30_000 }).toBeDefined();
     const saved = (await first.state())!;
     expect(saved).toMatchObject({ node: 0, layers: 1, mode: 'wl', uri: `file://${KARATE}` });
-    expect(saved.zoom).toBeDefined();
     await first.page.close();
     // A reloaded panel (no node from the host) restores what it saved.
     const again = await openPanel({ file: KARATE, state: saved });
@@ -383,5 +451,82 @@ describe('receptive-field panel in Chromium', () => {
     const strokes = await hc.page.evaluate(() => [...document.querySelectorAll('#stage svg circle.node:not(.centre)')].map((c) => [c.getAttribute('stroke'), c.getAttribute('stroke-width')]));
     for (const [stroke, width] of strokes) { expect(stroke).toBe('#f38518'); expect(width).toBe('1.5'); }
     await hc.page.close();
+  });
+
+  it('frames the demo lane graph at 1600 x 1000: every node inside the stage, ring labels off the nodes, fitted again on resize', async () => {
+    const { page, problems } = await openPanel({ file: LANES, node: 0, viewport: { width: 1600, height: 1000 } });
+    await settled(page);
+    expect(await page.locator('#layers').inputValue()).toBe('2');
+    const opened = await framing(page);
+    expect(opened.ringLabels.map((l) => l.text)).toEqual(['hop 1', 'hop 2']);
+    expectFramed(opened);
+    // Narrower and shorter (the side column wraps below the drawing): fitted to the new stage.
+    await page.setViewportSize({ width: 760, height: 620 });
+    await page.waitForFunction((t) => document.querySelector('#stage svg g.viewport')?.getAttribute('transform') !== t, opened.transform, { timeout: 30_000 });
+    const small = await framing(page);
+    expect(small.stage.right - small.stage.left).toBeLessThan(opened.stage.right - opened.stage.left);
+    expectFramed(small);
+    // Back to full size: fills the big stage again (not the small one's view, half empty).
+    await page.setViewportSize({ width: 1600, height: 1000 });
+    await page.waitForFunction((t) => document.querySelector('#stage svg g.viewport')?.getAttribute('transform') !== t, small.transform, { timeout: 30_000 });
+    expectFramed(await framing(page));
+    // A view the user zoomed is left alone by a resize.
+    await page.focus('#stage');
+    await page.keyboard.press('+');
+    await page.waitForFunction(() => !!(window as unknown as { __state: () => { zoom?: unknown } | undefined }).__state()?.zoom, null, { timeout: 30_000 });
+    const zoomed = (await framing(page)).transform;
+    await page.setViewportSize({ width: 1400, height: 1000 });
+    await new Promise((r) => setTimeout(r, 500));
+    expect((await framing(page)).transform).toBe(zoomed);
+    // The Fit button fits again.
+    await page.click('#fit');
+    await page.waitForFunction((t) => document.querySelector('#stage svg g.viewport')?.getAttribute('transform') !== t, zoomed, { timeout: 30_000 });
+    expectFramed(await framing(page));
+    expect(problems).toEqual([]);
+    await page.close();
+  });
+
+  it('the karate field at 1600 x 1000 for 1 to 3 layers is framed the same way', async () => {
+    const { page } = await openPanel({ file: KARATE, node: 0, viewport: { width: 1600, height: 1000 }, state: { layers: 1 } });
+    for (const [layers, n] of [[1, 17], [2, 26], [3, 34]] as const) {
+      if (layers > 1) { await page.focus('#layers'); await page.keyboard.press('ArrowRight'); }
+      await drawn(page, 'svg', n);
+      // The new field is fitted once its layout is in (the view had not been moved).
+      await expect.poll(async () => { try { expectFramed(await framing(page)); return true; } catch { return false; } }, { timeout: 30_000 }).toBe(true);
+      expect((await framing(page)).ringLabels.length).toBe(layers);
+    }
+    await page.close();
+  });
+
+  it('our OKLCH conversion gives the colours Chromium paints for the same oklch() (CSS Color 4)', async () => {
+    const page = await browser.newPage();
+    // Hop colours and group colours, back to OKLCH and painted by Chromium's own colour code.
+    const hexes = [...Array.from({ length: 9 }, (_, k) => hopColour(k, 8, false)), ...Array.from({ length: 9 }, (_, k) => hopColour(k, 8, true)),
+      ...Array.from({ length: 20 }, (_, i) => groupColour(i, false)), ...Array.from({ length: 20 }, (_, i) => groupColour(i, true))];
+    const specs = hexes.map((hex) => {
+      const [L, a, b] = oklab(hex);
+      return { hex, css: `oklch(${L} ${Math.hypot(a, b)} ${(Math.atan2(b, a) * 180) / Math.PI})` };
+    });
+    const painted = await page.evaluate((list) => {
+      const c = document.createElement('canvas');
+      c.width = 1; c.height = 1;
+      const ctx = c.getContext('2d')!;
+      return list.map(({ css }) => { ctx.clearRect(0, 0, 1, 1); ctx.fillStyle = css; ctx.fillRect(0, 0, 1, 1); return [...ctx.getImageData(0, 0, 1, 1).data.slice(0, 3)]; });
+    }, specs);
+    specs.forEach(({ hex }, i) => {
+      const ours = [1, 3, 5].map((j) => parseInt(hex.slice(j, j + 2), 16));
+      for (let ch = 0; ch < 3; ch++) expect(Math.abs(painted[i]![ch]! - ours[ch]!), `${hex} vs Chromium ${painted[i]}`).toBeLessThanOrEqual(1);
+    });
+    // And a round trip the other way: a few OKLCH values straight from their definition.
+    for (const [L, C, h] of [[0.5, 0.1, 30], [0.7, 0.12, 140], [0.4, 0.08, 260]] as const) {
+      const rgb = await page.evaluate((css) => {
+        const c = document.createElement('canvas'); c.width = 1; c.height = 1;
+        const ctx = c.getContext('2d')!; ctx.fillStyle = css; ctx.fillRect(0, 0, 1, 1);
+        return [...ctx.getImageData(0, 0, 1, 1).data.slice(0, 3)];
+      }, `oklch(${L} ${C} ${h})`);
+      const ours = oklchHex(L, C, h);
+      [1, 3, 5].forEach((j, ch) => expect(Math.abs(parseInt(ours.slice(j, j + 2), 16) - rgb[ch]!)).toBeLessThanOrEqual(1));
+    }
+    await page.close();
   });
 });

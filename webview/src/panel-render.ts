@@ -36,25 +36,186 @@ export interface Scene {
 }
 
 export interface Transform { k: number; x: number; y: number }
+export interface Box { x0: number; y0: number; x1: number; y1: number }
 
-/** Bounds of the drawing in layout coordinates, rings included. */
-export function sceneBounds(s: Scene): { x0: number; y0: number; x1: number; y1: number } {
-  let x0 = Infinity, y0 = Infinity, x1 = -Infinity, y1 = -Infinity;
-  for (let i = 0; i < s.ids.length; i++) {
-    const x = s.positions[2 * i]!, y = s.positions[2 * i + 1]!, r = s.nodeRadius[i]!;
-    x0 = Math.min(x0, x - r); y0 = Math.min(y0, y - r); x1 = Math.max(x1, x + r); y1 = Math.max(y1, y + r);
-  }
-  const outer = s.rings[s.rings.length - 1] ?? 0;
-  x0 = Math.min(x0, -outer); y0 = Math.min(y0, -outer - 14); x1 = Math.max(x1, outer); y1 = Math.max(y1, outer);
-  if (!Number.isFinite(x0)) return { x0: -50, y0: -50, x1: 50, y1: 50 };
-  return { x0: x0 - 12, y0: y0 - 12, x1: x1 + 12, y1: y1 + 12 };
+// ---- framing: ring labels where no node is, and the fit of the drawing to the stage -------------------
+
+/** Width of one character of label text, as a share of the font size (a safe guess for digits and
+ *  lower case in the usual sans-serif editor fonts; the panel never measures text). */
+const CHAR_WIDTH = 0.62;
+/** Gap between a ring label and its ring line, and the clearance a label wants around nodes (px). */
+const LABEL_GAP = 3;
+const LABEL_CLEAR = 6;
+/** Candidate angles tried per ring (every 7.5°, starting at the top). */
+const LABEL_ANGLES = 48;
+
+export const ringLabelText = (k: number) => `hop ${k}`;
+/** Font size of node and ring labels in the drawing, in text pixels. */
+export const labelFont = (t: Theme) => t.fontSize - 2;
+
+/** Distance from the point (px, py) to the box (0 inside). */
+function boxDistance(b: Box, px: number, py: number): number {
+  const dx = Math.max(b.x0 - px, 0, px - b.x1), dy = Math.max(b.y0 - py, 0, py - b.y1);
+  return Math.hypot(dx, dy);
+}
+/** Gap between two boxes (0 when they touch or overlap). */
+function boxGap(a: Box, b: Box): number {
+  const dx = Math.max(a.x0 - b.x1, 0, b.x0 - a.x1), dy = Math.max(a.y0 - b.y1, 0, b.y0 - a.y1);
+  return Math.hypot(dx, dy);
 }
 
-/** The transform that fits the whole drawing into width x height. */
-export function fitTransform(s: Scene, width: number, height: number): Transform {
-  const b = sceneBounds(s);
-  const k = Math.min(4, Math.max(0.02, Math.min(width / (b.x1 - b.x0), height / (b.y1 - b.y0))));
-  return { k, x: width / 2 - k * (b.x0 + b.x1) / 2, y: height / 2 - k * (b.y0 + b.y1) / 2 };
+/** Box of a node's id label, drawn left-aligned at (x + r + 2·unit, y + 4·unit) with font size f·unit. */
+export function nodeLabelBox(x: number, y: number, r: number, text: string, f: number, unit: number): Box {
+  const x0 = x + r + 2 * unit, base = y + 4 * unit;
+  return { x0, y0: base - 0.8 * f * unit, x1: x0 + text.length * CHAR_WIDTH * f * unit, y1: base + 0.2 * f * unit };
+}
+
+export interface RingLabelInput {
+  /** x, y per node. */
+  positions: ArrayLike<number>;
+  nodeRadius: ArrayLike<number>;
+  /** Ring radius per hop (index 0, the centre, has no label). */
+  rings: ArrayLike<number>;
+  /** Boxes of the node labels that are drawn (obstacles too). */
+  nodeLabels?: Box[];
+  /** Label font size in text pixels, and layout units per text pixel (1 when text scales with the
+   *  drawing, as in SVG; 1/k when it keeps its screen size, as on the canvas). */
+  font: number;
+  unit: number;
+}
+
+/** Size of ring k's label in layout units. */
+export function ringLabelSize(k: number, font: number, unit: number): { w: number; h: number } {
+  return { w: ringLabelText(k).length * CHAR_WIDTH * font * unit, h: font * unit };
+}
+
+/**
+ * Centre (x, y) of each ring's label, 2 numbers per ring (ring 0 gets NaN). For each ring, boxes
+ * just outside and just inside the ring line are tried at 48 angles. Among those at least 6 px
+ * clear of every node, node label and label placed before, the label takes the one that sticks
+ * out least from the nodes' bounding box (so it does not make the fitted drawing smaller), then
+ * the one nearest the top of the ring; when none is clear, the one farthest from them all.
+ */
+export function placeRingLabels(input: RingLabelInput): Float64Array {
+  const { positions: P, nodeRadius: R, rings, font, unit } = input;
+  const n = R.length;
+  const out = new Float64Array(2 * rings.length).fill(NaN);
+  const gap = LABEL_GAP * unit, clear = LABEL_CLEAR * unit;
+  // Distance of each node from the centre, to consider only nodes near a ring.
+  const dist = new Float64Array(n);
+  let maxR = 0;
+  let bx0 = Infinity, by0 = Infinity, bx1 = -Infinity, by1 = -Infinity;
+  for (let i = 0; i < n; i++) {
+    const x = P[2 * i]!, y = P[2 * i + 1]!, r = R[i]!;
+    dist[i] = Math.hypot(x, y); maxR = Math.max(maxR, r);
+    bx0 = Math.min(bx0, x - r); by0 = Math.min(by0, y - r); bx1 = Math.max(bx1, x + r); by1 = Math.max(by1, y + r);
+  }
+  const placed: Box[] = [];
+  for (let k = 1; k < rings.length; k++) {
+    const r = rings[k]!;
+    const { w, h } = ringLabelSize(k, font, unit);
+    // Nodes and boxes farther from the ring line than this cannot come within `clear` of a candidate.
+    const reach = w + h + gap + clear + maxR;
+    const near: number[] = [];
+    for (let i = 0; i < n; i++) if (Math.abs(dist[i]! - r) <= reach) near.push(i);
+    const boxes = [...(input.nodeLabels ?? []).filter((b) => {
+      const inner = boxDistance(b, 0, 0), outer = Math.hypot(Math.max(Math.abs(b.x0), Math.abs(b.x1)), Math.max(Math.abs(b.y0), Math.abs(b.y1)));
+      return inner <= r + reach && outer >= r - reach;
+    }), ...placed];
+    let best: Box | undefined, bestScore = -Infinity, firstClear: Box | undefined, firstClearRank = Infinity;
+    for (let j = 0; j < LABEL_ANGLES; j++) {
+      const a = -Math.PI / 2 + (2 * Math.PI * j) / LABEL_ANGLES;
+      const ca = Math.cos(a), sa = Math.sin(a);
+      // How far the box centre sits from the ring line so that its nearest edge is `gap` away.
+      const d = (Math.abs(ca) * w) / 2 + (Math.abs(sa) * h) / 2 + gap;
+      for (const side of [1, -1]) {
+        const rho = r + side * d;
+        if (rho < d) continue; // inside a small ring: no room
+        const cx = rho * ca, cy = rho * sa;
+        const box: Box = { x0: cx - w / 2, y0: cy - h / 2, x1: cx + w / 2, y1: cy + h / 2 };
+        let score = Infinity;
+        for (const i of near) score = Math.min(score, boxDistance(box, P[2 * i]!, P[2 * i + 1]!) - R[i]!);
+        for (const b of boxes) score = Math.min(score, boxGap(box, b));
+        // How far it sticks out of the nodes' box, then how far round from the top (outside the
+        // ring line before inside at the same angle; the turn only breaks near-ties).
+        const outside = n ? Math.max(0, bx0 - box.x0, box.x1 - bx1, by0 - box.y0, box.y1 - by1) : 0;
+        const rank = outside + 1e-3 * (Math.min(j, LABEL_ANGLES - j) * 2 + (side === 1 ? 0 : 1));
+        if (score >= clear && rank < firstClearRank) { firstClear = box; firstClearRank = rank; }
+        if (score > bestScore) { bestScore = score; best = box; }
+      }
+    }
+    const chosen = firstClear ?? best;
+    if (!chosen) continue;
+    out[2 * k] = (chosen.x0 + chosen.x1) / 2;
+    out[2 * k + 1] = (chosen.y0 + chosen.y1) / 2;
+    placed.push(chosen);
+  }
+  return out;
+}
+
+/** Ring label centres for a scene, cached per layout (the same positions array) and text scale. */
+const labelCache = new WeakMap<object, { key: string; places: Float64Array }>();
+export function ringLabelPlaces(s: Scene, unit: number): Float64Array {
+  const key = `${unit}|${s.labelAll}|${s.rings.join(',')}|${s.theme.fontSize}|${s.nodeRadius.length}`;
+  const hit = labelCache.get(s.positions);
+  if (hit && hit.key === key) return hit.places;
+  const f = labelFont(s.theme);
+  const nodeLabels: Box[] = [];
+  if (s.labelAll) for (let i = 0; i < s.ids.length; i++) nodeLabels.push(nodeLabelBox(s.positions[2 * i]!, s.positions[2 * i + 1]!, s.nodeRadius[i]!, String(s.ids[i]), f, unit));
+  const places = placeRingLabels({ positions: s.positions, nodeRadius: s.nodeRadius, rings: s.rings, nodeLabels, font: f, unit });
+  labelCache.set(s.positions, { key, places });
+  return places;
+}
+
+/**
+ * What the fit must show, in layout units: every node with its radius, the ring labels, and the
+ * node labels that are always drawn (all of them on small drawings, else the centre's).
+ */
+export function drawingBounds(s: Scene, unit = 1): Box {
+  let x0 = Infinity, y0 = Infinity, x1 = -Infinity, y1 = -Infinity;
+  const f = labelFont(s.theme);
+  const add = (b: Box) => { x0 = Math.min(x0, b.x0); y0 = Math.min(y0, b.y0); x1 = Math.max(x1, b.x1); y1 = Math.max(y1, b.y1); };
+  for (let i = 0; i < s.ids.length; i++) {
+    const x = s.positions[2 * i]!, y = s.positions[2 * i + 1]!, r = s.nodeRadius[i]!;
+    if (!Number.isFinite(x) || !Number.isFinite(y)) continue;
+    add({ x0: x - r, y0: y - r, x1: x + r, y1: y + r });
+    if (s.labelAll || i === 0) add(nodeLabelBox(x, y, r, String(s.ids[i]), f, unit));
+  }
+  const places = ringLabelPlaces(s, unit);
+  for (let k = 1; k < s.rings.length; k++) {
+    const cx = places[2 * k]!, cy = places[2 * k + 1]!;
+    if (!Number.isFinite(cx)) continue;
+    const { w, h } = ringLabelSize(k, f, unit);
+    add({ x0: cx - w / 2, y0: cy - h / 2, x1: cx + w / 2, y1: cy + h / 2 });
+  }
+  if (!Number.isFinite(x0)) return { x0: -50, y0: -50, x1: 50, y1: 50 };
+  return { x0, y0, x1, y1 };
+}
+
+/**
+ * The transform that shows box b as large as fits in width x height less `margin` pixels on every
+ * side, centred, at a scale between minK and maxK.
+ */
+export function fitBox(b: Box, width: number, height: number, margin = 16, minK = 0.02, maxK = 4): Transform {
+  const bw = Math.max(1e-9, b.x1 - b.x0), bh = Math.max(1e-9, b.y1 - b.y0);
+  const k = Math.min(maxK, Math.max(minK, Math.min(Math.max(1, width - 2 * margin) / bw, Math.max(1, height - 2 * margin) / bh)));
+  return { k, x: width / 2 - (k * (b.x0 + b.x1)) / 2, y: height / 2 - (k * (b.y0 + b.y1)) / 2 };
+}
+
+/**
+ * The transform that fits the drawing into width x height. `screenText`: labels keep their screen
+ * size (the canvas), so their extent in layout units depends on the scale: fitted twice.
+ */
+export function fitTransform(s: Scene, width: number, height: number, screenText = false): Transform {
+  const first = fitBox(drawingBounds(s, 1), width, height);
+  return screenText ? fitBox(drawingBounds(s, 1 / first.k), width, height) : first;
+}
+
+/** Bounds of the whole drawing in layout units, rings included (exported files). */
+export function sceneBounds(s: Scene): Box {
+  const b = drawingBounds(s, 1);
+  const outer = s.rings[s.rings.length - 1] ?? 0;
+  return { x0: Math.min(b.x0, -outer) - 12, y0: Math.min(b.y0, -outer) - 12, x1: Math.max(b.x1, outer) + 12, y1: Math.max(b.y1, outer) + 12 };
 }
 
 /** Arrowhead triangle at the receiving end of a → b (points x, y three times), or null when too short. */
@@ -106,11 +267,15 @@ export function buildSvg(doc: Document, s: Scene, opts: { width: number; height:
   svg.append(root);
 
   const rings = svgEl(doc, 'g', { class: 'rings' });
+  const places = ringLabelPlaces(s, 1);
+  const f = labelFont(t);
   s.rings.forEach((r, k) => {
     if (k === 0) return;
     rings.append(svgEl(doc, 'circle', { cx: 0, cy: 0, r: fmt(r), fill: 'none', stroke: t.muted, 'stroke-opacity': 0.35, 'stroke-dasharray': '2 5' }));
-    const label = svgEl(doc, 'text', { x: 0, y: fmt(-r - 4), 'text-anchor': 'middle', fill: t.muted, 'fill-opacity': 0.8 });
-    label.textContent = `hop ${k}`;
+    if (!Number.isFinite(places[2 * k]!)) return;
+    // Centred on its place: the baseline sits about 0.35 em below the middle of the text.
+    const label = svgEl(doc, 'text', { class: 'ring-label', x: fmt(places[2 * k]!), y: fmt(places[2 * k + 1]! + 0.35 * f), 'text-anchor': 'middle', fill: t.muted, 'fill-opacity': 0.8 });
+    label.textContent = ringLabelText(k);
     rings.append(label);
   });
   root.append(rings);
@@ -191,11 +356,13 @@ export function drawCanvas(ctx: CanvasRenderingContext2D, s: Scene, tr: Transfor
   ctx.fillStyle = t.muted;
   ctx.font = `${(t.fontSize - 2) * px}px ${t.fontFamily}`;
   ctx.textAlign = 'center';
+  const places = ringLabelPlaces(s, px);
   s.rings.forEach((r, k) => {
     if (k === 0) return;
     ctx.beginPath(); ctx.arc(0, 0, r, 0, 2 * Math.PI); ctx.stroke();
+    if (!Number.isFinite(places[2 * k]!)) return;
     ctx.globalAlpha = 0.8;
-    ctx.fillText(`hop ${k}`, 0, -r - 4 * px);
+    ctx.fillText(ringLabelText(k), places[2 * k]!, places[2 * k + 1]! + 0.35 * labelFont(t) * px);
     ctx.globalAlpha = 0.35;
   });
   ctx.setLineDash([]);

@@ -134,6 +134,11 @@ let selected = -1;
 let highlight: Set<number> | null = null;
 let transform: Transform = { k: 1, x: 0, y: 0 };
 let firstDrawing = true;
+/** True while the view is the fit of the drawing (not zoomed or panned since): it is fitted again
+ *  when the stage changes size or the field changes. Only a view someone moved is saved. */
+let viewFitted = true;
+/** Set while fit() moves the view, so its zoom event is not taken for the user's. */
+let fitting = false;
 let lastCentre: number | undefined;
 /** Positions of the last drawing by node id, so a new field starts where the old one was. */
 let previous = new Map<number, [number, number]>();
@@ -351,10 +356,10 @@ async function layOut(v: FieldViewPayload, mySeq: number): Promise<void> {
   stage.classList.remove('busy');
   const centreChanged = lastCentre !== v.node;
   lastCentre = v.node;
-  if (firstDrawing && state.zoom) transform = { ...state.zoom };
-  else if (firstDrawing || centreChanged) transform = fitTransform(buildScene(), stageSize().width, stageSize().height);
+  if (firstDrawing && state.zoom) { transform = { ...state.zoom }; viewFitted = false; applyZoom(); }
+  else if (firstDrawing || centreChanged || viewFitted) fit();
+  else applyZoom();
   firstDrawing = false;
-  applyZoom();
   redraw();
 }
 
@@ -472,6 +477,7 @@ const zoomer: ZoomBehavior<HTMLDivElement, unknown> = d3zoom<HTMLDivElement, unk
   .filter((e: Event) => !(e.type === 'dblclick'))
   .on('zoom', (e: { transform: ZoomTransform }) => {
     transform = { k: e.transform.k, x: e.transform.x, y: e.transform.y };
+    if (!fitting) viewFitted = false;
     paintTransform();
     saveZoomSoon();
   });
@@ -480,15 +486,20 @@ select(stage).call(zoomer).on('dblclick.zoom', null);
 let zoomTimer: ReturnType<typeof setTimeout> | undefined;
 function saveZoomSoon(): void {
   clearTimeout(zoomTimer);
-  zoomTimer = setTimeout(() => save({ zoom: { ...transform } }), 200);
+  zoomTimer = setTimeout(() => save({ zoom: viewFitted ? undefined : { ...transform } }), 200);
 }
 function applyZoom(): void {
   select(stage).call(zoomer.transform, zoomIdentity.translate(transform.x, transform.y).scale(transform.k));
 }
+/** Fits the whole drawing (nodes, their labels, ring labels) into the stage, centred. */
 function fit(): void {
   if (!view || !positions) return;
-  transform = fitTransform(buildScene(), stageSize().width, stageSize().height);
-  applyZoom();
+  const { width, height } = stageSize();
+  transform = fitTransform(buildScene(), width, height, view.ids.length + view.edgeDirs.length > CANVAS_THRESHOLD);
+  viewFitted = true;
+  fitting = true;
+  try { applyZoom(); } finally { fitting = false; }
+  saveZoomSoon();
 }
 
 function nodeAt(clientX: number, clientY: number): number {
@@ -808,11 +819,14 @@ async function exportPng(): Promise<void> {
 // ---- theme and size ----------------------------------------------------------------------------------
 
 // VS Code switches the body class and rewrites the theme variables on <html style> when the theme changes.
-const themeWatch = new MutationObserver(() => { theme = readTheme(); redraw(); drawSide(); });
+const themeWatch = new MutationObserver(() => { theme = readTheme(); if (viewFitted) fit(); redraw(); drawSide(); });
 themeWatch.observe(document.body, { attributes: true, attributeFilter: ['class'] });
 themeWatch.observe(document.documentElement, { attributes: true, attributeFilter: ['style'] });
 let resizeTimer: ReturnType<typeof setTimeout> | undefined;
-new ResizeObserver(() => { clearTimeout(resizeTimer); resizeTimer = setTimeout(redraw, 60); }).observe(stage);
+new ResizeObserver(() => {
+  clearTimeout(resizeTimer);
+  resizeTimer = setTimeout(() => { if (viewFitted) fit(); redraw(); }, 60);
+}).observe(stage);
 
 // ---- messages ----------------------------------------------------------------------------------------
 
