@@ -8,12 +8,12 @@ import { sequentialPair, setPairBuilder, buildSortedPair } from '../../server/sr
 import { countComponentsCsr } from '../../server/src/core/graph/figures';
 import { PARALLEL_MIN_EDGES, parallelPair, useParallelPairBuilder } from '../../server/src/node/pair-build';
 import { sharedInt32 } from '../../server/src/node/helper-thread';
+import { seededRandom } from './random';
 
 const HELPER = path.join(__dirname, '../../dist/helper.js');
 
 function randomGraph(n: number, e: number, seed: number, share: boolean): { src: Int32Array; dst: Int32Array } {
-  let s = seed;
-  const rnd = (m: number) => { s = (Math.imul(s, 1103515245) + 12345) >>> 0; return Math.floor((s / 2 ** 32) * m); };
+  const rnd = seededRandom(seed);
   const src = share ? sharedInt32(e) : new Int32Array(e), dst = share ? sharedInt32(e) : new Int32Array(e);
   // Clustered ids (many components) plus a few hubs (long rows that take the typed-array sort).
   for (let k = 0; k < e; k++) {

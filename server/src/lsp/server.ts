@@ -338,7 +338,11 @@ export function startServer(connection: Connection, workerScript: string): void 
     const uri = URI.file(abs).toString();
     if (!isSupportedFile(abs) || (notGraphFiles.has(abs) && !published.has(abs))) return { uri, status: 'unsupported' };
     let size: number;
-    try { size = fs.statSync(abs).size; } catch { return { uri, status: 'missing' }; }
+    let st: fs.Stats;
+    try { st = fs.statSync(abs); } catch { return { uri, status: 'missing' }; }
+    // A named pipe or a device is never read (opening a pipe blocks until a writer comes).
+    if (!st.isFile()) return { uri, status: 'unsupported' };
+    size = st.size;
     let report = published.get(abs);
     if (!report) {
       if (!wait || size > HOVER_WAIT_BYTES) {

@@ -15,6 +15,7 @@
  */
 import type { Csr } from './csr';
 import { throwIfCancelled, type Cancel } from './simple-undirected';
+import { seededRandom } from '../random';
 
 export type Flow = 'source-to-target' | 'target-to-source';
 
@@ -221,18 +222,6 @@ export function percentileSorted(sorted: ArrayLike<number>, q: number): number {
   const t = pos - lo;
   const a = sorted[lo]!, b = sorted[hi]!;
   return t === 0 ? a : a + (b - a) * t;
-}
-
-/** A small seeded generator (mulberry32): uniform 32-bit values, the same sequence per seed. */
-export function seededRandom(seed: number): () => number {
-  let s = seed >>> 0;
-  return () => {
-    s = (s + 0x6d2b79f5) >>> 0;
-    let t = s;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
 }
 
 /**

@@ -28,6 +28,7 @@
 import { EigenvalueDecomposition, Matrix } from 'ml-matrix';
 import { throwIfCancelled, type Cancel } from './simple-undirected';
 import { axpy, dot, gramSchmidtSweep, norm, scale } from './vectors';
+import { fillSymmetric, seededRandom } from '../random';
 
 /** y = A x for a symmetric positive semi-definite A of order n. */
 export interface SymmetricOperator {
@@ -41,19 +42,6 @@ export interface SymmetricOperator {
 export interface Deflation {
   /** x ← x minus its component in the subspace. */
   project(x: Float64Array): void;
-}
-
-/** xorshift32-based uniform numbers in [-1, 1). */
-function makeRandom(seed: number): (x: Float64Array) => void {
-  let s = (seed >>> 0) || 1;
-  return (x: Float64Array) => {
-    for (let i = 0; i < x.length; i++) {
-      s ^= s << 13; s >>>= 0;
-      s ^= s >>> 17;
-      s ^= s << 5; s >>>= 0;
-      x[i] = s / 2147483648 - 1;
-    }
-  };
 }
 
 /** Eigen-decomposition of the leading j x j block of the symmetric m x m matrix H (row-major). */
@@ -122,7 +110,8 @@ export function lanczosSmallest(op: SymmetricOperator, deflation: Deflation, wan
   const lockTol = 0.01 * tolAbs;
   const breakTol = 1e-3 * lockTol;
   const delta = tolAbs;
-  const random = makeRandom(seed);
+  const rand = seededRandom(seed);
+  const random = (x: Float64Array): void => fillSymmetric(rand, x);
 
   const locked: Pair[] = [];
   const pool: Float64Array[] = [];
