@@ -7,6 +7,7 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import * as fs from 'node:fs';
 import * as os from 'node:os';
 import * as path from 'node:path';
+import { spawnSync } from 'node:child_process';
 import type { MessageConnection } from 'vscode-jsonrpc/node';
 import { URI } from 'vscode-uri';
 
@@ -132,6 +133,19 @@ describe('language server over stdio', () => {
     expect(added).toHaveLength(25);
     expect(added[0]).toBe('1 0'); // the reverse of the first lane, "0 1"
   });
+
+  it('a named pipe is never opened: the summary says unsupported, a hover on its path shows nothing', async () => {
+    // Opening a FIFO for reading blocks until a writer comes; the test's time limit turns a
+    // regression into a failure, and stopping the server ends it.
+    const fifo = path.join(ws, 'archive', 'pipe.npy');
+    if (spawnSync('mkfifo', [fifo]).status !== 0) return; // no mkfifo here
+    const s = await conn.sendRequest('hopscope/fileSummary', { uri: URI.file(fifo).toString() }) as { status: string };
+    expect(s.status).toBe('unsupported');
+    const text = 'x = np.load("archive/pipe.npy")\n';
+    await conn.sendNotification('textDocument/didOpen', { textDocument: { uri: uri('pipe_user.py'), languageId: 'python', version: 1, text } });
+    const h = await conn.sendRequest('textDocument/hover', { textDocument: { uri: uri('pipe_user.py') }, position: { line: 0, character: 20 } });
+    expect(h).toBeNull();
+  }, 15_000);
 
   it('custom requests: summary, tensor page, statistics', async () => {
     const s = await conn.sendRequest('hopscope/fileSummary', { uri: uri('lanes/dock_features.npy') }) as { status: string; report: { tensors: Array<{ shape: number[] }> } };
