@@ -2,7 +2,7 @@
 // every alignment, and ByteLines must give each offset's 1-based line across 64 KiB checkpoints.
 import { describe, expect, it } from 'vitest';
 import { seededRandom } from './random';
-import { ByteLines, countLF } from '../../server/src/core/formats/text-common';
+import { ByteLines, countLF, lineEndFrom } from '../../server/src/core/formats/text-common';
 
 function naive(b: Uint8Array, s: number, e: number): number {
   let c = 0;
@@ -39,5 +39,32 @@ describe('ByteLines', () => {
       expect(bl.lineOf(off)).toBe(line);
     }
     expect(bl.lineOf(b.length - 1)).toBe(30_000);
+  });
+});
+
+describe('lineEndFrom', () => {
+  it('finds the same LF as a byte-by-byte search for all alignments, span lengths and buffer kinds', () => {
+    const next = seededRandom(8);
+    const naiveEnd = (b: Uint8Array, i: number, n: number) => { while (i < n && b[i] !== 10) i++; return i; };
+    for (const shared of [false, true]) {
+      const size = 3000;
+      const buf = new Uint8Array(shared ? new SharedArrayBuffer(size) : new ArrayBuffer(size));
+      // Mostly bytes next to 0x0a (0x0b, 0x8a, 0x09) with a few LFs, so words without LF look close to one.
+      const pool = [0x0b, 0x8a, 0x09, 0x20, 0x30, 0x00, 0xff];
+      for (let i = 0; i < size; i++) buf[i] = next(97) === 0 ? 10 : pool[next(pool.length)]!;
+      for (let off = 0; off < 4; off++) {
+        const b = buf.subarray(off, size - 3);
+        for (let t = 0; t < 300; t++) {
+          const i = next(b.length), n = i + next(b.length - i + 1);
+          expect(lineEndFrom(b, i, n)).toBe(naiveEnd(b, i, n));
+        }
+        expect(lineEndFrom(b, 0, b.length)).toBe(naiveEnd(b, 0, b.length));
+      }
+    }
+    // A 1 MB line ends where its LF is.
+    const long = new Uint8Array(1 << 20).fill(0x31);
+    long[long.length - 2] = 10;
+    expect(lineEndFrom(long, 5, long.length)).toBe(long.length - 2);
+    expect(lineEndFrom(long, 5, long.length - 2)).toBe(long.length - 2);
   });
 });
