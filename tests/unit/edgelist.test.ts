@@ -126,7 +126,9 @@ describe('locating values', () => {
 
 describe('problems in the ids', () => {
   it('reports non-integer ids with line and column and leaves their edges out (broken.txt)', () => {
-    const exp = expected['broken.txt']; // ids checked with Python int(), see make_text_fixtures.py
+    // Ids checked with Python float() on decimal literals (make_text_fixtures.py): whole numbers are
+    // ids however written (`1e3` is id 1000, 3000000000 an int64 id), `1.5` and `abc` are not.
+    const exp = expected['broken.txt'];
     const r = read(fixture('broken.txt'));
     expect(pairs(dense(r, 'edge_index'))).toEqual(exp.edges);
     const ni = r.problems.find((p) => p.code === 'non-integer-index')!;
@@ -140,8 +142,15 @@ describe('problems in the ids', () => {
         line: x.line, column: x.column, length: x.length,
       })),
     );
-    expect(ni.locations![0]!.detail).toContain("'1.5'");
-    expect(ni.locations![3]!.detail).toContain('int32');
+    expect(ni.locations![0]!.detail).toBe("source '1.5' is not a whole number");
+    expect(ni.locations![1]!.detail).toBe("source 'abc' is not a number");
+    // 3000000000 is beyond int32: the edge index is a Float64Array, as int64 tensors are.
+    expect(dense(r, 'edge_index').data).toBeInstanceOf(Float64Array);
+    const fl = r.problems.find((p) => p.code === 'non-integer-index' && p.severity === 'info')!;
+    expect(fl.count).toBe(exp.floatIds.length);
+    expect(fl.locations!.map((l) => ({ line: l.line, column: l.column, length: l.length }))).toEqual(
+      exp.floatIds.map((x: { line: number; column: number; length: number }) => ({ line: x.line, column: x.column, length: x.length })));
+    expect(fl.locations![0]!.detail).toBe(`target '${exp.floatIds[0].token}' is read as id ${exp.floatIds[0].value}`);
     const short = r.problems.find((p) => p.code === 'edge-shape')!;
     expect(short.severity).toBe('error');
     expect(short.count).toBe(exp.short.length);
@@ -154,13 +163,52 @@ describe('problems in the ids', () => {
     expect(r.problems).toEqual([]);
   });
 
-  it('refuses ids beyond int32 and exponent or decimal spellings', () => {
-    const r = readText('0 2147483648\n1e3 1\n1.0 2\n0x1 2\n3 4\n');
-    expect(pairs(dense(r, 'edge_index'))).toEqual([[3, 4]]);
-    const ni = r.problems.find((p) => p.code === 'non-integer-index')!;
-    expect(ni.count).toBe(4);
-    expect(ni.locations!.map((l) => [l.line, l.column])).toEqual([[1, 3], [2, 1], [3, 1], [4, 1]]);
+  it('reads ids beyond int32 and whole numbers written as floats as ids; refuses the rest with the reason', () => {
+    // Values as Python's float()/int() give them (recalled, not computed here): 2147483648 = 2**31,
+    // 1e3 = 1000.0, 1.0 = 1.0, -0.0 = 0, 0x1 is not a decimal literal, 2.5 has a fraction,
+    // 9007199254740993 = 2**53 + 1 rounds to 2**53 as a double.
+    const r = readText('0 2147483648\n1e3 1\n1.0 2\n-0.0 5\n0x1 2\n3 4\n2.5 1\n9007199254740993 1\n4 -2147483649\n');
+    expect(pairs(dense(r, 'edge_index'))).toEqual([[0, 2147483648], [1000, 1], [1, 2], [0, 5], [3, 4], [4, -2147483649]]);
+    expect(dense(r, 'edge_index').data).toBeInstanceOf(Float64Array);
+    const ni = r.problems.find((p) => p.code === 'non-integer-index' && p.severity === 'error')!;
+    expect(ni.count).toBe(3);
+    expect(ni.locations!.map((l) => [l.line, l.column, l.detail])).toEqual([
+      [5, 1, "source '0x1' is not a number"],
+      [7, 1, "source '2.5' is not a whole number"],
+      [8, 1, "source '9007199254740993' is beyond 2^53, too large to be held exactly"],
+    ]);
+    const fl = r.problems.find((p) => p.code === 'non-integer-index' && p.severity === 'info')!;
+    expect(fl.count).toBe(3); // 1e3, 1.0 and -0.0; 2147483648 and -2147483649 are plain integers
+    expect(fl.locations!.map((l) => [l.line, l.column])).toEqual([[2, 1], [3, 1], [4, 1]]);
   });
+
+  it('keeps int32 ids in an Int32Array when none is beyond int32 (the types.ts rule)', () => {
+    const r = readText('1.0 2\n2147483647 -2147483648\n');
+    expect(dense(r, 'edge_index').data).toBeInstanceOf(Int32Array);
+    expect(pairs(dense(r, 'edge_index'))).toEqual([[1, 2], [2147483647, -2147483648]]);
+  });
+
+  // numpy.savetxt's default fmt ('%.18e') and fmt='%.1f' write whole-number ids as floats;
+  // numpy.loadtxt reads them back as float64 whole numbers (make_text_fixtures.py).
+  for (const name of ['karate_savetxt_default.txt', 'karate_savetxt_1f.csv']) {
+    it(`reads ${name} (numpy.savetxt floats) as the ids numpy.loadtxt gives, with one info`, () => {
+      const exp = expected[name];
+      expect(exp.loadtxtDtype).toBe('float64');
+      expect(exp.allWhole).toBe(true);
+      const r = read(fixture(name), name);
+      const ei = dense(r, 'edge_index');
+      expect(ei.data).toBeInstanceOf(Int32Array);
+      expect(pairs(ei)).toEqual(exp.edges);
+      expect(r.problems.map((p) => `${p.code}:${p.severity}`)).toEqual(['non-integer-index:info']);
+      const p = r.problems[0]!;
+      expect(p.count).toBe(exp.floatIds);
+      expect(p.line).toBe(1);
+      expect(p.column).toBe(1);
+      expect(p.locations![0]!.detail).toBe(`source '${exp.firstToken}' is read as id 0`);
+      expect(p.message).toMatch(/written as floats/);
+      expect(p.message).toMatch(/astype\(np\.int64\)/);
+    });
+  }
 
   it('reads quoted CSV ids', () => {
     const r = readText('"source","target"\n"0","1"\n"1","2"\n', 'g.csv');

@@ -370,7 +370,9 @@ export function startServer(connection: Connection, workerScript: string): void 
     }
     if (!wanted.size) return [];
     const report = published.get(file);
-    const nodes = report?.graph && report.graph.indexBase === 0 ? report.graph.nodes : undefined;
+    // With sparse ids the node count is the number of distinct ids, not a bound on them.
+    const sparse = report?.problems.some((p) => p.code === 'sparse-ids');
+    const nodes = report?.graph && report.graph.indexBase === 0 && !sparse ? report.graph.nodes : undefined;
     const fixes = edgeListFixes(doc.getText(), file, [...wanted.keys()], wanted.has('to-zero-based') ? undefined : nodes);
     return fixes.map((f) => ({
       title: f.title,

@@ -48,6 +48,7 @@ export function loadGraph(file: string, options: CheckSetOptions = {}): LoadedGr
     throw new GraphLoadError(`${file}: no edge index or adjacency matrix found (tensors: ${report.tensors.map((t) => `${t.name} ${t.role}`).join(', ') || 'none'})`);
   }
   const s = g.check.structure;
+  if (s.ids) throw new GraphLoadError(tooManyNodes(file, g.check.figures, s.ids));
   const parts = g.check.parts;
   const dense = (role: string) => parts.find((p) => p.guess.role === role && p.tensor.kind === 'dense')?.tensor as DenseTensor | undefined;
   const features = dense('features');
@@ -58,4 +59,22 @@ export function loadGraph(file: string, options: CheckSetOptions = {}): LoadedGr
     figures: g.check.figures, problems: report.problems, options: g.check.options,
     files: g.files.map((f) => path.resolve(f)),
   };
+}
+
+/**
+ * Why a graph checked on its touched ids (see GraphCheck.structure.ids) is not analysed: the
+ * analyses keep several numbers per node, for every node id.
+ */
+function tooManyNodes(file: string, figures: GraphFigures, ids: Float64Array): string {
+  const touched = ids.length;
+  const base = figures.indexBase;
+  if (figures.nodes === touched) {
+    const largest = (touched ? ids[touched - 1]! : 0) + base;
+    return `${file}: its node ids are sparse (${touched} distinct id${touched === 1 ? '' : 's'} up to ${largest}); the analyses ` +
+      `index nodes by id and would need memory for ${largest + 1 - base} nodes. Renumber the ids to ${base}..${touched - 1 + base} ` +
+      'first (e.g. np.unique(edge_index, return_inverse=True)); hopscope check reports this file as it is.';
+  }
+  return `${file}: the graph has ${figures.nodes} nodes (its declared node count, feature rows or size line) but its edges ` +
+    `touch only ${touched}; the analyses keep several numbers per node and are not run on a graph this large and this empty. ` +
+    'Check the node count; hopscope check reports this file as it is.';
 }

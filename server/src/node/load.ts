@@ -326,7 +326,7 @@ export function checkPaths(inputs: string[], options: CheckSetOptions = {}, load
   // The raw file bytes are garbage now; a 10M-edge .npy is 160 MB of them. Return them before the
   // graph is built, so peak memory is the tensors plus the graph, not plus the file as well.
   if (loaded.reduce((s, f) => s + tensorBytes(f), 0) > 64 * 1024 ** 2) collectGarbage();
-  const result = checkSet(loaded, manifests, options);
+  const result = checkSet(loaded, manifests, { ...options, maxFileBytes: load.maxFileBytes ?? DEFAULT_MAX_FILE_BYTES });
   const shown = result.files.filter((f) => requested.has(path.resolve(f.path)));
   if (load.explainNamedJson) {
     for (const f of shown) {

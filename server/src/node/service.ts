@@ -7,6 +7,7 @@ import * as fs from 'node:fs';
 import * as path from 'node:path';
 import type { CheckSetOptions, FileReport, LoadedFile } from '../core/checks/check-set';
 import type { Csr } from '../core/graph/csr';
+import { indexOfId } from '../core/graph/compact';
 import type { DenseTensor, Tensor } from '../core/formats/types';
 import { guessRole } from '../core/checks/roles';
 import { checkPaths, type LoadOptions } from './load';
@@ -35,6 +36,8 @@ interface StructureInfo {
   fwd: Csr;
   rev: Csr;
   indexBase: 0 | 1;
+  /** Present when the graph was checked on its touched ids: CSR node c is the 0-based id ids[c]. */
+  ids?: Float64Array;
 }
 
 export class GraphService {
@@ -67,7 +70,9 @@ export class GraphService {
     for (const g of r.graphs) {
       const s = g.check.structure;
       if (g.check.structureFile && s && g.check.figures) {
-        this.structures.set(path.resolve(g.check.structureFile), { n: s.figures.nodes, fwd: s.fwd, rev: s.rev, indexBase: g.check.figures.indexBase });
+        this.structures.set(path.resolve(g.check.structureFile), {
+          n: g.check.figures.nodes, fwd: s.fwd, rev: s.rev, indexBase: g.check.figures.indexBase, ...(s.ids ? { ids: s.ids } : {}),
+        });
       }
     }
     this.evict();
@@ -99,9 +104,16 @@ export class GraphService {
   nodeInfo(file: string, node: number, maxNeighbours = 8): NodeInfo | undefined {
     const s = this.structures.get(path.resolve(file));
     if (!s) return undefined;
-    const u = node - s.indexBase;
-    if (!Number.isInteger(u) || u < 0 || u >= s.n) return undefined;
-    const row = (g: Csr) => Array.from(g.indices.subarray(g.indptr[u]!, Math.min(g.indptr[u + 1]!, g.indptr[u]! + maxNeighbours)), (v) => v + s.indexBase);
+    const id = node - s.indexBase;
+    if (!Number.isInteger(id) || id < 0 || (!s.ids && id >= s.n)) return undefined;
+    // A graph checked on its touched ids: find the id's CSR node (an untouched id below the node
+    // count is an isolated node; one beyond the distinct ids of a sparse graph is not a node).
+    const u = s.ids ? indexOfId(s.ids, id) : id;
+    if (u < 0) {
+      return s.ids!.length < s.n && id < s.n ? { node, nodes: s.n, outDegree: 0, inDegree: 0, outNeighbours: [], inNeighbours: [] } : undefined;
+    }
+    const idOf = (v: number) => (s.ids ? s.ids[v]! : v) + s.indexBase;
+    const row = (g: Csr) => Array.from(g.indices.subarray(g.indptr[u]!, Math.min(g.indptr[u + 1]!, g.indptr[u]! + maxNeighbours)), idOf);
     return {
       node, nodes: s.n,
       outDegree: s.fwd.indptr[u + 1]! - s.fwd.indptr[u]!,
@@ -152,9 +164,17 @@ export class GraphService {
     if (role === 'edge-index' || role === 'adjacency') {
       const s = this.structures.get(path.resolve(file));
       if (s) {
-        const deg = new Int32Array(s.n);
-        for (let u = 0; u < s.n; u++) deg[u] = s.fwd.indptr[u + 1]! - s.fwd.indptr[u]! + s.rev.indptr[u + 1]! - s.rev.indptr[u]!;
-        out.degreeHistogram = histogram(deg, 100_000).map(({ value, count }) => ({ degree: value, count }));
+        // Over the CSR's nodes (the touched ids when the graph was too large for per-node arrays);
+        // the untouched ids of such a graph are nodes of degree 0.
+        const m = s.fwd.n;
+        const deg = new Int32Array(m);
+        for (let u = 0; u < m; u++) deg[u] = s.fwd.indptr[u + 1]! - s.fwd.indptr[u]! + s.rev.indptr[u + 1]! - s.rev.indptr[u]!;
+        const bins = histogram(deg, 100_000);
+        if (s.n > m && bins.length) {
+          if (bins[0]!.value === 0) bins[0]!.count += s.n - m;
+          else bins.unshift({ value: 0, count: s.n - m });
+        }
+        out.degreeHistogram = bins.map(({ value, count }) => ({ degree: value, count }));
       }
     }
     return out;

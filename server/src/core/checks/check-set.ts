@@ -56,6 +56,8 @@ export interface CheckSetOptions extends GraphOptions {
   severity?: SeverityOverrides;
   /** Defaults below manifests (editor settings); the GraphOptions fields above override manifests (CLI flags). */
   defaults?: GraphOptions;
+  /** The largest file read at all: bounds per-node memory too (CheckLimits). */
+  maxFileBytes?: number;
 }
 
 export function dirOf(p: string): string {
@@ -148,7 +150,7 @@ export function checkSet(files: LoadedFile[], manifests: LoadedManifest[], cli: 
 
   const run = (name: string, parts: GraphPart[], options: GraphOptions, severity: SeverityOverrides) => {
     const merged: GraphOptions = { ...definedOnly(cli.defaults ?? {}), ...options, ...definedOnly(cli) };
-    const check = timed('checks', () => checkGraph(parts, merged));
+    const check = timed('checks', () => checkGraph(parts, merged, cli.maxFileBytes !== undefined ? { maxFileBytes: cli.maxFileBytes } : {}));
     const fileSet = [...new Set(parts.map((p) => p.file))];
     graphs.push({ name, files: fileSet, check });
     const sev = { ...severity, ...(cli.severity ?? {}) };

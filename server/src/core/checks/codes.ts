@@ -25,13 +25,14 @@ export const CODES: Readonly<Record<ProblemCode, CodeInfo>> = {
   'self-loops': { severity: 'info', summary: 'Edges from a node to itself; a warning when the graph declares them forbidden.' },
   'duplicate-edges': { severity: 'warning', summary: 'The same (source, target) pair stored more than once.' },
   'isolated-nodes': { severity: 'info', summary: 'Nodes with no edge other than self-loops: they only ever see their own features.' },
+  'sparse-ids': { severity: 'info', summary: 'Node ids far above the number of distinct ids (a sparse numbering): the graph is checked on its distinct ids.' },
   'non-finite-features': { severity: 'error', summary: 'NaN or infinite values in features, edge weights or edge features.' },
   'mask-overlap': { severity: 'error', summary: 'A node in more than one of the train/validation/test splits.' },
   'label-range': { severity: 'warning', summary: 'Labels that are negative, fractional, or skip class ids.' },
   'empty-graph': { severity: 'warning', summary: 'A graph with no nodes or no edges.' },
-};
   'skew-symmetric-diagonal': { severity: 'warning', summary: 'A skew-symmetric Matrix Market file that stores non-zero diagonal entries (a skew-symmetric matrix has a zero diagonal); they are kept, as SciPy keeps them.' },
   'no-graph-tensors': { severity: 'info', summary: 'A file that was read but holds nothing taken as graph data (e.g. JSON with a "nodes" key in a layout that is not read).' },
+};
 
 export const ALL_CODES = Object.keys(CODES) as ProblemCode[];
 

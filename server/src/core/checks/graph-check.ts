@@ -14,6 +14,7 @@ import {
   analyseStructure, asymmetricExamples, duplicateExamples, isolatedExamples,
   type Structure, type StructureFigures,
 } from '../graph/figures';
+import { compactIds, denseNodeLimit, isolatedIdExamples } from '../graph/compact';
 
 export type SelfLoopPolicy = 'allowed' | 'forbidden';
 export type Flow = 'source-to-target' | 'target-to-source';
@@ -49,8 +50,14 @@ export interface GraphCheck {
   structureTensor: string | null;
   figures: GraphFigures | null;
   problems: FileProblem[];
-  /** The CSR graph and the in-range edge list, for analyses that follow. */
-  structure?: Structure & { src: Int32Array; dst: Int32Array };
+  /**
+   * The CSR graph and the in-range edge list, for analyses that follow. When `ids` is present the
+   * graph was too large for per-node arrays (sparse ids, or a declared node count far beyond what
+   * the edges touch; see checkGraph) and was checked on the ids its edges touch: CSR node c is the
+   * 0-based id ids[c], src/dst hold compact nodes, and `structure.figures` counts the touched ids
+   * only (the GraphCheck figures count the whole graph).
+   */
+  structure?: Structure & { src: Int32Array; dst: Int32Array; ids?: Float64Array };
   /** The parts and options the graph was checked with. */
   parts: GraphPart[];
   options: GraphOptions;
@@ -74,7 +81,13 @@ interface EdgeSource {
 
 const EXAMPLES_IN_MESSAGE = 3;
 
-export function checkGraph(parts: GraphPart[], opts: GraphOptions = {}): GraphCheck {
+/** Bounds on memory a check may use (see denseNodeLimit). */
+export interface CheckLimits {
+  /** The largest file that is read at all (hopscope.maxFileSizeMB, or the CLI's limit). */
+  maxFileBytes?: number;
+}
+
+export function checkGraph(parts: GraphPart[], opts: GraphOptions = {}, limits: CheckLimits = {}): GraphCheck {
   const problems: FileProblem[] = [];
   const report = (part: GraphPart, code: ProblemCode, message: string, count: number,
     locations: ProblemLocation[] = [], severity: Severity = CODES[code].severity) => {
@@ -84,6 +97,18 @@ export function checkGraph(parts: GraphPart[], opts: GraphOptions = {}): GraphCh
     if (locations.length) p.locations = locations.slice(0, MAX_LOCATIONS);
     problems.push({ file: part.file, problem: p });
   };
+
+  // A tensor summarised while it was read (a very large .npz member) has figures, not values: it
+  // can be features or an unused tensor, but not a part whose values the checks walk.
+  parts = parts.filter((p) => {
+    const t = p.tensor;
+    if (t.kind !== 'dense' || !t.summary || SUMMARY_SUFFICES.has(p.guess.role)) return true;
+    report(p, 'unreadable',
+      `${t.name} holds ${(t.summary.dataBytes / 1024 ** 2).toFixed(0)} MiB of values, too many to keep, so it was only ` +
+      `summarised while it was read; as the ${p.guess.role} its values are needed. Save the archive uncompressed ` +
+      '(np.savez) or the array as its own .npy file.', 1);
+    return false;
+  });
 
   const byRole = (role: string) => parts.filter((p) => p.guess.role === role);
   const edgeParts = byRole('edge-index');
@@ -154,6 +179,12 @@ export function checkGraph(parts: GraphPart[], opts: GraphOptions = {}): GraphCh
     n = maxId + 1; nSource = 'the largest id + 1';
   }
   const nodeCountFromIds = declaredN === undefined && featureRows === undefined && nSource === 'the largest id + 1';
+  // Per-node arrays are bounded by what the files hold: above `denseLimit` nodes the graph is
+  // checked on the ids its edges touch (step 5). With no per-node tensor to say otherwise, ids far
+  // beyond that are a sparse numbering (user or product numbers): the graph's nodes are its
+  // distinct ids, as NetworkX reads such a file.
+  const denseLimit = denseNodeLimit(graphDataBytes(parts), limits.maxFileBytes);
+  const idsLookSparse = nodeCountFromIds && otherLens.length === 0 && n > denseLimit;
   // Without edges, a declaration or features there is no node count to hold per-node tensors to.
   const nKnown = edges !== undefined || declaredN !== undefined || featureRows !== undefined;
 
@@ -209,6 +240,12 @@ export function checkGraph(parts: GraphPart[], opts: GraphOptions = {}): GraphCh
   let outOfRange = 0;
   const oorExamples: number[] = [];
   const flags = edges.flags;
+  const shiftBy = isIndex && opts.indexBase === 1 ? 1 : 0;
+  /** Endpoint of edge k as a 0-based id (ids beyond int32 come from the tensor itself). */
+  const idOf = (k: number, side: 0 | 1): number =>
+    flags && flags[k]! & (side === 0 ? 4 : 8) ? edges!.raw(k, side) - shiftBy : (side === 0 ? src : dst)[k]!;
+  const wide = n > denseLimit;
+  const sparseIds = wide && idsLookSparse;
   // Every id flagged or in range is known from the range alone: the common case skips the pass.
   const allInRange = !flags && (e === 0 || (minId >= 0 && maxId < n));
   for (let k = 0; k < e && !allInRange; k++) {
@@ -240,19 +277,32 @@ export function checkGraph(parts: GraphPart[], opts: GraphOptions = {}): GraphCh
     report(sp, 'index-out-of-range',
       `${outOfRange} edge entr${outOfRange === 1 ? 'y refers' : 'ies refer'} to nodes that do not exist: ${ex}. ${hint} ` +
       `Those entries are left out of the graph figures; gather/scatter on them fails or reads another node's row.`,
-  const shiftBy = isIndex && opts.indexBase === 1 ? 1 : 0;
-  /** Endpoint of edge k as a 0-based id (ids beyond int32 come from the tensor itself). */
-  const idOf = (k: number, side: 0 | 1): number =>
-    flags && flags[k]! & (side === 0 ? 4 : 8) ? edges!.raw(k, side) - shiftBy : (side === 0 ? src : dst)[k]!;
-  const wide = n > denseLimit;
-  const sparseIds = wide && idsLookSparse;
       outOfRange, locs);
   }
 
   // Keep the in-range, integer edges.
   let keep: Int32Array | null = null;
   let gSrc = src, gDst = dst;
-  if (outOfRange > 0 || edges.nonInteger > 0) {
+  /** Set when the graph is checked on the ids its edges touch: compact node c is id nodeIds[c]. */
+  let nodeIds: Float64Array | undefined;
+  if (wide) {
+    // Too many nodes for per-node arrays: keep the in-range edges as ids, then renumber the
+    // touched ids 0..N-1 (in order). Untouched ids are counted, never stored.
+    const m = e - outOfRange - edges.nonInteger;
+    const fs = new Float64Array(m), fd = new Float64Array(m);
+    if (m < e) keep = new Int32Array(m);
+    let j = 0;
+    for (let k = 0; k < e; k++) {
+      const fl = flags ? flags[k]! : 0;
+      if (fl & 3) continue;
+      const a = fl & 4 ? idOf(k, 0) : src[k]!, b = fl & 8 ? idOf(k, 1) : dst[k]!;
+      if (a < 0 || a >= n || b < 0 || b >= n) continue;
+      if (keep) keep[j] = k;
+      fs[j] = a; fd[j] = b; j++;
+    }
+    const c = compactIds(fs, fd);
+    gSrc = c.src; gDst = c.dst; nodeIds = c.ids;
+  } else if (outOfRange > 0 || edges.nonInteger > 0) {
     const m = e - outOfRange - edges.nonInteger;
     keep = new Int32Array(m); gSrc = new Int32Array(m); gDst = new Int32Array(m);
     let j = 0;
@@ -268,6 +318,23 @@ export function checkGraph(parts: GraphPart[], opts: GraphOptions = {}): GraphCh
   // ---- 6. structure -------------------------------------------------------------------------
   const structure = analyseStructure(nodeIds ? nodeIds.length : n, gSrc, gDst);
   const f = structure.figures;
+  // The whole graph's figures: with sparse ids its nodes are the distinct ids; with a node count
+  // far beyond the touched ids, each untouched id is one isolated node and one component.
+  const touched = structure.figures.nodes;
+  const nodes = sparseIds ? touched : n;
+  const untouched = nodes - touched;
+  const isolatedNodes = f.isolatedNodes + untouched;
+  const components = f.components + untouched;
+  if (sparseIds) {
+    let at = 0;
+    for (let k = 0; k < e; k++) if (idOf(k, 0) === maxId || idOf(k, 1) === maxId) { at = k; break; }
+    report(sp, 'sparse-ids',
+      `${sp.tensor.name}: ids are sparse: ${touched} distinct id${touched === 1 ? '' : 's'} up to ${maxId + indexBase}; ` +
+      `checked on the distinct ids (${touched} node${touched === 1 ? '' : 's'}). A model that takes the largest id + 1 as the ` +
+      `node count would hold ${n} nodes, ${n - touched} of them without edges: renumber the ids to ${indexBase}..${touched - 1 + indexBase} ` +
+      `(e.g. np.unique(edge_index, return_inverse=True)) and keep the original ids beside them.`,
+      n - touched, [edges.locate(at, 'edge')]);
+  }
   const edgeLocs = (ids: number[], what: (k: number) => string) => ids.map((j) => {
     const k = orig(j);
     const loc = edges!.locate(k, 'edge');
@@ -309,32 +376,29 @@ export function checkGraph(parts: GraphPart[], opts: GraphOptions = {}): GraphCh
         `${f.asymmetricPairs} edge${f.asymmetricPairs === 1 ? '' : 's'} without a reverse edge (${locs.slice(0, EXAMPLES_IN_MESSAGE).map(describe).join('; ')}). ` +
         `${why}: messages will flow one way only along these. Add the missing reverse edges, or declare the graph directed.`,
         f.asymmetricPairs, locs, declaredUndirected ? 'error' : CODES['asymmetric-adjacency'].severity);
+    } else if (opts.directed === undefined && f.asymmetricPairs === f.distinctNonLoopPairs) {
+      // Not one pair has its reverse: either a directed graph, or an undirected one stored with
+      // each edge once (the usual layout of published edge-list files). Say both readings.
+      const ids = asymmetricExamples(structure.fwd, gSrc, gDst, EXAMPLES_IN_MESSAGE);
+      const locs = edgeLocs(ids, (k) => `${arrow(k)} has no ${edges!.raw(k, 1)} → ${edges!.raw(k, 0)}`);
+      report(sp, 'asymmetric-adjacency',
+        `None of the ${f.asymmetricPairs} edge${f.asymmetricPairs === 1 ? '' : 's'} has its reverse (${locs.map(describe).join('; ')}). ` +
+        'An undirected graph stored with each edge once looks like this, and a message-passing layer then sends ' +
+        'messages one way only. If the graph is undirected, add the reverse edges (a quick fix does it for text edge lists); ' +
+        'if it is directed, declare it: "directed": true in hopscope.json (or --directed).',
+        f.asymmetricPairs, locs, 'info');
     }
   }
-  if (f.isolatedNodes > 0 && n > 0) {
-    const ids = isolatedExamples(structure.fwd, structure.rev, MAX_LOCATIONS);
+  if (isolatedNodes > 0 && nodes > 0) {
+    // 0-based ids of the first isolated nodes (compact nodes mapped back to their ids).
+    const ids = !nodeIds ? isolatedExamples(structure.fwd, structure.rev, MAX_LOCATIONS)
+      : sparseIds ? isolatedExamples(structure.fwd, structure.rev, MAX_LOCATIONS).map((c) => nodeIds![c]!)
+        : isolatedIdExamples(n, nodeIds, (c) => isolatedNode(structure, c), MAX_LOCATIONS);
     const locs: ProblemLocation[] = ids.map((u) => ({ tensor: sp.tensor.name, detail: `node ${u + indexBase}` }));
     report(sp, 'isolated-nodes',
       `${isolatedNodes} of ${nodes} nodes have no edges (e.g. node${ids.length > 1 ? 's' : ''} ${ids.slice(0, 5).map((u) => u + indexBase).join(', ')}). ` +
       'A message-passing layer gives them only their own features (and a self-loop, if added).',
       isolatedNodes, locs);
-  // The whole graph's figures: with sparse ids its nodes are the distinct ids; with a node count
-  // far beyond the touched ids, each untouched id is one isolated node and one component.
-  const touched = structure.figures.nodes;
-  const nodes = sparseIds ? touched : n;
-  const untouched = nodes - touched;
-  const isolatedNodes = f.isolatedNodes + untouched;
-  const components = f.components + untouched;
-  if (sparseIds) {
-    let at = 0;
-    for (let k = 0; k < e; k++) if (idOf(k, 0) === maxId || idOf(k, 1) === maxId) { at = k; break; }
-    report(sp, 'sparse-ids',
-      `${sp.tensor.name}: ids are sparse: ${touched} distinct id${touched === 1 ? '' : 's'} up to ${maxId + indexBase}; ` +
-      `checked on the distinct ids (${touched} node${touched === 1 ? '' : 's'}). A model that takes the largest id + 1 as the ` +
-      `node count would hold ${n} nodes, ${n - touched} of them without edges: renumber the ids to ${indexBase}..${touched - 1 + indexBase} ` +
-      `(e.g. np.unique(edge_index, return_inverse=True)) and keep the original ids beside them.`,
-      n - touched, [edges.locate(at, 'edge')]);
-  }
   }
   if (nodes === 0 || e === 0) {
     report(sp, 'empty-graph', nodes === 0 ? `${sp.tensor.name} describes a graph with no nodes.` : `${sp.tensor.name} has no edges: every node is isolated.`, 1);
@@ -376,17 +440,6 @@ function edgesFromIndex(part: GraphPart, report: Reporter): EdgeSource | undefin
   const t = part.tensor;
   if (t.kind !== 'dense') return undefined;
   if (t.strings) {
-    } else if (opts.directed === undefined && f.asymmetricPairs === f.distinctNonLoopPairs) {
-      // Not one pair has its reverse: either a directed graph, or an undirected one stored with
-      // each edge once (the usual layout of published edge-list files). Say both readings.
-      const ids = asymmetricExamples(structure.fwd, gSrc, gDst, EXAMPLES_IN_MESSAGE);
-      const locs = edgeLocs(ids, (k) => `${arrow(k)} has no ${edges!.raw(k, 1)} → ${edges!.raw(k, 0)}`);
-      report(sp, 'asymmetric-adjacency',
-        `None of the ${f.asymmetricPairs} edge${f.asymmetricPairs === 1 ? '' : 's'} has its reverse (${locs.map(describe).join('; ')}). ` +
-        'An undirected graph stored with each edge once looks like this, and a message-passing layer then sends ' +
-        'messages one way only. If the graph is undirected, add the reverse edges (a quick fix does it for text edge lists); ' +
-        'if it is directed, declare it: "directed": true in hopscope.json (or --directed).',
-        f.asymmetricPairs, locs, 'info');
     report(part, 'edge-shape', `${t.name} holds text, not node ids.`, 1);
     return undefined;
   }
@@ -546,23 +599,33 @@ function denseEdges(part: GraphPart, t: DenseTensor, rows: number, cols: number,
 // ---------------------------------------------------------------------------------------------
 // Per-node and per-edge tensors
 
+/** Roles whose checks need only a tensor's shape and figures (see TensorSummary). */
+const SUMMARY_SUFFICES: ReadonlySet<string> = new Set(['features', 'edge-features', 'unknown']);
+
 function checkNonFinite(part: GraphPart, report: Reporter, what: string): void {
   const t = part.tensor;
   if (t.kind !== 'dense' || !isFloatDType(t.dtype)) return;
-  const d = t.data;
   let count = 0;
   const locs: ProblemLocation[] = [];
   const cols = t.shape.length >= 2 ? t.shape.slice(1).reduce((a, b) => a * b, 1) : 1;
   let nan = 0;
-  for (let i = 0; i < d.length; i++) {
-    const v = d[i]!;
-    if (v - v !== 0) {
-      count++;
-      if (v !== v) nan++;
-      if (locs.length < MAX_LOCATIONS) {
-        const sp = spanOf(t, i);
-        const at = t.shape.length >= 2 ? `${t.name}[${Math.floor(i / cols)}, ${i % cols}]` : `${t.name}[${i}]`;
-        locs.push({ tensor: t.name, index: i, ...(sp ? { line: sp.line, column: sp.column, length: sp.length } : {}), detail: `${at} = ${v}` });
+  const note = (i: number, v: number) => {
+    const sp = spanOf(t, i);
+    const at = t.shape.length >= 2 ? `${t.name}[${Math.floor(i / cols)}, ${i % cols}]` : `${t.name}[${i}]`;
+    locs.push({ tensor: t.name, index: i, ...(sp ? { line: sp.line, column: sp.column, length: sp.length } : {}), detail: `${at} = ${v}` });
+  };
+  if (t.summary) {
+    count = t.summary.nonFinite;
+    nan = t.summary.nan;
+    for (const { index, value } of t.summary.nonFiniteAt) note(index, value);
+  } else {
+    const d = t.data;
+    for (let i = 0; i < d.length; i++) {
+      const v = d[i]!;
+      if (v - v !== 0) {
+        count++;
+        if (v !== v) nan++;
+        if (locs.length < MAX_LOCATIONS) note(i, v);
       }
     }
   }
@@ -583,6 +646,7 @@ function checkLabels(part: GraphPart, n: number, report: Reporter): void {
       Math.abs(len - n));
   }
   if (t.shape.length !== 1) return; // multi-label / one-hot: no class-id checks
+  const d = t.data;
   if (isFloatDType(t.dtype)) {
     for (let i = 0; i < d.length; i++) if (Number.isFinite(d[i]!) && !Number.isInteger(d[i]!)) return; // regression targets
   } else if (!isIntegerDType(t.dtype)) return;
@@ -598,9 +662,6 @@ function checkLabels(part: GraphPart, n: number, report: Reporter): void {
         const sp = spanOf(t, i);
         negLocs.push({ tensor: t.name, index: i, ...(sp ? { line: sp.line, column: sp.column, length: sp.length } : {}), detail: `${t.name}[${i}] = ${v}` });
       }
-/** Roles whose checks need only a tensor's shape and figures (see TensorSummary). */
-const SUMMARY_SUFFICES: ReadonlySet<string> = new Set(['features', 'edge-features', 'unknown']);
-
     } else if (v > max) max = v;
   }
   const parts: string[] = [];
@@ -705,6 +766,24 @@ function int32Range(a: Int32Array): [number, number] {
     else if (v > hi) hi = v;
   }
   return [lo, hi];
+}
+
+/** Bytes of values the graph's tensors hold (what its files hold), for denseNodeLimit. */
+function graphDataBytes(parts: GraphPart[]): number {
+  let b = 0;
+  for (const { tensor: t } of parts) {
+    if (t.kind === 'sparse') b += t.row.byteLength + t.col.byteLength + (t.values?.byteLength ?? 0);
+    else b += t.summary ? t.summary.dataBytes : t.data.byteLength;
+  }
+  return b;
+}
+
+/** Whether node u has no edge other than self-loops. */
+function isolatedNode(s: Structure, u: number): boolean {
+  const { fwd, rev } = s;
+  for (let p = fwd.indptr[u]!; p < fwd.indptr[u + 1]!; p++) if (fwd.indices[p] !== u) return false;
+  for (let p = rev.indptr[u]!; p < rev.indptr[u + 1]!; p++) if (rev.indices[p] !== u) return false;
+  return true;
 }
 
 function shift(a: Int32Array): Int32Array {

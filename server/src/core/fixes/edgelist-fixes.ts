@@ -7,6 +7,7 @@ import { readEdgeList } from '../formats/edgelist';
 import { DEFAULT_LIMITS, type DenseTensor } from '../formats/types';
 import { buildSortedPair } from '../graph/csr';
 import { asymmetricExamples, duplicateExamples } from '../graph/figures';
+import { compactIds, denseNodeLimit } from '../graph/compact';
 
 export interface Edit {
   startLine: number;
@@ -81,7 +82,13 @@ export function edgeListFixes(text: string, fileName: string, kinds?: FixKind[],
     if (ok) { keep.push(k); n = Math.max(n, p.src[k]! + 1, p.dst[k]! + 1); }
   }
   const ks = Int32Array.from(keep);
-  const s = Int32Array.from(keep, (k) => p.src[k]!), d = Int32Array.from(keep, (k) => p.dst[k]!);
+  let s: Int32Array = Int32Array.from(keep, (k) => p.src[k]!), d: Int32Array = Int32Array.from(keep, (k) => p.dst[k]!);
+  if (n > denseNodeLimit(8 * e)) {
+    // Sparse ids (up to 2^31 - 1 in a short file): the fixes only compare ids, so renumbering the
+    // touched ids in order changes nothing they find, and per-node memory follows the file.
+    const c = compactIds(s, d);
+    s = c.src; d = c.dst; n = c.ids.length;
+  }
   const { fwd } = buildSortedPair(n, s, d);
   const fixes: Fix[] = [];
 

@@ -57,6 +57,7 @@ import {
   countLF,
   fit,
   growFloat64,
+  growInt32,
   growUint32,
   intRefusal,
   lineEndFrom,
@@ -203,6 +204,11 @@ export function readEdgeList(
   let attrRows = na ? Math.min(cap, Math.floor(n / (2 * C - 1)) + 1) : 0;
   let attr = allocFloat64(attrRows * na);
   let E = 0;
+  // Ids beyond int32 (a sparse numbering: user or product numbers) are rare: kept aside as
+  // (2·edge + side, value) and merged into a Float64Array edge_index at the end.
+  let bigAt = allocInt32(0);
+  let bigVal = allocFloat64(0);
+  let bigs = 0;
 
   const sp = new FieldSplitter(delim);
   // A networkx dict needs only its start (field 3); other lines are not split past the wide limit.
@@ -359,12 +365,30 @@ export function readEdgeList(
       report.wide(line, lineStart, i, en[f - 1]!, wide);
       continue;
     }
-    const u = parseIntBytes(b, st[0]!, en[0]!);
-    const v = parseIntBytes(b, st[1]!, en[1]!);
+    let u = parseIntBytes(b, st[0]!, en[0]!);
+    let v = parseIntBytes(b, st[1]!, en[1]!);
     if (u !== u || v !== v) {
-      const k = u !== u ? 0 : 1;
-      report.nonInteger(line, lineStart, k, st[k]!, en[k]!);
-      continue;
+      // Whole numbers written as floats (`1.0`, `1e0`, numpy.savetxt's default
+      // `0.000000000000000000e+00`) or beyond int32 are ids too; anything else is left out.
+      const x = u !== u ? wholeId(b, st[0]!, en[0]!) : u;
+      const y = v !== v ? wholeId(b, st[1]!, en[1]!) : v;
+      if (x !== x || y !== y) {
+        const k = x !== x ? 0 : 1;
+        report.nonInteger(line, lineStart, k, st[k]!, en[k]!);
+        continue;
+      }
+      for (let k = 0; k < 2; k++) {
+        if ((k === 0 ? u : v) === (k === 0 ? u : v)) continue; // a plain int32
+        if (floatSpelling(b, st[k]!, en[k]!)) report.floatId(line, lineStart, k, st[k]!, en[k]!);
+        const z = k === 0 ? x : y;
+        if (z > INT32_MAX || z < -INT32_MAX - 1) {
+          if (bigs === bigAt.length) { bigAt = growInt32(bigAt, bigs + 1); bigVal = growFloat64(bigVal, bigs + 1); }
+          bigAt[bigs] = 2 * E + k;
+          bigVal[bigs++] = z;
+        }
+      }
+      u = x > INT32_MAX || x < -INT32_MAX - 1 ? 0 : x;
+      v = y > INT32_MAX || y < -INT32_MAX - 1 ? 0 : y;
     }
     ids[E] = u;
     ids[cap + E] = v;
@@ -396,7 +420,17 @@ export function readEdgeList(
 
   const text = new EdgeText(b, first, delim, dict, fit(offs, E));
   if (E < cap) ids.copyWithin(E, cap, cap + E);
-  const edgeIndex = fit(ids, 2 * E);
+  let edgeIndex: Int32Array | Float64Array = fit(ids, 2 * E);
+  if (bigs > 0) {
+    // int64 ids that do not all fit in int32: a Float64Array (exact up to 2^53), as every reader gives.
+    const wide = allocFloat64(2 * E);
+    wide.set(edgeIndex);
+    for (let j = 0; j < bigs; j++) {
+      const at = bigAt[j]!;
+      wide[(at & 1) * E + (at >>> 1)] = bigVal[j]!;
+    }
+    edgeIndex = wide;
+  }
   const tensors: DenseTensor[] = [
     {
       kind: 'dense', name: 'edge_index', dtype: 'int64', shape: [2, E], data: edgeIndex,
@@ -499,6 +533,13 @@ class Reporter {
         : undefined);
   }
 
+  floatId(line: number, lineStart: number, k: number, s: number, e: number): void {
+    this.problems.add('floatid', 'non-integer-index', 'info', 'edge_index', floatIdSummary,
+      this.problems.wants('floatid')
+        ? this.loc(line, lineStart, s, e, `${k === 0 ? 'source' : 'target'} '${tokenText(this.b, s, e)}' is read as id ${wholeId(this.b, s, e)}`)
+        : undefined);
+  }
+
   nonInteger(line: number, lineStart: number, k: number, s: number, e: number): void {
     this.problems.add('id', 'non-integer-index', 'error', 'edge_index', nonIntegerSummary,
       this.problems.wants('id')
@@ -552,6 +593,31 @@ class Reporter {
 const shortSummary = (k: number, p: ProblemLocation | undefined): string =>
   `${plural(k, 'line')} of the edge list ${k === 1 ? 'has' : 'have'} fewer than 2 fields (source and target), ` +
   `first at line ${p?.line}; ${k === 1 ? 'it is' : 'they are'} left out`;
+
+const floatIdSummary = (k: number, p: ProblemLocation | undefined): string =>
+  `${plural(k, 'node id')} ${k === 1 ? 'is a whole number' : 'are whole numbers'} written as ${k === 1 ? 'a float' : 'floats'} ` +
+  `(first at line ${p?.line}, column ${p?.column}: ${p?.detail}); read as the ids they name. numpy.loadtxt reads ` +
+  `such a file as float64, which indexing layers refuse: convert with .astype(np.int64), or write ids with ` +
+  `numpy.savetxt(..., fmt='%d').`;
+
+/**
+ * A node id written other than as a plain int32 (`1.0`, `1e0`, `3000000000`): its value when it is
+ * a whole number that a double holds exactly (|x| < 2^53), else NaN.
+ */
+function wholeId(b: Uint8Array, s: number, e: number): number {
+  const x = parseNumberBytes(b, s, e);
+  if (!numberState.ok || !Number.isSafeInteger(x)) return NaN;
+  return x === 0 ? 0 : x; // -0 → 0
+}
+
+/** Whether a number token has a decimal point or an exponent (`1.0`, `1e0`). */
+function floatSpelling(b: Uint8Array, s: number, e: number): boolean {
+  for (let i = s; i < e; i++) {
+    const c = b[i]!;
+    if (c === 46 || c === 101 || c === 69) return true;
+  }
+  return false;
+}
 
 const nonIntegerSummary = (k: number, p: ProblemLocation | undefined): string =>
   `${plural(k, 'edge')} ${k === 1 ? 'has' : 'have'} a source or target that is not an integer node id ` +

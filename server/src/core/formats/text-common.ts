@@ -473,8 +473,13 @@ export function parseIntBytes(b: Uint8Array, s: number, e: number): number {
 export function intRefusal(b: Uint8Array, s: number, e: number): string {
   if (s === e) return 'is empty';
   const f = parseNumberBytes(b, s, e);
-  if (numberState.ok && Number.isInteger(f)) return 'is out of the int32 range';
-  return 'is not an integer';
+  if (!numberState.ok) return 'is not a number';
+  if (f !== f) return 'is NaN, not a whole number';
+  if (f === Infinity || f === -Infinity) return 'is infinite, not a whole number';
+  if (!Number.isInteger(f)) return 'is not a whole number';
+  if (Math.abs(f) > Number.MAX_SAFE_INTEGER) return 'is beyond 2^53, too large to be held exactly';
+  if (f > INT32_MAX || f < -INT32_MAX - 1) return 'is out of the int32 range';
+  return 'is a whole number written as a float';
 }
 
 const POW10 = [1, 1e1, 1e2, 1e3, 1e4, 1e5, 1e6, 1e7, 1e8, 1e9, 1e10, 1e11, 1e12, 1e13, 1e14, 1e15,

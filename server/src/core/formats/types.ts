@@ -51,6 +51,50 @@ export interface DenseTensor {
   locator?: TextLocator;
   /** Role stated by the container (e.g. the Matrix Market banner); otherwise inferred later. */
   declaredRole?: Role;
+  /**
+   * Set when the values were not kept: a member too large to hold (see ReadLimits.streamAboveBytes)
+   * was summarised while it was inflated. `data` is then empty; `shape` and `dtype` are the file's.
+   */
+  summary?: TensorSummary;
+}
+
+/**
+ * Figures of a tensor whose values were read in pieces and not kept: what the checks and the
+ * tensor tables need. Over finite values, like the tensor tables: NaN and ±Infinity are counted
+ * apart. Positions are flat C-order indices.
+ */
+export interface TensorSummary {
+  /** Bytes of element data read. */
+  dataBytes: number;
+  /** Smallest and largest finite value (null when there is none); sum of the finite values. */
+  min: number | null;
+  max: number | null;
+  sum: number;
+  /** NaN and ±Infinity values, of which `nan` are NaN. */
+  nonFinite: number;
+  nan: number;
+  /** The first non-finite values in C order (at most MAX_LOCATIONS): position and value. */
+  nonFiniteAt: Array<{ index: number; value: number }>;
+  /**
+   * Per column (position modulo the product of shape[1:]) for the first `columns.count` columns:
+   * min/max (±Infinity when the column has no finite value), sum and count of the finite values,
+   * NaN and infinite counts, and for the spread the sums of (v - shift) and (v - shift)² where
+   * `shift` is the column's first finite value.
+   */
+  columns: ColumnSums;
+}
+
+export interface ColumnSums {
+  count: number;
+  min: Float64Array;
+  max: Float64Array;
+  sum: Float64Array;
+  finite: Float64Array;
+  nan: Float64Array;
+  inf: Float64Array;
+  shift: Float64Array;
+  shifted: Float64Array;
+  shiftedSquares: Float64Array;
 }
 
 /**
@@ -95,6 +139,7 @@ export type ProblemCode =
   | 'self-loops'
   | 'duplicate-edges'
   | 'isolated-nodes'
+  | 'sparse-ids'
   | 'non-finite-features'
   | 'mask-overlap'
   | 'label-range'
@@ -151,11 +196,22 @@ export interface ReadLimits {
   maxDecompressedBytes: number;
   /** Largest JSON/text header a binary format may declare, bytes. */
   maxHeaderBytes: number;
+  /**
+   * Deflated .npz members that inflate to more than this many bytes, and whose values the checks
+   * need only as figures (feature matrices: rows, min/max/sum, non-finite values), are summarised
+   * while they are inflated and never held whole. They do not count against maxDecompressedBytes
+   * (nothing is allocated for them) but against maxStreamedBytes. Default 128 MiB.
+   */
+  streamAboveBytes?: number;
+  /** Largest total of such summarised members, bytes: a bound on time, not memory. Default 32 GiB. */
+  maxStreamedBytes?: number;
 }
 
 export const DEFAULT_LIMITS: ReadLimits = {
   maxDecompressedBytes: 4 * 1024 ** 3,
   maxHeaderBytes: 100 * 1024 * 1024,
+  streamAboveBytes: 128 * 1024 ** 2,
+  maxStreamedBytes: 32 * 1024 ** 3,
 };
 
 /**
