@@ -16,7 +16,3 @@ export function timed<T>(phase: string, fn: () => T): T {
 export function phaseTotals(): Record<string, number> {
   return Object.fromEntries(totals);
 }
-
-export function resetPhases(): void {
-  totals.clear();
-}

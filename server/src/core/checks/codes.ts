@@ -41,8 +41,3 @@ const SEVERITY_RANK: Record<Severity, number> = { info: 0, warning: 1, error: 2 
 export function severityAtLeast(s: Severity, threshold: Severity): boolean {
   return SEVERITY_RANK[s] >= SEVERITY_RANK[threshold];
 }
-
-/** Anchor of a code in the README problem table (GitHub-style heading-less anchor we write ourselves). */
-export function codeAnchor(code: ProblemCode): string {
-  return `problem-${code}`;
-}

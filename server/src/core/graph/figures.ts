@@ -161,11 +161,6 @@ export function asymmetricExamples(fwd: Csr, src: Int32Array, dst: Int32Array, l
   return out;
 }
 
-/** Edge ids of all entries u → v (u ≠ v) whose reverse is absent: what a "add reverse edges" fix needs. */
-export function allAsymmetricEdges(fwd: Csr, src: Int32Array, dst: Int32Array): Int32Array {
-  return Int32Array.from(asymmetricExamples(fwd, src, dst, Number.MAX_SAFE_INTEGER));
-}
-
 /** The first `limit` isolated node ids. */
 export function isolatedExamples(fwd: Csr, rev: Csr, limit: number): number[] {
   const out: number[] = [];

@@ -20,10 +20,3 @@ export function simpleUndirected(fwd: Csr, rev: Csr, cancel?: Cancel): Csr {
   const { n, indptr, indices } = undirectedView(fwd, rev);
   return { n, indptr, indices };
 }
-
-/** Undirected degree of every node (row lengths of a simple undirected graph). */
-export function degreesOf(sym: Csr): Int32Array {
-  const d = new Int32Array(sym.n);
-  for (let u = 0; u < sym.n; u++) d[u] = sym.indptr[u + 1]! - sym.indptr[u]!;
-  return d;
-}
