@@ -26,7 +26,16 @@ const entries = [
   { ...common, entryPoints: ['webview/src/viewer.ts'], outfile: 'dist/webview/viewer.js', platform: 'browser', format: 'iife', target: 'es2022' },
   { ...common, entryPoints: ['webview/src/panel.ts'], outfile: 'dist/webview/panel.js', platform: 'browser', format: 'iife', target: 'es2022' },
   { ...common, entryPoints: ['webview/src/panel-layout-worker.ts'], outfile: 'dist/webview/panel-layout.js', platform: 'browser', format: 'iife', target: 'es2022' },
-].filter((e) => existsSync(e.entryPoints[0]));
+];
+
+// A missing entry point is a broken checkout or a renamed file: stop before building anything, rather
+// than ship a package without that bundle.
+const missing = entries.map((e) => e.entryPoints[0]).filter((file) => !existsSync(file));
+if (missing.length > 0) {
+  console.error(`build: entry point${missing.length > 1 ? 's' : ''} not found (run from the repository root; ` +
+    `update scripts/build.mjs if a file was moved): ${missing.join(', ')}`);
+  process.exit(1);
+}
 
 if (watch) {
   for (const e of entries) (await esbuild.context(e)).watch();
