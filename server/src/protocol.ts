@@ -46,6 +46,8 @@ export interface TensorPage {
   /** Values as numbers, null for NaN/±Inf (with `text` giving "NaN", "Infinity"), or strings. */
   rows: Array<Array<number | string | null>>;
   colsShown: number;
+  /** Why there are no values to show (a tensor summarised while it was read). */
+  note?: string;
 }
 
 /** Request, client → server: column statistics and histograms for the viewer. */

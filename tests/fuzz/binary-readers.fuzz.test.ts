@@ -15,6 +15,8 @@ import { byteMutation, checkTensors, mutate, runs } from './fuzz-helpers';
 
 /** Small limits so that a lying header cannot make a run slow. */
 const LIMITS: ReadLimits = { maxDecompressedBytes: 64 * 1024 * 1024, maxHeaderBytes: 1024 * 1024 };
+/** The same, with every deflated .npz member that may be summarised read in pieces. */
+const SUMMARISING: ReadLimits = { ...LIMITS, streamAboveBytes: 0, maxStreamedBytes: 64 * 1024 * 1024 };
 
 /** Runs `fn`; any exception other than UnreadableError fails the property. */
 function onlyUnreadable(fn: () => void): void {
@@ -29,7 +31,10 @@ function onlyUnreadable(fn: () => void): void {
 function readAll(bytes: Uint8Array, kind: 'npy' | 'npz' | 'safetensors' | 'zip'): void {
   switch (kind) {
     case 'npy': onlyUnreadable(() => checkTensors(readNpy(bytes, 'f.npy', LIMITS))); break;
-    case 'npz': onlyUnreadable(() => checkTensors(readNpz(bytes, 'f.npz', LIMITS))); break;
+    case 'npz':
+      onlyUnreadable(() => checkTensors(readNpz(bytes, 'f.npz', LIMITS)));
+      onlyUnreadable(() => checkTensors(readNpz(bytes, 'f.npz', SUMMARISING)));
+      break;
     case 'safetensors': onlyUnreadable(() => checkTensors(readSafetensors(bytes, 'f.safetensors', LIMITS))); break;
     case 'zip':
       onlyUnreadable(() => {
@@ -38,6 +43,12 @@ function readAll(bytes: Uint8Array, kind: 'npy' | 'npz' | 'safetensors' | 'zip')
           onlyUnreadable(() => {
             const d = zip.readEntry(e);
             if (d.length !== e.uncompressedSize) throw new Error('entry length differs from its declared size');
+          });
+          onlyUnreadable(() => {
+            const s = zip.streamEntry(e);
+            let n = 0;
+            for (let p = s.next(); p !== null; p = s.next()) n += p.length;
+            if (n !== e.uncompressedSize) throw new Error('streamed length differs from its declared size');
           });
         }
       });

@@ -8,6 +8,7 @@ import { fileURLToPath } from 'node:url';
 import { expect } from 'vitest';
 import { deflateSync } from 'fflate';
 import { UnreadableError, type Tensor, type TensorData } from '../../server/src/core/formats/types';
+import { crc32 } from '../../server/src/core/formats/crc32';
 
 export const FIXTURE_DIR = fileURLToPath(new URL('../fixtures/binary/', import.meta.url));
 
@@ -31,10 +32,27 @@ export interface ExpectedTensor {
   strings?: string[];
 }
 
+/** What NumPy computes for a tensor a summarised member must reproduce (make_binary_fixtures.py array_figures). */
+export interface ExpectedFigures {
+  min: JsonNum | null;
+  max: JsonNum | null;
+  sum: JsonNum;
+  nonfinite: number;
+  nan: number;
+  first_nonfinite: number[];
+  columns: Array<{ min: JsonNum | null; max: JsonNum | null; mean: JsonNum | null; std: JsonNum | null; nan: number; inf: number }>;
+}
+
 export interface ExpectedFile {
-  format: 'npy' | 'npz' | 'sparse-npz' | 'safetensors';
+  format: 'npy' | 'npz' | 'sparse-npz' | 'safetensors' | 'corrupt-npz';
   compressed?: boolean;
   tensors?: Record<string, ExpectedTensor>;
+  figures?: Record<string, ExpectedFigures>;
+  // corrupt-npz: a copy of `source` with one bit flipped in `member`, and what NumPy said loading it
+  source?: string;
+  member?: string;
+  flipped?: 'data' | 'crc';
+  numpy_error?: string | null;
   // sparse-npz
   layout?: string;
   dtype?: string;
@@ -204,6 +222,8 @@ export interface ZipMember {
   flags?: number;
   /** Overrides the local header offset written in the central directory. */
   localOffset?: number;
+  /** Overrides the CRC-32 written in both headers (default: the CRC-32 of `data`). */
+  crc?: number;
 }
 
 /**
@@ -221,8 +241,9 @@ export function buildZip(
     const payload = method === 8 ? deflateSync(m.data) : m.data;
     const name = m.nameBytes ?? ascii(m.name);
     const localExtra = m.localExtra ?? new Uint8Array(0);
+    const crc = m.crc ?? crc32(m.data);
     const local = concat(
-      le(0x04034b50, 4), le(20, 2), le(m.flags ?? 0, 2), le(method, 2), le(0, 2), le(0x21, 2), le(0, 4),
+      le(0x04034b50, 4), le(20, 2), le(m.flags ?? 0, 2), le(method, 2), le(0, 2), le(0x21, 2), le(crc, 4),
       le(payload.length, 4), le(m.data.length, 4), le(name.length, 2), le(localExtra.length, 2), name, localExtra,
     );
     const usize = m.declaredSize ?? m.data.length;
@@ -230,7 +251,7 @@ export function buildZip(
     const loff = m.localOffset ?? offset;
     const extra = m.zip64 ? concat(le(1, 2), le(24, 2), le(usize, 8), le(csize, 8), le(loff, 8)) : new Uint8Array(0);
     central.push(concat(
-      le(0x02014b50, 4), le(45, 2), le(45, 2), le(m.flags ?? 0, 2), le(method, 2), le(0, 2), le(0x21, 2), le(0, 4),
+      le(0x02014b50, 4), le(45, 2), le(45, 2), le(m.flags ?? 0, 2), le(method, 2), le(0, 2), le(0x21, 2), le(crc, 4),
       le(m.zip64 ? 0xffffffff : csize, 4), le(m.zip64 ? 0xffffffff : usize, 4),
       le(name.length, 2), le(extra.length, 2), le(0, 2), le(0, 2), le(0, 2), le(0, 4),
       le(m.zip64 ? 0xffffffff : loff, 4), name, extra,

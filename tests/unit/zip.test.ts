@@ -4,9 +4,11 @@
  * §4.3 (local header, central directory, ZIP64 end record + locator, end of central directory)
  * and §4.5.3 (ZIP64 extended information extra field).
  */
+import * as zlib from 'node:zlib';
 import { describe, expect, it } from 'vitest';
 import { deflateSync } from 'fflate';
-import { MAX_DEFLATE_RATIO, openZip } from '../../server/src/core/formats/zip';
+import { MAX_DEFLATE_RATIO, openZip, type ZipArchive, type ZipEntry } from '../../server/src/core/formats/zip';
+import { crc32 } from '../../server/src/core/formats/crc32';
 import { DEFAULT_LIMITS } from '../../server/src/core/formats/types';
 import { ascii, buildZip, concat, expectUnreadable, expected, fixture, le } from './binary-helpers';
 
@@ -192,5 +194,86 @@ describe('unreadable archives', () => {
     b[0] = 0;
     const zip = openZip(b, DEFAULT_LIMITS);
     expectUnreadable(() => zip.readEntry(zip.entries[0]!), /no local file header at byte 0/, 0);
+  });
+});
+
+describe('CRC-32 (APPNOTE 4.4.7, RFC 1952 §8)', () => {
+  it('matches zlib (node:zlib.crc32) on data of every length and alignment, and continues over pieces', () => {
+    const data = new Uint8Array(4099).map((_, i) => (i * 2654435761) >>> 24);
+    expect(crc32(ascii('123456789'))).toBe(0xcbf43926); // the published check value of this CRC
+    expect(crc32(new Uint8Array(0))).toBe(0);
+    for (let start = 0; start < 9; start++) {
+      for (const len of [0, 1, 3, 7, 8, 9, 15, 16, 17, 100, 4090 - start]) {
+        const b = data.subarray(start, start + len);
+        expect(crc32(b), `${start}+${len}`).toBe(zlib.crc32(b));
+        const cut = len >> 1;
+        expect(crc32(b.subarray(cut), crc32(b.subarray(0, cut)))).toBe(zlib.crc32(b));
+      }
+    }
+  });
+});
+
+describe('every member read is checked against its CRC-32', () => {
+  const wrong = (crc: number) => (crc ^ 0x00800000) >>> 0;
+  for (const method of [0, 8]) {
+    it(`${method === 0 ? 'stored' : 'deflated'} member with a wrong CRC-32: readEntry and streamEntry refuse it`, () => {
+      const b = buildZip([{ name: 'ok', data: hello, method }, { name: 'edge_index.npy', data: zeros, method, crc: wrong(crc32(zeros)) }]);
+      const zip = openZip(b, DEFAULT_LIMITS);
+      expect(zip.readEntry(zip.entries[0]!)).toEqual(hello);
+      const msg = /member 'edge_index\.npy' fails its CRC-32 check \(the archive records 0x[0-9a-f]{8}, its bytes give 0x[0-9a-f]{8}\)/;
+      expectUnreadable(() => zip.readEntry(zip.entries[1]!), msg);
+      expectUnreadable(() => drain(zip, zip.entries[1]!), msg);
+    });
+  }
+});
+
+/** Every piece of a member, joined. */
+function drain(zip: ZipArchive, e: ZipEntry): Uint8Array {
+  const s = zip.streamEntry(e);
+  const pieces: Uint8Array[] = [];
+  for (let p = s.next(); p !== null; p = s.next()) pieces.push(p.slice());
+  expect(s.next()).toBeNull(); // stays at the end
+  return concat(...pieces);
+}
+
+describe('streamEntry: a member in pieces', () => {
+  const big = new Uint8Array(3_000_000).map((_, i) => (i % 251) ^ (i >> 12));
+
+  it('gives the bytes readEntry gives, stored and deflated, in pieces (numpy 1.24 archives too)', () => {
+    const zip = openZip(buildZip([{ name: 's', data: big }, { name: 'd', data: big, method: 8 }, { name: 'e', data: new Uint8Array(0), method: 8 }]), DEFAULT_LIMITS);
+    const same = (a: Uint8Array, b: Uint8Array) => Buffer.from(a.buffer, a.byteOffset, a.length).equals(Buffer.from(b.buffer, b.byteOffset, b.length));
+    for (const e of zip.entries) expect(same(drain(zip, e), zip.readEntry(e)), e.name).toBe(true);
+    for (const name of ['graph_stored.npz', 'graph_compressed.npz']) {
+      const z = openZip(fixture(name), DEFAULT_LIMITS);
+      for (const e of z.entries) expect(same(drain(z, e), z.readEntry(e)), e.name).toBe(true);
+    }
+  });
+
+  it('a deflate bomb is refused before inflating; a longer stream stops at the first piece past the size', () => {
+    const bomb = buildZip([{ name: 'z', data: zeros, method: 8, declaredSize: 3 * 1024 ** 3 }]);
+    let zip = openZip(bomb, DEFAULT_LIMITS);
+    expectUnreadable(() => zip.streamEntry(zip.entries[0]!), /beyond what deflate can produce/);
+    zip = openZip(buildZip([{ name: 'a', data: zeros, method: 8, declaredSize: 99_999 }]), DEFAULT_LIMITS);
+    expectUnreadable(() => drain(zip, zip.entries[0]!), /declares 99999 uncompressed bytes but inflates to more/);
+    zip = openZip(buildZip([{ name: 'a', data: zeros, method: 8, declaredSize: 100_001 }]), DEFAULT_LIMITS);
+    expectUnreadable(() => drain(zip, zip.entries[0]!), /declares 100001 uncompressed bytes but inflates to 100000/);
+  });
+
+  it('corrupt or truncated deflate data', () => {
+    const b = buildZip([{ name: 'a', data: big, method: 8 }]);
+    b.fill(0xff, 40, 60);
+    const zip = openZip(b, DEFAULT_LIMITS);
+    expectUnreadable(() => drain(zip, zip.entries[0]!), /entry 'a': corrupt deflate data|inflates to|CRC-32/);
+    const c = deflateSync(big);
+    const cut = buildZip([{ name: 'a', data: big, method: 8, declaredCompressed: c.length >> 1 }]);
+    const z2 = openZip(cut, DEFAULT_LIMITS);
+    expectUnreadable(() => drain(z2, z2.entries[0]!), /entry 'a': corrupt deflate data|inflates to/);
+  });
+
+  it('counts against maxStreamedBytes, not maxDecompressedBytes', () => {
+    const b = buildZip([{ name: 'a', data: big, method: 8 }, { name: 'b', data: big, method: 8 }]);
+    const zip = openZip(b, { ...DEFAULT_LIMITS, maxDecompressedBytes: 1000, maxStreamedBytes: 5_000_000 });
+    expect(drain(zip, zip.entries[0]!).length).toBe(big.length);
+    expectUnreadable(() => zip.streamEntry(zip.entries[1]!), /over the limit of 5000000 bytes summarised per file/);
   });
 });

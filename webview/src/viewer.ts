@@ -181,7 +181,7 @@ function valuesGrid(t: TensorReport): HTMLElement {
       } else {
         const cells = page.rows[r - page.rowStart] ?? [];
         for (const v of cells) row.append(el('span', { class: typeof v === 'string' && /NaN|Infinity/.test(v) ? 'cell bad' : 'cell' }, typeof v === 'number' ? fmt(v) : String(v)));
-        note.textContent = page.colsShown < page.totalCols ? `Showing the first ${page.colsShown} of ${page.totalCols} columns.` : `${page.totalRows} rows × ${page.totalCols} columns`;
+        note.textContent = page.note ?? (page.colsShown < page.totalCols ? `Showing the first ${page.colsShown} of ${page.totalCols} columns.` : `${page.totalRows} rows × ${page.totalCols} columns`);
       }
       body.append(row);
     }

@@ -53,6 +53,7 @@ function run(argv: string[], io: CliIo): number {
     if (args.switches.has('--features')) {
       const x = loaded.features;
       if (!x) throw new UsageError(`--features: no node feature matrix found beside ${file} (see hopscope check)`);
+      if (x.summary) throw new UsageError(`--features: ${x.name} is too large to keep in memory (it was only summarised while it was read)`);
       const rows = x.shape[0] ?? 0;
       const width = x.shape.length <= 1 ? 1 : x.shape.slice(1).reduce((a, b) => a * b, 1);
       if (rows !== g.n) throw new UsageError(`--features: ${x.name} has ${rows} rows but the graph has ${g.n} nodes`);

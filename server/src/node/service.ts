@@ -8,10 +8,11 @@ import * as path from 'node:path';
 import type { CheckSetOptions, FileReport, LoadedFile } from '../core/checks/check-set';
 import type { Csr } from '../core/graph/csr';
 import { indexOfId } from '../core/graph/compact';
-import type { DenseTensor, Tensor } from '../core/formats/types';
+import type { Tensor } from '../core/formats/types';
 import { guessRole } from '../core/checks/roles';
+import { columnStats } from '../core/checks/stats';
 import { checkPaths, type LoadOptions } from './load';
-import type { ColumnStats, NodeInfo, TensorPage, TensorStats } from '../protocol';
+import type { NodeInfo, TensorPage, TensorStats } from '../protocol';
 import { AnalysisService } from './analysis-service';
 
 interface CacheEntry {
@@ -131,6 +132,11 @@ export class GraphService {
     const end = Math.min(totalRows, start + Math.max(0, Math.min(rowCount | 0, 2000)));
     const colsShown = Math.min(totalCols, maxCols);
     const rows: TensorPage['rows'] = [];
+    if (t.kind === 'dense' && t.summary) {
+      const mib = (t.summary.dataBytes / 1024 ** 2).toFixed(0);
+      return { tensor: t.name, shape: [...t.shape], totalRows, totalCols, rowStart: start, rows: [], colsShown: 0,
+        note: `${t.name} holds ${mib} MiB of values, too many to keep: it was summarised while it was read (see the column statistics).` };
+    }
     if (t.kind === 'dense') {
       for (let r = start; r < end; r++) {
         const row: Array<number | string | null> = [];
@@ -158,7 +164,8 @@ export class GraphService {
       const shown = Math.min(cols, maxCols);
       out.totalCols = cols;
       out.colsShown = shown;
-      out.columns = columnStats(t.data, rows, cols, shown);
+      out.columns = columnStats(t, rows, cols, shown);
+      out.colsShown = out.columns.length;
       if (role === 'labels' && t.shape.length === 1) out.labelHistogram = histogram(t.data, 10_000);
     }
     if (role === 'edge-index' || role === 'adjacency') {
@@ -259,39 +266,6 @@ function matrixShape(t: Tensor): { rows: number; cols: number } {
 function cell(v: number): number | string {
   if (Number.isFinite(v)) return v;
   return v !== v ? 'NaN' : v > 0 ? 'Infinity' : '-Infinity';
-}
-
-function columnStats(d: DenseTensor['data'], rows: number, cols: number, shown: number): ColumnStats[] {
-  const min = new Float64Array(shown).fill(Infinity);
-  const max = new Float64Array(shown).fill(-Infinity);
-  const sum = new Float64Array(shown);
-  const n = new Float64Array(shown);
-  const nan = new Float64Array(shown);
-  const inf = new Float64Array(shown);
-  // Welford would be steadier; two passes keep it exact enough and allocation-free.
-  for (let r = 0; r < rows; r++) {
-    const base = r * cols;
-    for (let c = 0; c < shown; c++) {
-      const v = d[base + c]!;
-      if (v !== v) { nan[c]!++; continue; }
-      if (v === Infinity || v === -Infinity) { inf[c]!++; continue; }
-      if (v < min[c]!) min[c] = v;
-      if (v > max[c]!) max[c] = v;
-      sum[c]! += v;
-      n[c]!++;
-    }
-  }
-  const sq = new Float64Array(shown);
-  for (let r = 0; r < rows; r++) {
-    const base = r * cols;
-    for (let c = 0; c < shown; c++) {
-      const v = d[base + c]!;
-      if (Number.isFinite(v)) { const dv = v - sum[c]! / n[c]!; sq[c]! += dv * dv; }
-    }
-  }
-  return Array.from({ length: shown }, (_, c) => n[c]! === 0
-    ? { min: null, max: null, mean: null, std: null, nan: nan[c]!, inf: inf[c]! }
-    : { min: min[c]!, max: max[c]!, mean: sum[c]! / n[c]!, std: Math.sqrt(sq[c]! / n[c]!), nan: nan[c]!, inf: inf[c]! });
 }
 
 /** Counts per integer value; gives up (returns []) beyond `maxDistinct` distinct values. */

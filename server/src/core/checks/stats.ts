@@ -1,5 +1,9 @@
-/** Per-tensor summary figures: min, max and sum over finite values, and the non-finite count. */
-import type { Tensor } from '../formats/types';
+/**
+ * Per-tensor summary figures: min, max and sum over finite values, and the non-finite count; and
+ * per-column figures for the tensor tables. A tensor summarised while it was read (`summary`, its
+ * values not kept) gives the same figures from its summary.
+ */
+import type { DenseTensor, Tensor } from '../formats/types';
 
 export interface TensorStats {
   min: number | null;
@@ -10,6 +14,10 @@ export interface TensorStats {
 
 export function tensorStats(t: Tensor): TensorStats {
   if (t.kind === 'dense' && t.strings) return { min: null, max: null, sum: null, nonFinite: 0 };
+  if (t.kind === 'dense' && t.summary) {
+    const s = t.summary;
+    return { min: s.min, max: s.max, sum: s.sum, nonFinite: s.nonFinite };
+  }
   const d = t.kind === 'dense' ? t.data : t.values;
   if (!d) {
     // Pattern matrix: every stored entry is 1.
@@ -49,4 +57,63 @@ function int32Stats(d: Int32Array): TensorStats {
     sum += v;
   }
   return { min, max, sum, nonFinite: 0 };
+}
+
+/** One column of a matrix view ([N] is one column, [N, F, ...] has F·... columns). */
+export interface ColumnFigures {
+  min: number | null;
+  max: number | null;
+  mean: number | null;
+  std: number | null;
+  nan: number;
+  inf: number;
+}
+
+/**
+ * Figures of the first `shown` columns of a numeric dense tensor seen as `rows` x `cols`. For a
+ * summarised tensor only the columns its summary holds (SUMMARY_COLUMNS) are given.
+ */
+export function columnStats(t: DenseTensor, rows: number, cols: number, shown: number): ColumnFigures[] {
+  if (t.summary) {
+    const c = t.summary.columns;
+    return Array.from({ length: Math.min(shown, c.count) }, (_, j) => {
+      const n = c.finite[j]!;
+      if (n === 0) return { min: null, max: null, mean: null, std: null, nan: c.nan[j]!, inf: c.inf[j]! };
+      // Shifted sums (the shift is the column's first value): the variance without cancellation.
+      const d = c.shifted[j]!;
+      const variance = Math.max(0, (c.shiftedSquares[j]! - (d * d) / n) / n);
+      return { min: c.min[j]!, max: c.max[j]!, mean: c.sum[j]! / n, std: Math.sqrt(variance), nan: c.nan[j]!, inf: c.inf[j]! };
+    });
+  }
+  const d = t.data;
+  const min = new Float64Array(shown).fill(Infinity);
+  const max = new Float64Array(shown).fill(-Infinity);
+  const sum = new Float64Array(shown);
+  const n = new Float64Array(shown);
+  const nan = new Float64Array(shown);
+  const inf = new Float64Array(shown);
+  // Welford would be steadier; two passes keep it exact enough and allocation-free.
+  for (let r = 0; r < rows; r++) {
+    const base = r * cols;
+    for (let c = 0; c < shown; c++) {
+      const v = d[base + c]!;
+      if (v !== v) { nan[c]!++; continue; }
+      if (v === Infinity || v === -Infinity) { inf[c]!++; continue; }
+      if (v < min[c]!) min[c] = v;
+      if (v > max[c]!) max[c] = v;
+      sum[c]! += v;
+      n[c]!++;
+    }
+  }
+  const sq = new Float64Array(shown);
+  for (let r = 0; r < rows; r++) {
+    const base = r * cols;
+    for (let c = 0; c < shown; c++) {
+      const v = d[base + c]!;
+      if (Number.isFinite(v)) { const dv = v - sum[c]! / n[c]!; sq[c]! += dv * dv; }
+    }
+  }
+  return Array.from({ length: shown }, (_, c) => n[c]! === 0
+    ? { min: null, max: null, mean: null, std: null, nan: nan[c]!, inf: inf[c]! }
+    : { min: min[c]!, max: max[c]!, mean: sum[c]! / n[c]!, std: Math.sqrt(sq[c]! / n[c]!), nan: nan[c]!, inf: inf[c]! });
 }

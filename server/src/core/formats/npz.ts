@@ -2,13 +2,22 @@
  * NumPy .npz reader: a ZIP archive of `<key>.npy` members (numpy.savez: stored; savez_compressed:
  * deflated). Archives written by `scipy.sparse.save_npz` (keys `format`, `shape` and the arrays of
  * one of csr/csc/coo/bsr/dia) become one SparseTensor named `adjacency` in 0-based COO form.
+ *
+ * A deflated member that inflates to more than `limits.streamAboveBytes` and whose values the
+ * checks need only as figures (a feature matrix: its rows, min/max/sum and non-finite values) is
+ * inflated piece by piece and summarised (npy-summary.ts): its tensor carries `summary` and empty
+ * `data`. Edge indices, adjacency, labels, masks, edge weights, strings and scipy's arrays are
+ * always read whole (bounded by `limits.maxDecompressedBytes`).
  */
 import {
-  UnreadableError, type DenseTensor, type DType, type ReadLimits, type ReadResult, type SparseTensor,
-  type TensorData,
+  DEFAULT_LIMITS, UnreadableError, type DenseTensor, type DType, type ReadLimits, type ReadResult,
+  type SparseTensor, type TensorData,
 } from './types';
-import { parseNpy } from './npy';
-import { openZip } from './zip';
+import { parseNpy, parseNpyHeader, type NpyLayout } from './npy';
+import { NpySummariser } from './npy-summary';
+import { decodeElements } from './elements';
+import { openZip, type ZipArchive, type ZipEntry } from './zip';
+import { roleFromName } from '../checks/roles';
 
 const SPARSE_FORMATS = ['csr', 'csc', 'coo', 'bsr', 'dia'] as const;
 type SparseFormat = (typeof SPARSE_FORMATS)[number];
@@ -30,6 +39,9 @@ export function readNpz(bytes: Uint8Array, _fileName: string, limits: ReadLimits
   const zip = openZip(bytes, limits);
   const tensors: DenseTensor[] = [];
   const seen = new Set<string>();
+  // scipy.sparse.save_npz archives need every array's values.
+  const scipyLike = zip.entries.some((e) => e.name === 'format.npy');
+  const streamAbove = limits.streamAboveBytes ?? DEFAULT_LIMITS.streamAboveBytes!;
   for (const entry of zip.entries) {
     if (!entry.name.endsWith('.npy')) continue; // directories and non-array members
     const key = entry.name.slice(0, -4);
@@ -37,23 +49,84 @@ export function readNpz(bytes: Uint8Array, _fileName: string, limits: ReadLimits
       throw new UnreadableError(`the archive holds two members named '${entry.name}'`, entry.localHeaderOffset);
     }
     seen.add(key);
-    const member = zip.readEntry(entry);
-    try {
-      tensors.push(parseNpy(member, key, limits));
-    } catch (e) {
-      if (!(e instanceof UnreadableError)) throw e;
-      // Stored members are views into the archive, so their offsets map back to file offsets.
-      const base = entry.method === 0 ? zip.dataOffset(entry) : undefined;
-      const where = base === undefined ? ' (offset within the decompressed member)' : '';
-      throw new UnreadableError(
-        `in member '${entry.name}': ${e.message}${where}`,
-        base !== undefined && e.offset !== undefined ? base + e.offset : undefined,
-      );
+    const summarised = entry.method === 8 && entry.uncompressedSize > streamAbove && !scipyLike && summaryNamed(key)
+      ? summariseMember(zip, entry, key, limits) : null;
+    if (summarised) {
+      tensors.push(summarised);
+      continue;
     }
+    const member = zip.readEntry(entry);
+    tensors.push(inMember(zip, entry, () => parseNpy(member, key, limits)));
   }
   const sparse = asScipySparse(tensors);
   if (sparse) return { format: 'sparse-npz', tensors: [sparse], problems: [] };
   return { format: 'npz', tensors, problems: [] };
+}
+
+/** Runs `parse` on a member's bytes; its UnreadableError is told in which member it arose. */
+function inMember<T>(zip: ZipArchive, entry: ZipEntry, parse: () => T): T {
+  try {
+    return parse();
+  } catch (e) {
+    if (!(e instanceof UnreadableError)) throw e;
+    // Stored members are views into the archive, so their offsets map back to file offsets.
+    const base = entry.method === 0 ? zip.dataOffset(entry) : undefined;
+    const where = base === undefined ? ' (offset within the decompressed member)' : '';
+    throw new UnreadableError(
+      `in member '${entry.name}': ${e.message}${where}`,
+      base !== undefined && e.offset !== undefined ? base + e.offset : undefined,
+    );
+  }
+}
+
+/**
+ * Whether the checks need only figures of this member, whatever its values: a feature matrix by
+ * name, or an unnamed array whose shape the role guess can never take for an edge index (2-d with
+ * a side of 2), an adjacency (square) or a split mask (1-d bool).
+ */
+function summarisable(key: string, l: NpyLayout): boolean {
+  const { dtype } = l.descr;
+  if (dtype === 'str' || dtype === 'bytes' || !summaryNamed(key)) return false;
+  if (roleFromName(key) !== undefined) return true;
+  const s = l.shape;
+  if (s.length === 2 && (s[0] === s[1] || s[0] === 2 || s[1] === 2)) return false;
+  return !(s.length === 1 && dtype === 'bool');
+}
+
+/** Whether the name leaves summarising open: a feature name, or no role name at all. */
+function summaryNamed(key: string): boolean {
+  const role = roleFromName(key);
+  return role === undefined || role === 'features' || role === 'edge-features';
+}
+
+/**
+ * Inflates a large member piece by piece and returns its summarised tensor, or null (nothing kept)
+ * when the header shows the checks need its values: the caller then reads it whole.
+ */
+function summariseMember(zip: ZipArchive, entry: ZipEntry, key: string, limits: ReadLimits): DenseTensor | null {
+  const stream = zip.streamEntry(entry);
+  const size = entry.uncompressedSize;
+  let prefix = new Uint8Array(0);
+  let layout: NpyLayout | null = null;
+  while (!layout) {
+    const piece = stream.next();
+    if (piece === null) return null; // shorter than its header: the whole-member path says why
+    const joined = new Uint8Array(prefix.length + piece.length);
+    joined.set(prefix);
+    joined.set(piece, prefix.length);
+    prefix = joined;
+    layout = inMember(zip, entry, () => parseNpyHeader(prefix, size, limits));
+  }
+  if (!summarisable(key, layout)) return null;
+  const summariser = new NpySummariser(layout);
+  summariser.push(prefix.subarray(layout.dataStart));
+  prefix = new Uint8Array(0);
+  for (let piece = stream.next(); piece !== null; piece = stream.next()) summariser.push(piece);
+  const summary = summariser.finish();
+  const { descr, shape } = layout;
+  // Empty storage of the kind the whole-member path would give.
+  const data = decodeElements(new Uint8Array(0), 0, 0, descr.dtype, descr.littleEndian);
+  return { kind: 'dense', name: key, dtype: descr.dtype, shape, data, summary };
 }
 
 // ---------------------------------------------------------------------------------------------

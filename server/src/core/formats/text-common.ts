@@ -17,6 +17,7 @@ import {
   type Severity,
   type TextSpan,
 } from './types';
+import { crc32 } from './crc32';
 
 export const LF = 10;
 export const CR = 13;
@@ -175,42 +176,6 @@ function inflateProbe(data: Uint8Array, limit: number): InflateProbe {
   return { kind: 'end', out };
 }
 
-let CRC_TABLES: Uint32Array | undefined;
-
-function crcTables(): Uint32Array {
-  if (CRC_TABLES) return CRC_TABLES;
-  // Slicing-by-4 tables for the reflected polynomial 0xEDB88320 (the gzip CRC, RFC 1952).
-  const t = new Uint32Array(4 * 256);
-  for (let i = 0; i < 256; i++) {
-    let c = i;
-    for (let k = 0; k < 8; k++) c = c & 1 ? 0xedb88320 ^ (c >>> 1) : c >>> 1;
-    t[i] = c >>> 0;
-  }
-  for (let i = 0; i < 256; i++) {
-    let c = t[i]!;
-    for (let s = 1; s < 4; s++) {
-      c = t[c & 0xff]! ^ (c >>> 8);
-      t[s * 256 + i] = c >>> 0;
-    }
-  }
-  CRC_TABLES = t;
-  return t;
-}
-
-export function crc32(b: Uint8Array): number {
-  const t = crcTables();
-  let c = 0xffffffff;
-  const n = b.length;
-  let i = 0;
-  const n4 = n - (n & 3);
-  for (; i < n4; i += 4) {
-    c ^= b[i]! | (b[i + 1]! << 8) | (b[i + 2]! << 16) | (b[i + 3]! << 24);
-    c = t[768 + (c & 0xff)]! ^ t[512 + ((c >>> 8) & 0xff)]! ^ t[256 + ((c >>> 16) & 0xff)]! ^ t[c >>> 24]!;
-  }
-  for (; i < n; i++) c = t[(c ^ b[i]!) & 0xff]! ^ (c >>> 8);
-  return (c ^ 0xffffffff) >>> 0;
-}
-
 /** The file's bytes, decompressed when its name ends in `.gz`. */
 export function textBytes(bytes: Uint8Array, fileName: string, limits: ReadLimits): Uint8Array {
   const data = fileName.toLowerCase().endsWith('.gz') ? gunzipLimited(bytes, limits) : bytes;
@@ -265,17 +230,28 @@ export function assertText(b: Uint8Array): void {
   }
 }
 
+/** A UTF-16 or UTF-32 text encoding: its name for messages, for iconv, and for decodeWide. */
+export interface WideEncoding {
+  name: string;
+  iconv: string;
+  decode: 'utf-16le' | 'utf-16be' | 'utf-32le' | 'utf-32be';
+}
+
 /** A UTF-16 or UTF-32 encoding recognised from the first KiB, for assertText. */
-export function wideEncoding(b: Uint8Array): { name: string; iconv: string } | undefined {
+export function wideEncoding(b: Uint8Array): WideEncoding | undefined {
   const n = b.length;
   if (n >= 4 && b[0] === 0xff && b[1] === 0xfe && b[2] === 0 && b[3] === 0) {
-    return { name: 'UTF-32 (little-endian, with a byte order mark)', iconv: 'UTF-32' };
+    return { name: 'UTF-32 (little-endian, with a byte order mark)', iconv: 'UTF-32', decode: 'utf-32le' };
   }
   if (n >= 4 && b[0] === 0 && b[1] === 0 && b[2] === 0xfe && b[3] === 0xff) {
-    return { name: 'UTF-32 (big-endian, with a byte order mark)', iconv: 'UTF-32' };
+    return { name: 'UTF-32 (big-endian, with a byte order mark)', iconv: 'UTF-32', decode: 'utf-32be' };
   }
-  if (n >= 2 && b[0] === 0xff && b[1] === 0xfe) return { name: 'UTF-16 (little-endian, with a byte order mark)', iconv: 'UTF-16' };
-  if (n >= 2 && b[0] === 0xfe && b[1] === 0xff) return { name: 'UTF-16 (big-endian, with a byte order mark)', iconv: 'UTF-16' };
+  if (n >= 2 && b[0] === 0xff && b[1] === 0xfe) {
+    return { name: 'UTF-16 (little-endian, with a byte order mark)', iconv: 'UTF-16', decode: 'utf-16le' };
+  }
+  if (n >= 2 && b[0] === 0xfe && b[1] === 0xff) {
+    return { name: 'UTF-16 (big-endian, with a byte order mark)', iconv: 'UTF-16', decode: 'utf-16be' };
+  }
   // No mark: count NUL bytes by position modulo 4 in the first KiB (whole code units only).
   const end = Math.min(n, 1024) & ~3;
   if (end < 4) return undefined;
@@ -284,13 +260,31 @@ export function wideEncoding(b: Uint8Array): { name: string; iconv: string } | u
   const units = end >> 2;
   const all = (k: number) => nul[k] === units;
   const none = (k: number) => nul[k] === 0;
-  if (none(0) && all(1) && all(2) && all(3)) return { name: 'UTF-32LE (no byte order mark)', iconv: 'UTF-32LE' };
-  if (all(0) && all(1) && all(2) && none(3)) return { name: 'UTF-32BE (no byte order mark)', iconv: 'UTF-32BE' };
+  if (none(0) && all(1) && all(2) && all(3)) return { name: 'UTF-32LE (no byte order mark)', iconv: 'UTF-32LE', decode: 'utf-32le' };
+  if (all(0) && all(1) && all(2) && none(3)) return { name: 'UTF-32BE (no byte order mark)', iconv: 'UTF-32BE', decode: 'utf-32be' };
   // UTF-16: the high bytes of ASCII characters are NUL; most characters of a text are ASCII.
   const even = nul[0]! + nul[2]!, odd = nul[1]! + nul[3]!, half = units * 2;
-  if (even === 0 && odd * 4 >= half * 3) return { name: 'UTF-16LE (no byte order mark)', iconv: 'UTF-16LE' };
-  if (odd === 0 && even * 4 >= half * 3) return { name: 'UTF-16BE (no byte order mark)', iconv: 'UTF-16BE' };
+  if (even === 0 && odd * 4 >= half * 3) return { name: 'UTF-16LE (no byte order mark)', iconv: 'UTF-16LE', decode: 'utf-16le' };
+  if (odd === 0 && even * 4 >= half * 3) return { name: 'UTF-16BE (no byte order mark)', iconv: 'UTF-16BE', decode: 'utf-16be' };
   return undefined;
+}
+
+/**
+ * The text of UTF-16 or UTF-32 bytes (a byte order mark dropped; a code unit cut off at the end or
+ * an invalid one becomes U+FFFD). For looking at a few lines, not for whole large files.
+ */
+export function decodeWide(b: Uint8Array, enc: WideEncoding['decode']): string {
+  if (enc === 'utf-16le' || enc === 'utf-16be') return new TextDecoder(enc).decode(b);
+  const le = enc === 'utf-32le';
+  const parts: string[] = [];
+  for (let i = 0; i + 4 <= b.length; i += 4) {
+    const c = le
+      ? (b[i]! | (b[i + 1]! << 8) | (b[i + 2]! << 16) | (b[i + 3]! << 24)) >>> 0
+      : ((b[i]! << 24) | (b[i + 1]! << 16) | (b[i + 2]! << 8) | b[i + 3]!) >>> 0;
+    if (i === 0 && c === 0xfeff) continue;
+    parts.push(c <= 0x10ffff && (c < 0xd800 || c > 0xdfff) ? String.fromCodePoint(c) : '\ufffd');
+  }
+  return parts.join('');
 }
 
 /** Length of a UTF-8 byte order mark at the start, 0 or 3. */

@@ -3,6 +3,7 @@
  * through as they were or stored anew) and a safetensors file with one tensor replaced.
  * Pure: bytes in, bytes out.
  */
+import { crc32 } from './crc32';
 
 const MAGIC = [0x93, 0x4e, 0x55, 0x4d, 0x50, 0x59];
 
@@ -17,22 +18,6 @@ export function int64Bytes(values: ArrayLike<number>): Uint8Array {
 /** NumPy format 1.0 .npy of an int64 C-order array (header padded to a multiple of 64 bytes). */
 export function encodeNpyInt64(shape: number[], values: ArrayLike<number>): Uint8Array {
   return encodeNpy('<i8', shape, int64Bytes(values));
-}
-
-const CRC_TABLE = (() => {
-  const t = new Uint32Array(256);
-  for (let n = 0; n < 256; n++) {
-    let c = n;
-    for (let k = 0; k < 8; k++) c = c & 1 ? 0xedb88320 ^ (c >>> 1) : c >>> 1;
-    t[n] = c >>> 0;
-  }
-  return t;
-})();
-
-export function crc32(bytes: Uint8Array): number {
-  let c = 0xffffffff;
-  for (let i = 0; i < bytes.length; i++) c = CRC_TABLE[(c ^ bytes[i]!) & 0xff]! ^ (c >>> 8);
-  return (c ^ 0xffffffff) >>> 0;
 }
 
 export interface ZipMember {

@@ -1,15 +1,18 @@
 /**
- * A small ZIP reader over bytes already in memory, for .npz (NumPy) and later .pt (PyTorch)
- * archives. It reads the central directory (with ZIP64 records and extra fields) and decodes
- * members lazily: stored members come back as views into the input, deflated ones are inflated
- * into a buffer of exactly the declared size.
+ * A small ZIP reader over bytes already in memory, for .npz (NumPy) and .pt (PyTorch) archives.
+ * It reads the central directory (with ZIP64 records and extra fields) and decodes members
+ * lazily: stored members come back as views into the input, deflated ones are inflated into a
+ * buffer of exactly the declared size, or handed out piece by piece (streamEntry) when they are
+ * too large to hold. Every member read is checked against the CRC-32 of its central directory
+ * record, as NumPy's zipfile does (it refuses a member with "Bad CRC-32").
  *
  * Layout per PKWARE APPNOTE.TXT (sections 4.3.7 local header, 4.3.12 central directory header,
  * 4.3.14–4.3.16 ZIP64 end records and end of central directory, 4.5.3 ZIP64 extra field).
  */
-import { inflateSync } from 'fflate';
-import { UnreadableError, type ReadLimits } from './types';
+import { Inflate, inflateSync } from 'fflate';
+import { DEFAULT_LIMITS, UnreadableError, type ReadLimits } from './types';
 import { u16le, u32le, u64le } from './elements';
+import { crc32 } from './crc32';
 
 export interface ZipEntry {
   name: string;
@@ -30,7 +33,26 @@ export interface ZipArchive {
   readEntry(entry: ZipEntry): Uint8Array;
   /** Byte offset in the archive where the member's (compressed) data begins. */
   dataOffset(entry: ZipEntry): number;
+  /**
+   * The member's bytes in pieces, for members too large to hold: nothing but the current piece
+   * is allocated. Counts against `limits.maxStreamedBytes`, not `maxDecompressedBytes`.
+   */
+  streamEntry(entry: ZipEntry): EntryStream;
 }
+
+export interface EntryStream {
+  /**
+   * The next piece of the member (at most about STREAM_STEP · 1032 bytes), valid until the next
+   * call; null after the last piece, once the size and the CRC-32 have been verified. Throws
+   * UnreadableError for corrupt data, a size other than the declared one, or a CRC mismatch.
+   */
+  next(): Uint8Array | null;
+}
+
+/** Compressed bytes handed to the inflater at a time when streaming: at most ~4.2 MiB comes out. */
+export const STREAM_STEP = 4 * 1024;
+/** Stored members are handed out in views of this many bytes. */
+const STORED_PIECE = 8 * 1024 * 1024;
 
 const SIG_LOCAL = 0x04034b50;
 const SIG_CENTRAL = 0x02014b50;
@@ -78,6 +100,16 @@ function decodeName(b: Uint8Array, utf8Flag: boolean): string {
 
 function fail(message: string, offset?: number): never {
   throw new UnreadableError(message, offset);
+}
+
+const hex32 = (v: number) => `0x${(v >>> 0).toString(16).padStart(8, '0')}`;
+
+function crcMismatch(entry: ZipEntry, got: number, at: number): never {
+  fail(
+    `member '${entry.name}' fails its CRC-32 check (the archive records ${hex32(entry.crc32)}, its bytes give ` +
+      `${hex32(got)}): the file is corrupt; save it again`,
+    at,
+  );
 }
 
 interface EndRecord {
@@ -194,6 +226,15 @@ function parseCentral(bytes: Uint8Array, end: EndRecord): ZipEntry[] {
 export function openZip(bytes: Uint8Array, limits: ReadLimits): ZipArchive {
   const entries = parseCentral(bytes, findEnd(bytes));
   let inflated = 0;
+  let streamed = 0;
+  /** Members whose CRC-32 has been verified (readEntry may be asked for one several times). */
+  const verified = new Set<ZipEntry>();
+  const verify = (entry: ZipEntry, data: Uint8Array, at: number) => {
+    if (verified.has(entry)) return;
+    const got = crc32(data);
+    if (got !== entry.crc32) crcMismatch(entry, got, at);
+    verified.add(entry);
+  };
 
   const dataOffset = (entry: ZipEntry): number => {
     const h = entry.localHeaderOffset;
@@ -222,11 +263,10 @@ export function openZip(bytes: Uint8Array, limits: ReadLimits): ZipArchive {
       if (entry.compressedSize !== size) {
         fail(`stored entry '${name}' has compressed size ${entry.compressedSize} but uncompressed size ${size}`, start);
       }
+      verify(entry, data, start);
       return data;
     }
-    if (entry.method !== 8) {
-      fail(`entry '${name}' uses compression method ${entry.method}; only stored (0) and deflate (8) are read`, start);
-    }
+    checkMethod(entry, start);
     if (size > limits.maxDecompressedBytes - inflated) {
       fail(
         `entry '${name}' declares ${size} uncompressed bytes, over the limit of ` +
@@ -234,13 +274,7 @@ export function openZip(bytes: Uint8Array, limits: ReadLimits): ZipArchive {
         start,
       );
     }
-    if (size > entry.compressedSize * MAX_DEFLATE_RATIO + RATIO_SLACK) {
-      fail(
-        `entry '${name}' declares ${size} uncompressed bytes from ${entry.compressedSize} compressed bytes, ` +
-          `beyond what deflate can produce`,
-        start,
-      );
-    }
+    checkRatio(entry, start);
     inflated += size;
     let out: Uint8Array;
     try {
@@ -262,8 +296,103 @@ export function openZip(bytes: Uint8Array, limits: ReadLimits): ZipArchive {
         start,
       );
     }
-    return out.subarray(0, size);
+    const member = out.subarray(0, size);
+    verify(entry, member, start);
+    return member;
   };
 
-  return { entries, readEntry, dataOffset };
+  const checkMethod = (entry: ZipEntry, start: number) => {
+    if (entry.method !== 8) {
+      fail(`entry '${entry.name}' uses compression method ${entry.method}; only stored (0) and deflate (8) are read`, start);
+    }
+  };
+
+  /** A declared size deflate cannot reach from the compressed bytes is a lie: refused before inflating. */
+  const checkRatio = (entry: ZipEntry, start: number) => {
+    const name = entry.name;
+    const size = entry.uncompressedSize;
+    if (size > entry.compressedSize * MAX_DEFLATE_RATIO + RATIO_SLACK) {
+      fail(
+        `entry '${name}' declares ${size} uncompressed bytes from ${entry.compressedSize} compressed bytes, ` +
+          `beyond what deflate can produce`,
+        start,
+      );
+    }
+  };
+
+  const streamEntry = (entry: ZipEntry): EntryStream => {
+    const name = entry.name;
+    if (entry.flags & 0x1) fail(`entry '${name}' is encrypted`, entry.localHeaderOffset);
+    const start = dataOffset(entry);
+    const data = bytes.subarray(start, start + entry.compressedSize);
+    const size = entry.uncompressedSize;
+    let produced = 0;
+    let crc = 0;
+    let finished = false;
+    const finish = (): null => {
+      if (!finished) {
+        finished = true;
+        if (produced !== size) fail(`entry '${name}' declares ${size} uncompressed bytes but inflates to ${produced}`, start);
+        if (crc !== entry.crc32) crcMismatch(entry, crc, start);
+      }
+      return null;
+    };
+
+    if (entry.method === 0) {
+      if (entry.compressedSize !== size) {
+        fail(`stored entry '${name}' has compressed size ${entry.compressedSize} but uncompressed size ${size}`, start);
+      }
+      return {
+        next: () => {
+          if (produced >= size) return finish();
+          const piece = data.subarray(produced, Math.min(size, produced + STORED_PIECE));
+          produced += piece.length;
+          crc = crc32(piece, crc);
+          return piece;
+        },
+      };
+    }
+
+    checkMethod(entry, start);
+    checkRatio(entry, start);
+    const budget = limits.maxStreamedBytes ?? DEFAULT_LIMITS.maxStreamedBytes!;
+    if (size > budget - streamed) {
+      fail(
+        `entry '${name}' declares ${size} uncompressed bytes, over the limit of ${budget} bytes ` +
+          `summarised per file`,
+        start,
+      );
+    }
+    const queue: Uint8Array[] = [];
+    const inflater = new Inflate((piece) => {
+      if (piece.length === 0) return;
+      // Checked piece by piece: a stream longer than declared stops here, before the next piece.
+      if (piece.length > size - produced) fail(`entry '${name}' declares ${size} uncompressed bytes but inflates to more`, start);
+      produced += piece.length;
+      streamed += piece.length;
+      crc = crc32(piece, crc);
+      queue.push(piece);
+    });
+    let pos = 0;
+    let pushedLast = false;
+    return {
+      next: () => {
+        while (queue.length === 0) {
+          if (pushedLast) return finish();
+          const end = Math.min(data.length, pos + STREAM_STEP);
+          pushedLast = end === data.length;
+          try {
+            inflater.push(data.subarray(pos, end), pushedLast);
+          } catch (e) {
+            if (e instanceof UnreadableError) throw e;
+            fail(`entry '${name}': corrupt deflate data (${e instanceof Error ? e.message : String(e)})`, start + pos);
+          }
+          pos = end;
+        }
+        return queue.shift()!;
+      },
+    };
+  };
+
+  return { entries, readEntry, dataOffset, streamEntry };
 }

@@ -45,6 +45,7 @@ const ROW_CHUNK = 1 << 12;
  */
 export function featureMatrix(t: DenseTensor, n: number): FeatureMatrix | { error: string } {
   if (t.strings) return { error: `${t.name}: string features are not supported` };
+  if (t.summary) return { error: `${t.name}: too large to keep in memory (only summarised while it was read)` };
   if (t.shape.length === 0) return { error: `${t.name}: a scalar is not a feature matrix` };
   const rows = t.shape[0]!;
   if (rows !== n) return { error: `${t.name}: ${rows} feature rows for ${n} nodes` };
