@@ -56,12 +56,12 @@ export const labelFont = (t: Theme) => t.fontSize - 2;
 /** Distance from the point (px, py) to the box (0 inside). */
 function boxDistance(b: Box, px: number, py: number): number {
   const dx = Math.max(b.x0 - px, 0, px - b.x1), dy = Math.max(b.y0 - py, 0, py - b.y1);
-  return Math.hypot(dx, dy);
+  return Math.sqrt(dx * dx + dy * dy);
 }
 /** Gap between two boxes (0 when they touch or overlap). */
 function boxGap(a: Box, b: Box): number {
   const dx = Math.max(a.x0 - b.x1, 0, b.x0 - a.x1), dy = Math.max(a.y0 - b.y1, 0, b.y0 - a.y1);
-  return Math.hypot(dx, dy);
+  return Math.sqrt(dx * dx + dy * dy);
 }
 
 /** Box of a node's id label, drawn left-aligned at (x + r + 2·unit, y + 4·unit) with font size f·unit. */
@@ -101,23 +101,32 @@ export function placeRingLabels(input: RingLabelInput): Float64Array {
   const n = R.length;
   const out = new Float64Array(2 * rings.length).fill(NaN);
   const gap = LABEL_GAP * unit, clear = LABEL_CLEAR * unit;
-  // Distance of each node from the centre, to consider only nodes near a ring.
-  const dist = new Float64Array(n);
-  let maxR = 0;
+  let maxR = 0, maxW = 0;
   let bx0 = Infinity, by0 = Infinity, bx1 = -Infinity, by1 = -Infinity;
   for (let i = 0; i < n; i++) {
     const x = P[2 * i]!, y = P[2 * i + 1]!, r = R[i]!;
-    dist[i] = Math.hypot(x, y); maxR = Math.max(maxR, r);
+    maxR = Math.max(maxR, r);
     bx0 = Math.min(bx0, x - r); by0 = Math.min(by0, y - r); bx1 = Math.max(bx1, x + r); by1 = Math.max(by1, y + r);
+  }
+  for (let k = 1; k < rings.length; k++) maxW = Math.max(maxW, ringLabelSize(k, font, unit).w);
+  // Nodes in a grid of square cells: a node whose centre is more than M from a candidate box is
+  // at least `clear` away from it, so only the cells within M of the box are looked at.
+  const M = clear + maxR;
+  const cell = Math.max(4 * M, maxW + 2 * M);
+  const grid = new Map<number, number[]>();
+  const cellKey = (gx: number, gy: number) => gx * 1_048_576 + gy;
+  for (let i = 0; i < n; i++) {
+    const x = P[2 * i]!, y = P[2 * i + 1]!;
+    if (!Number.isFinite(x) || !Number.isFinite(y)) continue;
+    const key = cellKey(Math.floor(x / cell), Math.floor(y / cell));
+    const list = grid.get(key);
+    if (list) list.push(i); else grid.set(key, [i]);
   }
   const placed: Box[] = [];
   for (let k = 1; k < rings.length; k++) {
     const r = rings[k]!;
     const { w, h } = ringLabelSize(k, font, unit);
-    // Nodes and boxes farther from the ring line than this cannot come within `clear` of a candidate.
-    const reach = w + h + gap + clear + maxR;
-    const near: number[] = [];
-    for (let i = 0; i < n; i++) if (Math.abs(dist[i]! - r) <= reach) near.push(i);
+    const reach = w + h + gap + clear;
     const boxes = [...(input.nodeLabels ?? []).filter((b) => {
       const inner = boxDistance(b, 0, 0), outer = Math.hypot(Math.max(Math.abs(b.x0), Math.abs(b.x1)), Math.max(Math.abs(b.y0), Math.abs(b.y1)));
       return inner <= r + reach && outer >= r - reach;
@@ -133,13 +142,19 @@ export function placeRingLabels(input: RingLabelInput): Float64Array {
         if (rho < d) continue; // inside a small ring: no room
         const cx = rho * ca, cy = rho * sa;
         const box: Box = { x0: cx - w / 2, y0: cy - h / 2, x1: cx + w / 2, y1: cy + h / 2 };
-        let score = Infinity;
-        for (const i of near) score = Math.min(score, boxDistance(box, P[2 * i]!, P[2 * i + 1]!) - R[i]!);
-        for (const b of boxes) score = Math.min(score, boxGap(box, b));
         // How far it sticks out of the nodes' box, then how far round from the top (outside the
         // ring line before inside at the same angle; the turn only breaks near-ties).
         const outside = n ? Math.max(0, bx0 - box.x0, box.x1 - bx1, by0 - box.y0, box.y1 - by1) : 0;
         const rank = outside + 1e-3 * (Math.min(j, LABEL_ANGLES - j) * 2 + (side === 1 ? 0 : 1));
+        // Clearance (capped at M: farther nodes do not matter).
+        let score = M;
+        for (let gx = Math.floor((box.x0 - M) / cell); gx <= Math.floor((box.x1 + M) / cell); gx++) {
+          for (let gy = Math.floor((box.y0 - M) / cell); gy <= Math.floor((box.y1 + M) / cell); gy++) {
+            const list = grid.get(cellKey(gx, gy));
+            if (list) for (const i of list) score = Math.min(score, boxDistance(box, P[2 * i]!, P[2 * i + 1]!) - R[i]!);
+          }
+        }
+        for (const b of boxes) score = Math.min(score, boxGap(box, b));
         if (score >= clear && rank < firstClearRank) { firstClear = box; firstClearRank = rank; }
         if (score > bestScore) { bestScore = score; best = box; }
       }
