@@ -174,6 +174,13 @@ write('archive/dock_map.json', JSON.stringify({
   paths: [{ from: 'D1', to: 'D2' }, { from: 'D2', to: 'D3' }, { from: 'D3', to: 'D4' }],
 }, null, 2) + '\n');
 
+// --- weekend/member_rides.edges: group rides keyed by membership number ---------------------------
+// Membership numbers are ids in the tens of millions for a handful of members: a sparse numbering.
+const members = [40213377, 40213391, 41870502, 41870518, 43005126, 45211964, 47330081, 48990215];
+const memberRides = ['# member_from member_to: group rides, keyed by membership number'];
+members.forEach((a, k) => { const b = members[(k + 1) % members.length]; memberRides.push(`${a} ${b}`, `${b} ${a}`); });
+write('weekend/member_rides.edges', memberRides.join('\n') + '\n');
+
 // --- the manifest --------------------------------------------------------------------------------
 write('hopscope.json', JSON.stringify({
   $schema: '../schemas/hopscope.schema.json',

@@ -12,6 +12,7 @@ import * as path from 'node:path';
 import { checkPaths } from '../../server/src/node/load';
 import { checkGraph } from '../../server/src/core/checks/graph-check';
 import { guessRole } from '../../server/src/core/checks/roles';
+import { MIN_DENSE_NODES, denseNodeLimit } from '../../server/src/core/graph/compact';
 import type { DenseTensor, Problem } from '../../server/src/core/formats/types';
 import type { FileReport } from '../../server/src/core/checks/check-set';
 
@@ -259,5 +260,127 @@ describe('edge lists that store each undirected edge once (NetworkX write_edgeli
     const [u, v] = (exp.edges as number[][])[0]!;
     fs.writeFileSync(path.join(tmp, 'g.edges'), `${text}${v} ${u}\n`);
     expect(problem(checkPaths([tmp]).files[0]!, 'asymmetric-adjacency')).toBeUndefined();
+  });
+});
+
+describe('sparse ids and node counts far beyond the edges (tests/fixtures/make_sparse_fixtures.py)', () => {
+  // Files written by numpy.savetxt/numpy.save/json.dump/torch.save/networkx.write_edgelist/
+  // scipy.io.mmwrite; figures from networkx.read_edgelist / a NetworkX DiGraph of the loaded array
+  // (its nodes are the distinct ids) and, for the .mtx files, from scipy.io.mmread and
+  // scipy.sparse.csgraph (see the script's docstring).
+  const sdir = path.join(__dirname, '../fixtures/sparse');
+  const sexp = JSON.parse(fs.readFileSync(path.join(sdir, 'expected.json'), 'utf8'));
+  const figureKeys = ['nodes', 'edges', 'selfLoops', 'components', 'isolatedNodes', 'directed'] as const;
+  const figuresOf = (e: Record<string, unknown>) => Object.fromEntries(figureKeys.map((k) => [k, e[k]]));
+  const checkOne = (name: string, options = {}) => {
+    const r = checkPaths([path.join(sdir, name)], options);
+    const g = r.graphs.find((x) => x.check.structureFile && path.basename(x.check.structureFile) === name)!;
+    return { f: byName(r.files, name), g: g.check };
+  };
+
+  const SPARSE = ['billion.txt', 'int32max.txt', 'billion_edge_index.npy', 'billion.json', 'billion.pt',
+    'beyond_int32.txt', 'beyond_int32_edge_index.npy', 'members.edges', 'members_edge_index.npy'];
+  for (const name of SPARSE) {
+    it(`${name}: the figures NetworkX gives, checked on the distinct ids with a sparse-ids info`, () => {
+      const e = sexp[name];
+      const { f, g } = checkOne(name);
+      expect(f.graph).toMatchObject(figuresOf(e));
+      expect(f.problems.filter((p) => p.severity === 'error')).toEqual([]);
+      const p = problem(f, 'sparse-ids')!;
+      expect(p.severity).toBe('info');
+      expect(p.message).toContain(`${e.distinctIds} distinct ids up to ${e.largestId}`);
+      expect(p.count).toBe(e.largestId + 1 - e.distinctIds);
+      // Per-node arrays cover the distinct ids only; the original ids are kept beside them.
+      const s = g.structure!;
+      expect(s.fwd.n).toBe(e.distinctIds);
+      expect(s.fwd.indptr.length).toBe(e.distinctIds + 1);
+      expect(s.ids!.length).toBe(e.distinctIds);
+      expect(s.ids![s.ids!.length - 1]).toBe(e.largestId);
+    });
+  }
+
+  it('beyond_int32 ids read as ids in every container (numpy.save values), not "0..-1 (0 nodes)"', () => {
+    const e = sexp['beyond_int32_edge_index.npy'];
+    const { f } = checkOne('beyond_int32_edge_index.npy');
+    expect(f.tensors[0]).toMatchObject({ dtype: 'int64', min: 0, max: Math.max(...e.values) });
+    expect(problem(f, 'index-out-of-range')).toBeUndefined();
+    // A declared count below the ids: only the ids beyond it are out of range, with a true range.
+    const d = checkOne('beyond_int32_edge_index.npy', { nodes: 10 });
+    const oor = problem(d.f, 'index-out-of-range')!;
+    const beyond = (e.values as number[]).filter((v) => v >= 10).length; // every entry is one edge end
+    expect(oor.count).toBe(4); // all 4 edges have an end beyond 9 (values from numpy.save above)
+    expect(oor.message).toContain('Node ids must lie in 0..9 (10 nodes from the declared node count)');
+    expect(oor.locations!.map((l) => l.detail)).not.toContain('beyond_int32_edge_index[0, 0] = 0');
+    expect(oor.locations!.length).toBe(beyond);
+  });
+
+  it('a node count declared far beyond the ids (--num-nodes 1e10): counted, not allocated', () => {
+    // Arithmetic on NetworkX's figures: every untouched id is one isolated node and one component.
+    const e = sexp['members.edges'];
+    const N = 10_000_000_000; // above the largest membership number (8962049388)
+    const { f, g } = checkOne('members.edges', { nodes: N });
+    expect(f.graph).toMatchObject({
+      nodes: N, edges: e.edges, selfLoops: e.selfLoops, directed: e.directed,
+      components: e.components + (N - e.distinctIds), isolatedNodes: e.isolatedNodes + (N - e.distinctIds),
+    });
+    expect(problem(f, 'sparse-ids')).toBeUndefined();
+    expect(problem(f, 'index-out-of-range')).toBeUndefined();
+    expect(problem(f, 'isolated-nodes')!.count).toBe(N - e.distinctIds);
+    expect(g.structure!.fwd.n).toBe(e.distinctIds);
+  });
+
+  for (const name of ['billion.mtx', 'declared_3m.mtx']) {
+    it(`${name}: the size line stays the node count; figures equal SciPy's`, () => {
+      const e = sexp[name];
+      const { f, g } = checkOne(name);
+      expect(e.shape).toEqual([e.nodes, e.nodes]);
+      expect(f.graph).toMatchObject(figuresOf(e));
+      expect(problem(f, 'sparse-ids')).toBeUndefined();
+      expect(problem(f, 'isolated-nodes')!.count).toBe(e.isolatedNodes);
+      expect(g.structure!.fwd.n).toBeLessThan(10);
+    });
+  }
+
+  it('isolated examples of a declared count name untouched ids in order (1-based as Matrix Market writes them)', () => {
+    // declared_3m.mtx touches rows/columns 0, 1, 2, 1500000, 2999999 (0-based, make_sparse_fixtures.py).
+    expect(problem(checkOne('declared_3m.mtx').f, 'isolated-nodes')!.message).toContain('e.g. nodes 4, 5, 6, 7, 8');
+    expect(problem(checkOne('billion.mtx').f, 'isolated-nodes')!.message).toContain('e.g. nodes 3, 4, 5, 6, 7');
+  });
+
+  it('small gaps keep the contract (largest id + 1): ids 0..6 with 3 unused are 7 nodes, 3 isolated', () => {
+    const t: DenseTensor = { kind: 'dense', name: 'edge_index', dtype: 'int64', shape: [2, 2], data: Int32Array.from([0, 5, 1, 6]) };
+    const c = checkGraph([{ file: 'e', tensor: t, guess: guessRole(t) }]);
+    expect(c.figures).toMatchObject({ nodes: 7, isolatedNodes: 3, components: 5 });
+    expect(c.structure!.ids).toBeUndefined();
+    expect(c.problems.map((p) => p.problem.code)).not.toContain('sparse-ids');
+  });
+
+  it('the per-node limit follows the data held and the file-size setting (maxFileSizeMB)', () => {
+    expect(denseNodeLimit(0)).toBe(MIN_DENSE_NODES);
+    expect(denseNodeLimit(100 * 2 ** 20)).toBe(50 * 2 ** 20);
+    expect(denseNodeLimit(100 * 2 ** 20, 16 * 2 ** 20)).toBe(8 * 2 ** 20);
+    // A matching built here: k → 2,000,000 - k for k < 600,000 (1,200,000 distinct ids). Its 4.8 MB
+    // of data allow per-node arrays for 2,000,001 nodes, unless the largest file allowed is small.
+    const E = 600_000;
+    const data = new Int32Array(2 * E);
+    for (let k = 0; k < E; k++) { data[k] = k; data[E + k] = 2_000_000 - k; }
+    const t: DenseTensor = { kind: 'dense', name: 'edge_index', dtype: 'int64', shape: [2, E], data };
+    const part = [{ file: 'e', tensor: t, guess: guessRole(t) }];
+    const dense = checkGraph(part);
+    expect(dense.structure!.ids).toBeUndefined();
+    expect(dense.figures).toMatchObject({ nodes: 2_000_001, isolatedNodes: 2_000_001 - 2 * E });
+    const capped = checkGraph(part, {}, { maxFileBytes: 2 * 2 ** 20 });
+    expect(capped.structure!.ids!.length).toBe(2 * E);
+    expect(capped.figures).toMatchObject({ nodes: 2 * E, isolatedNodes: 0, components: E, edges: E });
+    expect(capped.problems.map((p) => p.problem.code)).toContain('sparse-ids');
+  });
+
+  it('labels beside sparse ids keep the largest id + 1 as the node count (they index rows by id)', () => {
+    const t: DenseTensor = { kind: 'dense', name: 'edge_index', dtype: 'int64', shape: [2, 2], data: Int32Array.from([0, 9_000_000, 9_000_000, 0]) };
+    const y: DenseTensor = { kind: 'dense', name: 'y', dtype: 'int64', shape: [3], data: Int32Array.from([0, 1, 0]) };
+    const c = checkGraph([t, y].map((x) => ({ file: x.name, tensor: x, guess: guessRole(x) })));
+    expect(c.figures).toMatchObject({ nodes: 9_000_001, isolatedNodes: 8_999_999, components: 9_000_000 });
+    expect(c.problems.map((p) => p.problem.code)).toContain('label-length-mismatch');
+    expect(c.structure!.fwd.n).toBe(2);
   });
 });

@@ -296,3 +296,60 @@ describe('text files that are not edge lists (issue 8, report item 2)', () => {
     }
   });
 });
+
+describe('files naming huge ids (issue 8: a 26-byte file took 11 GB)', () => {
+  // tests/fixtures/make_sparse_fixtures.py: numpy.savetxt / scipy.io.mmwrite files, figures from
+  // NetworkX and SciPy (expected.json).
+  const sdir = path.join(root, 'tests/fixtures/sparse');
+  const sexp = JSON.parse(fs.readFileSync(path.join(sdir, 'expected.json'), 'utf8'));
+
+  it('check reads the 26-byte edge list as NetworkX does: 2 nodes, 1 component, a sparse-ids info, exit 0', () => {
+    const e = sexp['billion.txt'];
+    expect(e.bytes).toBe(26);
+    const r = run('check', path.join(sdir, 'billion.txt'), '--json');
+    expect(r.code).toBe(0);
+    const f = JSON.parse(r.out).files[0];
+    expect(f.graph).toMatchObject({ nodes: e.nodes, edges: e.edges, components: e.components, isolatedNodes: e.isolatedNodes });
+    expect(f.problems.map((p: { code: string; severity: string }) => `${p.code}:${p.severity}`)).toEqual(['sparse-ids:info']);
+    const text = run('check', path.join(sdir, 'billion.txt')).out;
+    expect(text).toMatch(/sparse-ids .*2 distinct ids up to 1000000000; checked on the distinct ids/);
+  });
+
+  it('the analyses refuse such graphs with a message (exit 2) instead of allocating per node', () => {
+    for (const argv of [['field', '--node', '0', '--layers', '2'], ['wl'], ['bottlenecks'], ['spectrum', '--k', '1']]) {
+      const sparse = run(argv[0]!, ...argv.slice(1), path.join(sdir, 'billion.txt'));
+      expect(sparse.code, argv.join(' ')).toBe(2);
+      expect(sparse.err).toMatch(/node ids are sparse \(2 distinct ids up to 1000000000\).*Renumber the ids to 0\.\.1/);
+      const declared = run(argv[0]!, ...argv.slice(1), path.join(sdir, 'billion.mtx'));
+      expect(declared.code, argv.join(' ')).toBe(2);
+      expect(declared.err).toMatch(/has 1000000000 nodes .* but its edges touch only 2/);
+    }
+    const both = run('compare', path.join(sdir, 'billion.txt'), path.join(fixtures, 'karate.npy'));
+    expect(both.code).toBe(2);
+    expect(both.err).toMatch(/node ids are sparse/);
+  });
+});
+
+describe('hovers and the viewer on graphs checked on their distinct ids (node layer)', () => {
+  const sdir = path.join(root, 'tests/fixtures/sparse');
+  const sexp = JSON.parse(fs.readFileSync(path.join(sdir, 'expected.json'), 'utf8'));
+
+  it('node info maps ids as written; the degree histogram counts every node', async () => {
+    const { GraphService } = await import('../../server/src/node/service');
+    const s = new GraphService();
+    // billion.txt (numpy.savetxt): 0 → 10^9 and back.
+    const txt = path.join(sdir, 'billion.txt');
+    s.check([txt]);
+    expect(s.nodeInfo(txt, 1_000_000_000)).toMatchObject({ nodes: 2, outDegree: 1, inDegree: 1, outNeighbours: [0], inNeighbours: [0] });
+    expect(s.nodeInfo(txt, 5)).toBeUndefined(); // not one of the 2 distinct ids
+    // billion.mtx (scipy.io.mmwrite): 10^9 declared nodes, entries (1, 2) and (2, 1), 1-based.
+    const mtx = path.join(sdir, 'billion.mtx');
+    s.check([mtx]);
+    expect(s.nodeInfo(mtx, 2)).toMatchObject({ nodes: 1_000_000_000, outDegree: 1, inDegree: 1, outNeighbours: [1] });
+    expect(s.nodeInfo(mtx, 999_999_999)).toMatchObject({ outDegree: 0, inDegree: 0, outNeighbours: [] });
+    expect(s.nodeInfo(mtx, 1_000_000_001)).toBeUndefined();
+    const stats = await s.tensorStats(mtx, 'adjacency');
+    const e = sexp['billion.mtx'];
+    expect(stats!.degreeHistogram).toEqual([{ degree: 0, count: e.isolatedNodes }, { degree: 2, count: e.nodes - e.isolatedNodes }]);
+  });
+});

@@ -11,7 +11,7 @@ import * as path from 'node:path';
 import { applyEdits, edgeListFixes } from '../../server/src/core/fixes/edgelist-fixes';
 import { checkPaths } from '../../server/src/node/load';
 import { describeFixedCopy, suggestedTarget, writeFixedCopy } from '../../server/src/node/fixed-copy';
-import { encodeNpyInt64 } from '../../server/src/core/formats/write';
+import { encodeNpyInt64 } from '../../server/src/core/formats/npy-write';
 import { readNpy } from '../../server/src/core/formats/npy';
 import { readNpz } from '../../server/src/core/formats/npz';
 import { DEFAULT_LIMITS, type DenseTensor } from '../../server/src/core/formats/types';
@@ -43,6 +43,21 @@ describe('edge-list quick fixes', () => {
     const r = pairs(step2);
     expect(new Set(r.map(String)).size).toBe(r.length);
     expect(r.every(([a, b]) => a !== b)).toBe(true);
+  });
+  it('sparse ids (the karate list renumbered u → 10^7·u + 7): the same fix, per-node memory over the 34 ids', () => {
+    // tests/fixtures/text/karate.edges: Zachary (1977) as NetworkX 2.8 writes it, each edge once;
+    // renumbered here so that the largest id (330000007) is far above the 34 distinct ids.
+    const exp = JSON.parse(fs.readFileSync(path.join(root(), 'tests/fixtures/text/expected.json'), 'utf8'))['karate.edges'];
+    const big = (u: number) => 10_000_000 * u + 7;
+    const text = (exp.edges as number[][]).map(([u, v]) => `${big(u!)} ${big(v!)}`).join('\n') + '\n';
+    const [fix] = edgeListFixes(text, 'members.edges', ['add-reverse-edges']);
+    expect(fix!.count).toBe(exp.undirectedEdges);
+    const out = new Set(pairs(applyEdits(text, fix!.edits)).map(String));
+    const want = new Set((exp.edges as number[][]).flatMap(([u, v]) => [`${big(u!)},${big(v!)}`, `${big(v!)},${big(u!)}`]));
+    expect(out).toEqual(want);
+    const dup = text + `${big(0)} ${big(1)}\n`;
+    const [d] = edgeListFixes(dup, 'members.edges', ['remove-duplicates']);
+    expect(applyEdits(dup, d!.edits)).toBe(text);
   });
   it('shift 1-based ids to 0-based keeps delimiters and other columns', () => {
     const one = 'src,dst,w\n1,2,0.5\n2,3,1.5\n';
@@ -95,6 +110,19 @@ describe('corrected copies of binary files (never over the original)', () => {
     // A second copy does not overwrite the first.
     expect(suggestedTarget(file)).toBe(path.join(dir, 'edge_index.fixed-1.npy'));
     expect(() => writeFixedCopy(file, done.written, report)).toThrow();
+  });
+  it('a copy of a graph with sparse ids keeps its ids (members_edge_index.npy, numpy.save)', () => {
+    // tests/fixtures/sparse/members_edge_index.npy (make_sparse_fixtures.py): ids up to 8962049388,
+    // checked on its 37 distinct ids; the copy must hold the ids the file holds, not 0..36.
+    const file = path.join(dir, 'members_edge_index.npy');
+    fs.copyFileSync(path.join(root(), 'tests/fixtures/sparse/members_edge_index.npy'), file);
+    const original = readNpy(new Uint8Array(fs.readFileSync(file)), file, DEFAULT_LIMITS).tensors[0] as DenseTensor;
+    const report = checkPaths([file]).files[0]!;
+    expect(report.problems.map((p) => p.code)).toContain('sparse-ids');
+    const done = writeFixedCopy(file, undefined, report);
+    const t = readNpy(new Uint8Array(fs.readFileSync(done.written!)), done.written!, DEFAULT_LIMITS).tensors[0] as DenseTensor;
+    expect(t.shape).toEqual(original.shape);
+    expect(Array.from(t.data)).toEqual(Array.from(original.data));
   });
   it('a copy of a list where no edge has its reverse does not guess that it is undirected', () => {
     // The karate club edges as NetworkX writes them (each once), stored as a 2 x E int64 .npy.

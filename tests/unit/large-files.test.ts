@@ -9,7 +9,7 @@ import * as fs from 'node:fs';
 import * as os from 'node:os';
 import * as path from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { encodeNpyInt64 } from '../../server/src/core/formats/write';
+import { encodeNpyInt64 } from '../../server/src/core/formats/npy-write';
 
 const CLI = path.join(__dirname, '../../dist/cli.js');
 const N = 1_500_000;
@@ -68,4 +68,53 @@ describe('large files through the built CLI', () => {
     expect(oor.line).toBe(lines.length); // the last line: "5\t1500000"
     expect(oor.column).toBe(3);
   }, 60_000);
+});
+
+describe('tiny files that name huge ids or node counts, through the built CLI (issue 8)', () => {
+  // tests/fixtures/make_sparse_fixtures.py: written by numpy.savetxt, numpy.save, json.dump,
+  // torch.save and scipy.io.mmwrite; figures from NetworkX / SciPy (expected.json). Before, each
+  // allocated per-node arrays for up to 7·10^9 nodes (11 GB and a hang for `0 1000000000`). The
+  // bound checked here is peak memory (process.resourceUsage().maxRSS of the child), not time.
+  const sdir = path.join(__dirname, '../fixtures/sparse');
+  const sexp = JSON.parse(fs.readFileSync(path.join(sdir, 'expected.json'), 'utf8'));
+  const MAX_RSS_KIB = 200 * 1024;
+
+  /** Runs the CLI on a copy of the fixture alone in a folder; returns exit code, output and peak RSS (KiB). */
+  function cli(name: string, ...argv: string[]) {
+    const dir = fs.mkdtempSync(path.join(tmp, 'alone-'));
+    fs.copyFileSync(path.join(sdir, name), path.join(dir, name));
+    const preload = path.join(tmp, 'rss.cjs');
+    if (!fs.existsSync(preload)) {
+      fs.writeFileSync(preload, "process.on('exit', () => process.stderr.write(`\\nmaxRSS ${process.resourceUsage().maxRSS}\\n`));\n");
+    }
+    const r = spawnSync(process.execPath, ['-r', preload, CLI, ...argv.map((a) => (a === '@' ? path.join(dir, name) : a))],
+      { encoding: 'utf8', timeout: 60_000 });
+    const rss = Number(/maxRSS (\d+)/.exec(r.stderr)?.[1]);
+    return { status: r.status, stdout: r.stdout, stderr: r.stderr, rss };
+  }
+
+  for (const name of ['billion.txt', 'int32max.txt', 'beyond_int32.txt', 'billion_edge_index.npy', 'billion.json',
+    'billion.pt', 'billion.mtx', 'declared_3m.mtx', 'members.edges']) {
+    it(`check ${name}: the library's figures, peak RSS under 200 MiB`, () => {
+      const e = sexp[name];
+      const r = cli(name, 'check', '@', '--json');
+      expect(r.status, r.stderr).toBe(0);
+      expect(JSON.parse(r.stdout).files[0].graph).toMatchObject({
+        nodes: e.nodes, edges: e.edges, components: e.components, isolatedNodes: e.isolatedNodes, selfLoops: e.selfLoops,
+      });
+      expect(r.rss).toBeGreaterThan(0);
+      expect(r.rss).toBeLessThan(MAX_RSS_KIB);
+    }, 60_000);
+  }
+
+  it('the analyses on them answer with a message, within the same memory', () => {
+    for (const name of ['billion.txt', 'billion.mtx']) {
+      for (const argv of [['field', '@', '--node', '0', '--layers', '3'], ['wl', '@'], ['bottlenecks', '@'], ['spectrum', '@', '--k', '2']]) {
+        const r = cli(name, ...argv);
+        expect(r.status, `${argv[0]} ${name}: ${r.stderr}`).toBe(2);
+        expect(r.stderr).toMatch(/sparse|touch only/);
+        expect(r.rss).toBeLessThan(MAX_RSS_KIB);
+      }
+    }
+  }, 120_000);
 });
