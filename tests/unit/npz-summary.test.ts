@@ -9,6 +9,9 @@
  * order, per-column mean and std). graph_stored_bitflip.npz / graph_compressed_badcrc.npz are copies
  * of numpy.savez / savez_compressed files with one bit flipped, and expected.json records what
  * NumPy said loading them ("BadZipFile: Bad CRC-32 for file '…'", from Python's zipfile).
+ * torch.load, on the other hand, makes no CRC check: PyTorch builds miniz with
+ * MINIZ_DISABLE_ZIP_READER_CRC32_CHECKS (its CMake files), and the torch.serialization
+ * set_crc32_options docstring says files saved without CRCs still load; .pt files follow torch.
  */
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
@@ -23,6 +26,8 @@ import { columnStats, tensorStats } from '../../server/src/core/checks/stats';
 import { checkSet } from '../../server/src/core/checks/check-set';
 import { checkGraph } from '../../server/src/core/checks/graph-check';
 import { loadFile } from '../../server/src/node/load';
+import { readPt } from '../../server/src/core/formats/pt';
+import { ptFixture } from './pt-helpers';
 import {
   FIXTURE_DIR, buildZip, bytesOf, expectSum, expectUnreadable, expected, fixture, npyBytes, toNum,
   type JsonNum,
@@ -250,4 +255,20 @@ describe('CRC-32 of every member read (NumPy refuses these files with "Bad CRC-3
       expect(report.problems[0]!.message).toContain(`Cannot read ${file}: member '${f.member}'`);
     });
   }
+});
+
+describe('torch.save archives: no CRC-32 check, as torch.load makes none', () => {
+  it('a torch 1.13 file with every recorded CRC-32 wrong reads as the original does', () => {
+    const original = ptFixture('graph_dict.pt');
+    const bad = original.slice();
+    let flipped = 0;
+    for (let p = 0; p + 46 <= bad.length; p++) {
+      // central directory records (PK 01 02): CRC-32 at +16 (APPNOTE 4.3.12)
+      if (bad[p] === 0x50 && bad[p + 1] === 0x4b && bad[p + 2] === 1 && bad[p + 3] === 2) { bad[p + 16]! ^= 0x01; flipped++; }
+    }
+    const zip = openZip(bad, DEFAULT_LIMITS);
+    expect(flipped).toBe(zip.entries.length);
+    expectUnreadable(() => zip.entries.forEach((e) => zip.readEntry(e)), /fails its CRC-32 check/); // as a plain zip: refused
+    expect(readPt(bad, 'graph_dict.pt', DEFAULT_LIMITS)).toEqual(readPt(original, 'graph_dict.pt', DEFAULT_LIMITS));
+  });
 });

@@ -65,7 +65,10 @@ function openArchive(bytes: Uint8Array, limits: ReadLimits): Layout {
   }
   let zip: ZipArchive;
   try {
-    zip = openZip(bytes, limits);
+    // No CRC-32 check: torch.load makes none (PyTorch builds its zip reader with
+    // MINIZ_DISABLE_ZIP_READER_CRC32_CHECKS, and torch.serialization.set_crc32_options(False)
+    // writes files whose CRCs are not computed, which torch.load still reads).
+    zip = openZip(bytes, limits, { checkCrc: false });
   } catch (e) {
     if (e instanceof UnreadableError) {
       throw new UnreadableError(`not a torch.save archive: ${e.message}`, e.offset);

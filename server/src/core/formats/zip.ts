@@ -4,7 +4,8 @@
  * lazily: stored members come back as views into the input, deflated ones are inflated into a
  * buffer of exactly the declared size, or handed out piece by piece (streamEntry) when they are
  * too large to hold. Every member read is checked against the CRC-32 of its central directory
- * record, as NumPy's zipfile does (it refuses a member with "Bad CRC-32").
+ * record, as NumPy's zipfile does (it refuses a member with "Bad CRC-32") — unless the caller
+ * reads a format whose own reader ignores it (torch.load: see pt.ts).
  *
  * Layout per PKWARE APPNOTE.TXT (sections 4.3.7 local header, 4.3.12 central directory header,
  * 4.3.14–4.3.16 ZIP64 end records and end of central directory, 4.5.3 ZIP64 extra field).
@@ -222,15 +223,21 @@ function parseCentral(bytes: Uint8Array, end: EndRecord): ZipEntry[] {
   return entries;
 }
 
+export interface ZipOptions {
+  /** Compare every member read with its recorded CRC-32 (default true). */
+  checkCrc?: boolean;
+}
+
 /** Opens a ZIP archive held in `bytes`. Throws UnreadableError for anything malformed. */
-export function openZip(bytes: Uint8Array, limits: ReadLimits): ZipArchive {
+export function openZip(bytes: Uint8Array, limits: ReadLimits, options: ZipOptions = {}): ZipArchive {
+  const checkCrc = options.checkCrc ?? true;
   const entries = parseCentral(bytes, findEnd(bytes));
   let inflated = 0;
   let streamed = 0;
   /** Members whose CRC-32 has been verified (readEntry may be asked for one several times). */
   const verified = new Set<ZipEntry>();
   const verify = (entry: ZipEntry, data: Uint8Array, at: number) => {
-    if (verified.has(entry)) return;
+    if (!checkCrc || verified.has(entry)) return;
     const got = crc32(data);
     if (got !== entry.crc32) crcMismatch(entry, got, at);
     verified.add(entry);
@@ -333,7 +340,7 @@ export function openZip(bytes: Uint8Array, limits: ReadLimits): ZipArchive {
       if (!finished) {
         finished = true;
         if (produced !== size) fail(`entry '${name}' declares ${size} uncompressed bytes but inflates to ${produced}`, start);
-        if (crc !== entry.crc32) crcMismatch(entry, crc, start);
+        if (checkCrc && crc !== entry.crc32) crcMismatch(entry, crc, start);
       }
       return null;
     };
@@ -347,7 +354,7 @@ export function openZip(bytes: Uint8Array, limits: ReadLimits): ZipArchive {
           if (produced >= size) return finish();
           const piece = data.subarray(produced, Math.min(size, produced + STORED_PIECE));
           produced += piece.length;
-          crc = crc32(piece, crc);
+          if (checkCrc) crc = crc32(piece, crc);
           return piece;
         },
       };
@@ -370,7 +377,7 @@ export function openZip(bytes: Uint8Array, limits: ReadLimits): ZipArchive {
       if (piece.length > size - produced) fail(`entry '${name}' declares ${size} uncompressed bytes but inflates to more`, start);
       produced += piece.length;
       streamed += piece.length;
-      crc = crc32(piece, crc);
+      if (checkCrc) crc = crc32(piece, crc);
       queue.push(piece);
     });
     let pos = 0;
