@@ -545,6 +545,14 @@ describe('text in other encodings and damaged gzip (messages that say what happe
       expect(e.message).toContain(`iconv -f ${iconv} -t UTF-8`);
       expect(e.message).not.toContain('NUL');
     }
+    // UTF-16 text that is not an edge list is skipped like any other text, decoded to tell.
+    const readme = tfExpected['README_utf16.txt'];
+    expect(readme.firstBytes.slice(0, 4)).toBe('fffe');
+    expect(2 * readme.idLines).toBeLessThanOrEqual(readme.dataLines);
+    const notes = unreadable(() => read(tf('README_utf16.txt'), 'README_utf16.txt'));
+    expect(notes).toBeInstanceOf(NotEdgeListError);
+    expect(notes.message).toMatch(/^not an edge list: it is UTF-16 \(little-endian, with a byte order mark\) text, and 0 of its first \d+ data lines/);
+    expect(() => read(tf('karate_utf16.txt'), 'karate_utf16.txt')).not.toThrow(NotEdgeListError);
     // Converted as the message says, the file is the 78-edge list NetworkX wrote.
     const text = new TextDecoder('utf-16le').decode(tf('karate_utf16.txt')); // drops the BOM
     expect(tensor(readText(text), 'edge_index').shape).toEqual([2, tfExpected['karate_utf16.txt'].count]);

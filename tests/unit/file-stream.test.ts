@@ -133,6 +133,10 @@ describe('large files refused from their first bytes (soak item of issue 8)', ()
     fs.writeFileSync(p, Buffer.concat([Buffer.from([0xff, 0xfe]), Buffer.from(text, 'utf16le')]));
     expect(fs.statSync(p).size).toBeGreaterThan(PROBE_BYTES);
     expect(loadFile(p).error!.message).toMatch(/UTF-16 \(little-endian, with a byte order mark\).*iconv -f UTF-16 -t UTF-8/);
+    // UTF-16 prose is not refused as UTF-16 but skipped as text that is not an edge list.
+    const prose = 'The Larkhaven docks were renumbered in the spring.\n'.repeat(2000);
+    fs.writeFileSync(p, Buffer.concat([Buffer.from([0xff, 0xfe]), Buffer.from(prose, 'utf16le')]));
+    expect(loadFile(p).notEdgeList).toMatch(/^it is UTF-16 \(little-endian, with a byte order mark\) text, and 0 of its first/);
   });
 
   it('the helper stops reading once the parser has refused the file; later reads still work', () => {

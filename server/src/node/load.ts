@@ -16,7 +16,7 @@ import { timed } from '../core/timing';
 import { readNpyStreaming } from './npy-stream';
 import { readArriving } from './file-stream';
 import { NotEdgeListError, notEdgeListReason, readEdgeList, type EdgeListReadResult } from '../core/formats/edgelist';
-import { assertText } from '../core/formats/text-common';
+import { assertText, wideEncoding } from '../core/formats/text-common';
 import type { FileCache } from './service';
 
 export interface LoadOptions {
@@ -190,6 +190,11 @@ function probeText(p: string, format: string, size: number, asEdgeList: boolean)
     fs.closeSync(fd);
   }
   const b = head.subarray(0, got);
+  // UTF-16 text that is not an edge list is skipped like other text, not refused as UTF-16.
+  if (format === 'edgelist' && !asEdgeList && wideEncoding(b)) {
+    const reason = notEdgeListReason(b, false);
+    if (reason !== undefined) throw new NotEdgeListError(reason);
+  }
   assertText(b);
   if (format === 'edgelist' && !asEdgeList) {
     const reason = notEdgeListReason(b, false);

@@ -55,6 +55,7 @@ import {
   TAB,
   bomLength,
   countLF,
+  decodeWide,
   fit,
   growFloat64,
   growInt32,
@@ -71,6 +72,7 @@ import {
   textBytes,
   tokenText,
   utf16Length,
+  wideEncoding,
 } from './text-common';
 
 export type Delimiter = 'whitespace' | 'tab' | ',' | ';' | '|';
@@ -154,6 +156,9 @@ export interface ArrivingBytes {
   waitBeyond(have: number): number;
 }
 
+/** Bytes of UTF-16/32 text decoded to tell an edge list in the wrong encoding from other text. */
+const WIDE_SNIFF_BYTES = 64 * 1024;
+
 /** Bytes a streamed reader waits for before sniffing the layout (the first lines). */
 const SNIFF_PREFIX = 4 * 1024 * 1024;
 
@@ -165,6 +170,15 @@ export function readEdgeList(
     if (fileName.toLowerCase().endsWith('.gz')) throw new Error('a compressed file cannot be read while it arrives');
     avail = 0;
     while (avail < Math.min(bytes.length, SNIFF_PREFIX)) avail = arriving.waitBeyond(avail);
+  }
+  // UTF-16/32 text is refused either way: skipped as other text when its lines are not an edge
+  // list, else refused with the way to convert it (textBytes).
+  if (!options.asEdgeList && !fileName.toLowerCase().endsWith('.gz')) {
+    const head = bytes.subarray(0, Math.min(avail, WIDE_SNIFF_BYTES));
+    if (wideEncoding(head)) {
+      const reason = notEdgeListReason(head, head.length === bytes.length);
+      if (reason !== undefined) throw new NotEdgeListError(reason);
+    }
   }
   let b: Uint8Array;
   if (arriving && !onlyCrLineEnds(bytes.subarray(0, avail))) {
@@ -793,7 +807,9 @@ function isId(b: Uint8Array, s: number, e: number): boolean {
  * bytes end before SNIFF_LINES data lines and the file goes on (`whole` false).
  */
 export function notEdgeListReason(prefix: Uint8Array, whole: boolean): string | undefined {
-  let b = prefix;
+  // UTF-16/32 text is looked at decoded (it is refused either way, but as what depends on this).
+  const wide = wideEncoding(prefix);
+  let b = wide ? new TextEncoder().encode(decodeWide(prefix, wide.decode)) : prefix;
   if (!whole) {
     let last = b.length - 1;
     while (last >= 0 && b[last] !== LF) last--;
@@ -802,7 +818,7 @@ export function notEdgeListReason(prefix: Uint8Array, whole: boolean): string | 
   if (onlyCrLineEnds(b)) return undefined; // read from a converted copy; leave it to the reader
   const layout = sniffLayout(b, bomLength(b));
   if (!whole && layout.dataLines + (layout.headerAt >= 0 ? 1 : 0) < SNIFF_LINES) return undefined;
-  return layout.notEdgeList;
+  return wide && layout.notEdgeList !== undefined ? `it is ${wide.name} text, and ${layout.notEdgeList}` : layout.notEdgeList;
 }
 
 function fieldTexts(b: Uint8Array, sp: FieldSplitter): string[] {
