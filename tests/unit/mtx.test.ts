@@ -215,6 +215,10 @@ describe('banner and size line', () => {
     unreadable(() => readText('%%MatrixMarket matrix array real general\n3 3 9\n'));
     unreadable(() => readText('%%MatrixMarket matrix coordinate real general\n3 -3 1\n1 1 1\n'));
     unreadable(() => readText('%%MatrixMarket matrix array real symmetric\n2 3\n1\n2\n3\n'));
+    // A coordinate file too: mirroring `2 1` of a 3 x 1 skew-symmetric matrix would store (1, 2),
+    // outside the matrix (found by the mutation fuzz test; scipy.io.mmread raises ValueError).
+    expect(unreadable(() => readText('%%MatrixMarket matrix coordinate real skew-symmetric\n3 1 1\n2 1 7.0\n')).message)
+      .toContain('must be square, the size line says 3×1');
   });
 
   it('refuses a truncated array', () => {

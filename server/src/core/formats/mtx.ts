@@ -191,15 +191,15 @@ function readHeader(b: Uint8Array, first: number): Header {
       }
     }
     const [rows, cols] = nums as [number, number];
+    // Mirroring needs a square matrix (NISTIR 5935); a coordinate file would otherwise mirror
+    // entries outside the matrix (SciPy's mmread then fails with "index exceeds matrix dimensions").
+    if (symmetry !== 'general' && rows !== cols) {
+      throw new UnreadableError(`a ${symmetry} matrix must be square, the size line says ${rows}×${cols}`, i, line);
+    }
     let entries: number;
     if (format === 'coordinate') entries = nums[2]!;
     else if (symmetry === 'general') entries = rows * cols;
-    else {
-      if (rows !== cols) {
-        throw new UnreadableError(`a ${symmetry} matrix must be square, the size line says ${rows}×${cols}`, i, line);
-      }
-      entries = symmetry === 'symmetric' ? (rows * (rows + 1)) / 2 : (rows * (rows - 1)) / 2;
-    }
+    else entries = symmetry === 'symmetric' ? (rows * (rows + 1)) / 2 : (rows * (rows - 1)) / 2;
     return { format, field, symmetry, rows, cols, entries, pos: sp.next, line };
   }
 }
