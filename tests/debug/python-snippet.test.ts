@@ -14,7 +14,10 @@ import { afterAll, describe, expect, it } from 'vitest';
 import {
   parseReply, pythonInspectSnippet, replyJson, type PythonReply,
 } from '../../extension/src/debug/snippets';
-import { encodeNpy, encodeNpz } from '../../server/src/core/formats/write';
+import { deflateSync } from 'fflate';
+import { encodeNpy, encodeNpyInt64 } from '../../server/src/core/formats/npy-write';
+import { encodeNpz, encodeZip } from '../../server/src/core/formats/write';
+import { crc32 } from '../../server/src/core/formats/crc32';
 import { readNpz } from '../../server/src/core/formats/npz';
 import { DEFAULT_LIMITS, type DenseTensor, type SparseTensor } from '../../server/src/core/formats/types';
 
@@ -112,6 +115,28 @@ print(json.dumps({k: [str(z[k].dtype), list(z[k].shape), z[k].ravel().tolist()] 
       train_mask: ['bool', [3], [true, false, true]],
       w: ['float16', [2], [1, -2]],
       x: ['float32', [3], [0.5, -1.25, 3]],
+    });
+  });
+});
+
+describe.skipIf(!HAVE_NUMPY)('archives Hopscope writes, read by numpy.load', () => {
+  it('a corrected-copy archive: a deflated member passed through with a data descriptor, a stored one rewritten', () => {
+    const file = join(tmp, 'copy.npz');
+    const ei = encodeNpyInt64([2, 3], [0, 1, 2, 1, 2, 0]);
+    const x = encodeNpy('<f8', [3], new Uint8Array(new Float64Array([0.5, 1.5, -2]).buffer));
+    const deflated = deflateSync(x);
+    writeFileSync(file, encodeZip([
+      { name: 'edge_index.npy', method: 0, data: ei, crc32: crc32(ei), uncompressedSize: ei.length },
+      { name: 'x.npy', method: 8, data: deflated, crc32: crc32(x), uncompressedSize: x.length },
+    ]));
+    const r = spawnSync(PYTHON, ['-c', `import numpy as np, json, zipfile
+z = np.load(${JSON.stringify(file)}, allow_pickle=False)
+print(json.dumps({'test': zipfile.ZipFile(${JSON.stringify(file)}).testzip(),
+                  'arrays': {k: [str(z[k].dtype), list(z[k].shape), z[k].ravel().tolist()] for k in sorted(z.files)}}))`], { encoding: 'utf8' });
+    expect(r.stderr).toBe('');
+    expect(JSON.parse(r.stdout)).toEqual({
+      test: null, // zipfile.testzip(): every member's CRC-32 checks out
+      arrays: { edge_index: ['int64', [2, 3], [0, 1, 2, 1, 2, 0]], x: ['float64', [3], [0.5, 1.5, -2]] },
     });
   });
 });

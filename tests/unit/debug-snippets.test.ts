@@ -17,7 +17,8 @@ import {
   pythonInspectSnippet, replyJson, type JsReply,
 } from '../../extension/src/debug/snippets';
 import { JS_REPL_CHARS, fetchFromJavaScript, type Evaluate } from '../../extension/src/debug/transfer';
-import { encodeNpy, encodeNpz } from '../../server/src/core/formats/write';
+import { encodeNpy } from '../../server/src/core/formats/npy-write';
+import { encodeNpz } from '../../server/src/core/formats/write';
 import { readNpz } from '../../server/src/core/formats/npz';
 import { DEFAULT_LIMITS, type DenseTensor } from '../../server/src/core/formats/types';
 

@@ -8,7 +8,7 @@ import * as os from 'node:os';
 import * as path from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { parseNpy } from '../../server/src/core/formats/npy';
-import { encodeNpyInt64 } from '../../server/src/core/formats/write';
+import { encodeNpyInt64 } from '../../server/src/core/formats/npy-write';
 import { DEFAULT_LIMITS, UnreadableError, type DenseTensor } from '../../server/src/core/formats/types';
 import { readNpyStreaming } from '../../server/src/node/npy-stream';
 

@@ -24,7 +24,7 @@ import {
   denseLaplacian, denseLaplacianSpectrum, laplacianSpectrum, positionalEncoding, type LaplacianKind,
   type SpectrumOptions, type SpectrumResult,
 } from '../../server/src/core/graph/spectrum';
-import { encodeNpyFloat32, npyFloat32Header } from '../../server/src/core/formats/npy-write';
+import { encodeNpyFloat32, npyHeader } from '../../server/src/core/formats/npy-write';
 import { readNpy } from '../../server/src/core/formats/npy';
 import { DEFAULT_LIMITS, type DenseTensor } from '../../server/src/core/formats/types';
 
@@ -387,7 +387,7 @@ describe('.npy float32 writer (NumPy 1.24 numpy.save, fixture)', () => {
   it('headers equal numpy.save\'s byte for byte (64-byte aligned, growth-axis padding)', () => {
     for (const [shape, want] of Object.entries<string>(expected.npy.headers)) {
       const [rows, cols] = shape.split('x').map(Number) as [number, number];
-      const h = npyFloat32Header(rows, cols);
+      const h = npyHeader('<f4', [rows, cols]);
       expect(h.length % 64).toBe(0);
       expect(hex(h)).toBe(want);
     }

@@ -11,7 +11,8 @@
  * the same whether the adapter shows a string as 'text', "text" or text, and a reply cut short by
  * an adapter's display limit is recognisable (no `:END`).
  */
-import { encodeNpy, encodeNpz } from '../../../server/src/core/formats/write';
+import { encodeNpy } from '../../../server/src/core/formats/npy-write';
+import { encodeNpz } from '../../../server/src/core/formats/write';
 import SAVE_VALUE_NPZ_PY from './save_value_npz.py';
 import SAVED_NPZ_FILE_PY from './saved_npz_file.py';
 

@@ -18,7 +18,8 @@ import type { FileReport } from '../core/checks/check-set';
 import { DEFAULT_LIMITS } from '../core/formats/types';
 import { openZip } from '../core/formats/zip';
 import { crc32 } from '../core/formats/crc32';
-import { encodeNpyInt64, encodeZip, replaceSafetensor, type ZipMember } from '../core/formats/write';
+import { encodeZip, replaceSafetensor, type ZipMember } from '../core/formats/write';
+import { encodeNpyInt64 } from '../core/formats/npy-write';
 import { checkPaths } from './load';
 import type { FixedCopyResult } from '../protocol';
 

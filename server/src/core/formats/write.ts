@@ -1,23 +1,38 @@
 /**
- * Encoders for writing corrected copies: an int64 .npy, a ZIP archive (for .npz, members passed
- * through as they were or stored anew) and a safetensors file with one tensor replaced.
- * Pure: bytes in, bytes out.
+ * Encoders for written files: ZIP archives with fflate (an .npz laid out as numpy.savez writes it,
+ * and corrected copies of an .npz with members passed through as they were), and a safetensors
+ * file with one tensor replaced. The .npy encoder is npy-write.ts. Pure: bytes in, bytes out.
+ *
+ * ZIP layout per PKWARE APPNOTE.TXT (REFERENCES.md §1.2).
  */
-import { crc32 } from './crc32';
+import { Zip, zipSync, type ZipInputFile } from 'fflate';
+import { int64Bytes } from './npy-write';
 
-const MAGIC = [0x93, 0x4e, 0x55, 0x4d, 0x50, 0x59];
+/**
+ * Every member's time stamp: 1980-01-01 00:00, the earliest MS-DOS date a ZIP header holds (local
+ * time, as fflate writes it), so the bytes of an archive do not depend on the clock.
+ */
+const ZIP_TIME = new Date(1980, 0, 1);
 
-/** Little-endian int64 bytes of whole numbers. */
-export function int64Bytes(values: ArrayLike<number>): Uint8Array {
-  const out = new Uint8Array(values.length * 8);
-  const dv = new DataView(out.buffer);
-  for (let i = 0; i < values.length; i++) dv.setBigInt64(i * 8, BigInt(values[i]!), true);
-  return out;
+/** Plain ZIP (no ZIP64) offsets and sizes are 32-bit. */
+const ZIP_LIMIT = 0xffffffff;
+
+function checkSize(total: number): void {
+  if (total >= ZIP_LIMIT) throw new Error('archive too large for a plain ZIP');
 }
 
-/** NumPy format 1.0 .npy of an int64 C-order array (header padded to a multiple of 64 bytes). */
-export function encodeNpyInt64(shape: number[], values: ArrayLike<number>): Uint8Array {
-  return encodeNpy('<i8', shape, int64Bytes(values));
+/** An .npz laid out like numpy.savez writes it: one stored (uncompressed) `<name>.npy` member per array. */
+export function encodeNpz(arrays: Array<{ name: string; npy: Uint8Array }>): Uint8Array {
+  let total = 22;
+  const files: Record<string, [Uint8Array, { level: 0 }]> = {};
+  for (const { name, npy } of arrays) {
+    const member = `${name}.npy`;
+    if (Object.prototype.hasOwnProperty.call(files, member)) throw new Error(`two arrays named ${name}`);
+    files[member] = [npy, { level: 0 }];
+    total += 76 + 2 * member.length + npy.length;
+  }
+  checkSize(total);
+  return zipSync(files, { mtime: ZIP_TIME });
 }
 
 export interface ZipMember {
@@ -29,40 +44,34 @@ export interface ZipMember {
   uncompressedSize: number;
 }
 
-/** A ZIP archive of the members (no ZIP64: members and archive below 4 GiB). */
+/**
+ * A ZIP archive of members whose bytes are already in their stored or deflated form (a corrected
+ * copy keeps the other members of an .npz as they were, without inflating and deflating them
+ * again). fflate's streaming writer puts each member's CRC and sizes in a data descriptor after it
+ * (APPNOTE 4.3.9) and in the central directory.
+ */
 export function encodeZip(members: ZipMember[]): Uint8Array {
-  const enc = new TextEncoder();
-  const names = members.map((m) => enc.encode(m.name));
-  let size = 22;
-  members.forEach((m, i) => { size += 30 + names[i]!.length + m.data.length + 46 + names[i]!.length; });
-  if (size >= 0xffffffff) throw new Error('archive too large for a plain ZIP');
-  const out = new Uint8Array(size);
-  const dv = new DataView(out.buffer);
+  let total = 22;
+  for (const m of members) total += 30 + 16 + 46 + 2 * new TextEncoder().encode(m.name).length + m.data.length;
+  checkSize(total);
+  const chunks: Uint8Array[] = [];
+  let failure = null as Error | null;
+  const zip = new Zip((err, chunk) => {
+    if (err) failure = err;
+    else chunks.push(chunk);
+  });
+  for (const m of members) {
+    const file: ZipInputFile = { filename: m.name, size: m.uncompressedSize, crc: m.crc32, compression: m.method, mtime: ZIP_TIME };
+    zip.add(file);
+    file.ondata!(null, m.data as Uint8Array<ArrayBuffer>, true);
+  }
+  zip.end();
+  if (failure) throw failure;
+  let length = 0;
+  for (const c of chunks) length += c.length;
+  const out = new Uint8Array(length);
   let p = 0;
-  const offsets: number[] = [];
-  members.forEach((m, i) => {
-    offsets.push(p);
-    dv.setUint32(p, 0x04034b50, true); dv.setUint16(p + 4, 20, true); dv.setUint16(p + 6, 0, true);
-    dv.setUint16(p + 8, m.method, true); dv.setUint32(p + 10, 0x00210000, true); // 1980-01-01 00:00
-    dv.setUint32(p + 14, m.crc32, true); dv.setUint32(p + 18, m.data.length, true); dv.setUint32(p + 22, m.uncompressedSize, true);
-    dv.setUint16(p + 26, names[i]!.length, true); dv.setUint16(p + 28, 0, true);
-    out.set(names[i]!, p + 30);
-    out.set(m.data, p + 30 + names[i]!.length);
-    p += 30 + names[i]!.length + m.data.length;
-  });
-  const cd = p;
-  members.forEach((m, i) => {
-    dv.setUint32(p, 0x02014b50, true); dv.setUint16(p + 4, 20, true); dv.setUint16(p + 6, 20, true); dv.setUint16(p + 8, 0, true);
-    dv.setUint16(p + 10, m.method, true); dv.setUint32(p + 12, 0x00210000, true);
-    dv.setUint32(p + 16, m.crc32, true); dv.setUint32(p + 20, m.data.length, true); dv.setUint32(p + 24, m.uncompressedSize, true);
-    dv.setUint16(p + 28, names[i]!.length, true);
-    dv.setUint32(p + 42, offsets[i]!, true);
-    out.set(names[i]!, p + 46);
-    p += 46 + names[i]!.length;
-  });
-  dv.setUint32(p, 0x06054b50, true);
-  dv.setUint16(p + 8, members.length, true); dv.setUint16(p + 10, members.length, true);
-  dv.setUint32(p + 12, p - cd, true); dv.setUint32(p + 16, cd, true);
+  for (const c of chunks) { out.set(c, p); p += c.length; }
   return out;
 }
 
@@ -102,30 +111,4 @@ export function replaceSafetensor(bytes: Uint8Array, name: string, shape: number
   let p = 8 + head.length;
   for (const d of parts) { result.set(d, p); p += d.length; }
   return result;
-}
-
-/**
- * NumPy format 1.0 .npy of a C-order array. `descr` is the NumPy type string (e.g. '<f8', '<f4',
- * '|b1', '<i8') and `data` holds the elements' bytes already in that byte order.
- */
-export function encodeNpy(descr: string, shape: number[], data: Uint8Array): Uint8Array {
-  const shp = shape.length === 1 ? `(${shape[0]},)` : `(${shape.join(', ')})`;
-  let header = `{'descr': '${descr}', 'fortran_order': False, 'shape': ${shp}, }`;
-  const total = Math.ceil((10 + header.length + 1) / 64) * 64;
-  if (total - 10 > 0xffff) throw new Error('shape too long for a version 1.0 .npy header');
-  header = header.padEnd(total - 11, ' ') + '\n';
-  const out = new Uint8Array(total + data.length);
-  out.set(MAGIC);
-  out[6] = 1; out[7] = 0;
-  out[8] = header.length & 0xff; out[9] = header.length >> 8;
-  for (let i = 0; i < header.length; i++) out[10 + i] = header.charCodeAt(i);
-  out.set(data, total);
-  return out;
-}
-
-/** An .npz laid out like numpy.savez writes it: one stored (uncompressed) `<name>.npy` member per array. */
-export function encodeNpz(arrays: Array<{ name: string; npy: Uint8Array }>): Uint8Array {
-  return encodeZip(arrays.map(({ name, npy }) => ({
-    name: `${name}.npy`, method: 0, data: npy, crc32: crc32(npy), uncompressedSize: npy.length,
-  })));
 }
