@@ -10,7 +10,7 @@ import { registerInspect } from './debug/inspect';
 import {
   DEFAULT_SETTINGS, FixedCopyRequest, RecheckRequest, StatusNotification,
   type FixedCopyResult, type ServerSettings, type StatusParams,
-} from '../../server/src/protocol';
+} from '../../common/protocol';
 
 const GRAPH_GLOB = '**/*.{npy,npz,safetensors,pt,pth,mtx,edges,el,csv,tsv,txt,json,gz}';
 /** Documents the server looks at: text graph files (diagnostics, fixes) and code (path hovers). */

@@ -13,8 +13,8 @@ import type { LanguageClient } from 'vscode-languageclient/node';
 import {
   BottlenecksRequest, FieldViewRequest, FileSummaryRequest, SmoothingRequest, WlClassesRequest,
   type BottlenecksPayload, type FieldViewPayload, type FileSummary, type SmoothingPayload, type WlClassesPayload,
-} from '../../server/src/protocol';
-import { PANEL_VIEW_TYPE, type PanelMessage, type PanelRequest, type PanelState } from '../../webview/src/panel-messages';
+} from '../../common/protocol';
+import { PANEL_VIEW_TYPE, type PanelMessage, type PanelRequest, type PanelState } from '../../common/panel-messages';
 import { makeNonce, panelHtml } from './panel-html';
 
 export const OPEN_FIELD_PANEL = 'hopscope.openFieldPanel';

@@ -7,8 +7,8 @@ import type { LanguageClient } from 'vscode-languageclient/node';
 import {
   FileSummaryRequest, TensorPageRequest, TensorStatsRequest,
   type FileSummary, type TensorPage, type TensorStats,
-} from '../../server/src/protocol';
-import type { ViewerMessage, ViewerRequest } from '../../webview/src/messages';
+} from '../../common/protocol';
+import type { ViewerMessage, ViewerRequest } from '../../common/viewer-messages';
 import { makeNonce, webviewPage } from './webview-page';
 
 export const VIEW_TYPE = 'hopscope.tensorViewer';

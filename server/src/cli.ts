@@ -8,7 +8,7 @@ import { checkPaths, loadManifest, type RelatedProblem, type SkippedFile } from 
 import { useParallelPairBuilder } from './node/pair-build';
 import type { CheckSetOptions, FileReport } from './core/checks/check-set';
 import type { Problem, Severity } from './core/formats/types';
-import { severityAtLeast } from './core/checks/codes';
+import { severityAtLeast } from '../../common/problem-codes';
 import { phaseTotals } from './core/timing';
 import { COMMANDS } from './commands';
 import type { CliIo } from './commands/types';

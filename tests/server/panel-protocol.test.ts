@@ -12,7 +12,7 @@ import * as os from 'node:os';
 import * as path from 'node:path';
 import { ResponseError, type MessageConnection } from 'vscode-jsonrpc/node';
 import { URI } from 'vscode-uri';
-import type { BottlenecksPayload, FieldViewPayload, SmoothingPayload, WlClassesPayload } from '../../server/src/protocol';
+import type { BottlenecksPayload, FieldViewPayload, SmoothingPayload, WlClassesPayload } from '../../common/protocol';
 
 import { ROOT as root, startServer, stopServer, type ServerSession } from './lsp-client';
 

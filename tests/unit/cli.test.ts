@@ -8,7 +8,7 @@ import * as path from 'node:path';
 import * as os from 'node:os';
 import { spawn, spawnSync } from 'node:child_process';
 import { main } from '../../server/src/cli';
-import { ALL_CODES, CODES } from '../../server/src/core/checks/codes';
+import { ALL_CODES, CODES } from '../../common/problem-codes';
 import { checkPaths } from '../../server/src/node/load';
 
 const root = path.join(__dirname, '../..');

@@ -24,7 +24,7 @@ import { StructureAnalyzer } from '../../server/src/core/graph/panel-structure';
 import { edgeCurvature } from '../../server/src/core/graph/curvature';
 import { buildSortedPair } from '../../server/src/core/graph/csr';
 import { simpleUndirected } from '../../server/src/core/graph/simple-undirected';
-import type { FieldViewPayload } from '../../server/src/protocol';
+import type { FieldViewPayload } from '../../common/protocol';
 import { analysisExpected, ANALYSIS_DIR, fixtureGraph, path_, readTensor, undirected } from './analysis-fixtures';
 import { expected as structureExpected, fixture as structureFixture } from './structure-fixtures';
 

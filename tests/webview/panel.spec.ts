@@ -18,7 +18,7 @@ import * as path from 'node:path';
 import { chromium, type Browser, type Page } from 'playwright-core';
 import { panelHtml } from '../../extension/src/panel-html';
 import { AnalysisService } from '../../server/src/node/analysis-service';
-import type { PanelMessage, PanelRequest, PanelState } from '../../webview/src/panel-messages';
+import type { PanelMessage, PanelRequest, PanelState } from '../../common/panel-messages';
 import { expected as structureExpected } from '../unit/structure-fixtures';
 import { groupColour, hopColour, oklab, oklchHex } from '../../webview/src/panel-colours';
 

@@ -14,8 +14,8 @@ import * as path from 'node:path';
 import { chromium, type Browser, type Page } from 'playwright-core';
 import { webviewPage } from '../../extension/src/webview-page';
 import { GraphService } from '../../server/src/node/service';
-import type { ViewerMessage, ViewerRequest } from '../../webview/src/messages';
-import type { FileSummary } from '../../server/src/protocol';
+import type { ViewerMessage, ViewerRequest } from '../../common/viewer-messages';
+import type { FileSummary } from '../../common/protocol';
 
 const root = path.join(__dirname, '../..');
 const ORIGIN = 'https://hopscope.test';

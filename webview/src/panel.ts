@@ -15,8 +15,8 @@ import { zoom as d3zoom, zoomIdentity, type ZoomBehavior, type ZoomTransform } f
 import { quadtree, type Quadtree } from 'd3-quadtree';
 import { scaleBand, scaleLinear, scaleLog } from 'd3-scale';
 import { line as d3line } from 'd3-shape';
-import type { BottlenecksPayload, FieldViewPayload, SmoothingPayload, WlClassesPayload } from '../../server/src/protocol';
-import type { FieldQuery, Flow, PanelMessage, PanelRequest, PanelState, ViewMode } from './panel-messages';
+import type { BottlenecksPayload, FieldViewPayload, SmoothingPayload, WlClassesPayload } from '../../common/protocol';
+import type { FieldQuery, Flow, PanelMessage, PanelRequest, PanelState, ViewMode } from '../../common/panel-messages';
 import { curvatureColour, groupColour, hopColour, isDarkBackground, mix, readTheme, type Theme } from './panel-colours';
 import { startLayout, type LayoutInput } from './panel-layout';
 import { buildSvg, drawCanvas, fitTransform, pngBytes, svgText, type Scene, type Transform } from './panel-render';

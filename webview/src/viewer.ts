@@ -10,10 +10,10 @@ import '@vscode-elements/elements/dist/vscode-tab-header/index.js';
 import '@vscode-elements/elements/dist/vscode-tab-panel/index.js';
 import { select } from 'd3-selection';
 import { scaleBand, scaleLinear } from 'd3-scale';
-import type { ViewerMessage, ViewerRequest, ViewerState } from './messages';
-import type { FileSummary, TensorPage, TensorStats } from '../../server/src/protocol';
+import type { ViewerMessage, ViewerRequest, ViewerState } from '../../common/viewer-messages';
+import type { FileSummary, TensorPage, TensorStats } from '../../common/protocol';
 import type { TensorReport } from '../../server/src/core/checks/check-set';
-import { CODES } from '../../server/src/core/checks/codes';
+import { CODES } from '../../common/problem-codes';
 import type { ProblemCode } from '../../server/src/core/formats/types';
 
 interface VsCodeApi {

@@ -14,7 +14,7 @@ import * as os from 'node:os';
 import * as path from 'node:path';
 import * as vscode from 'vscode';
 import type { LanguageClient } from 'vscode-languageclient/node';
-import { FileSummaryRequest, type FileSummary } from '../../../server/src/protocol';
+import { FileSummaryRequest, type FileSummary } from '../../../common/protocol';
 import { VIEW_TYPE } from '../viewer';
 import { labelFor, languageOfSession, type TensorInfo } from './snippets';
 import { fetchFromJavaScript, fetchFromPython, type Evaluate, type Fetched, type Refused } from './transfer';

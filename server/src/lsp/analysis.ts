@@ -8,7 +8,7 @@ import { URI } from 'vscode-uri';
 import {
   BottlenecksRequest, FieldViewRequest, SmoothingRequest, WlClassesRequest,
   type BottlenecksPayload, type FieldViewPayload, type SmoothingPayload, type WlClassesPayload,
-} from '../protocol';
+} from '../../../common/protocol';
 import type { AnalysisError } from '../node/analysis-service';
 
 /** The worker calls these requests need (WorkerService.api has them). */

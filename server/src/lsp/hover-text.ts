@@ -4,9 +4,9 @@
  */
 import type { FileReport } from '../core/checks/check-set';
 import { isSupportedFile } from '../core/formats';
-import { CODES } from '../core/checks/codes';
+import { CODES } from '../../../common/problem-codes';
 import type { ProblemCode } from '../core/formats/types';
-import type { NodeInfo } from '../protocol';
+import type { NodeInfo } from '../../../common/protocol';
 
 export interface Literal {
   text: string;

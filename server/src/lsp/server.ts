@@ -24,7 +24,7 @@ import type { CheckOutcome } from '../node/service';
 import {
   DEFAULT_SETTINGS, FileSummaryRequest, FixedCopyRequest, NodeInfoRequest, RecheckRequest, StatusNotification,
   TensorPageRequest, TensorStatsRequest, type FileSummary, type ServerSettings, type StatusParams,
-} from '../protocol';
+} from '../../../common/protocol';
 import { writeFixedCopy, describeFixedCopy } from '../node/fixed-copy';
 import { registerAnalysisRequests } from './analysis';
 import {

@@ -17,7 +17,7 @@ import { GraphLoadError, loadGraph, type LoadedGraph } from './graph-input';
 import { manifestsAbove } from './load';
 import type {
   BottlenecksPayload, FieldViewPayload, FieldViewRequest, SmoothingPayload, WlClassesPayload,
-} from '../protocol';
+} from '../../../common/protocol';
 
 export interface AnalysisError { error: string }
 

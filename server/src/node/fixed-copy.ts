@@ -21,7 +21,7 @@ import { crc32 } from '../core/formats/crc32';
 import { encodeZip, replaceSafetensor, type ZipMember } from '../core/formats/write';
 import { encodeNpyInt64 } from '../core/formats/npy-write';
 import { checkPaths } from './load';
-import type { FixedCopyResult } from '../protocol';
+import type { FixedCopyResult } from '../../../common/protocol';
 
 export function suggestedTarget(file: string): string {
   const dir = path.dirname(file);

@@ -12,7 +12,7 @@ import type { Tensor } from '../core/formats/types';
 import { guessRole } from '../core/checks/roles';
 import { columnStats } from '../core/checks/stats';
 import { checkPaths, type LoadOptions } from './load';
-import type { NodeInfo, TensorPage, TensorStats } from '../protocol';
+import type { NodeInfo, TensorPage, TensorStats } from '../../../common/protocol';
 import { AnalysisService } from './analysis-service';
 
 interface CacheEntry {

@@ -4,8 +4,8 @@
  * strings, reading happens in server/src/node.
  */
 import type { Format, Problem, ProblemCode, ReadResult, Severity, Tensor } from '../formats/types';
-import { CODES } from './codes';
-import { checkGraph, type GraphCheck, type GraphFigures, type GraphOptions, type GraphPart } from './graph-check';
+import { CODES } from '../../../../common/problem-codes';
+import { checkGraph, type GraphCheck, type GraphOptions, type GraphPart } from './graph-check';
 import type { Manifest, SeverityOverrides } from './manifest';
 import { guessRole, type RoleGuess } from './roles';
 import { tensorStats } from './stats';
@@ -25,24 +25,8 @@ export interface LoadedManifest {
   error?: string;
 }
 
-export interface TensorReport {
-  name: string;
-  dtype: string;
-  shape: number[];
-  role: string;
-  min: number | null;
-  max: number | null;
-  sum: number | null;
-  nonFinite: number;
-}
-
-export interface FileReport {
-  path: string;
-  format: Format;
-  tensors: TensorReport[];
-  graph: GraphFigures | null;
-  problems: Problem[];
-}
+export type { TensorReport, FileReport } from '../../../../common/report';
+import type { FileReport } from '../../../../common/report';
 
 export interface CheckSetResult {
   files: FileReport[];

@@ -8,11 +8,11 @@ import {
   type DenseTensor, type Problem, type ProblemCode, type ProblemLocation, type Severity,
   type SparseTensor, type Tensor, type TextSpan,
 } from '../formats/types';
-import { CODES } from './codes';
+import { CODES } from '../../../../common/problem-codes';
 import { isFloatDType, isIntegerDType, type RoleGuess, type Split } from './roles';
 import {
   analyseStructure, asymmetricExamples, duplicateExamples, isolatedExamples,
-  type Structure, type StructureFigures,
+  type Structure,
 } from '../graph/figures';
 import { compactIds, denseNodeLimit, isolatedIdExamples } from '../graph/compact';
 
@@ -36,9 +36,8 @@ export interface GraphPart {
   hints?: { nodes?: number; indexBase?: 0 | 1; directed?: boolean };
 }
 
-export interface GraphFigures extends Omit<StructureFigures, 'distinctNonLoopPairs'> {
-  indexBase: 0 | 1;
-}
+export type { GraphFigures } from '../../../../common/report';
+import type { GraphFigures } from '../../../../common/report';
 
 export interface FileProblem {
   file: string;

@@ -16,7 +16,7 @@
  * }
  */
 import type { ProblemCode, Role, Severity } from '../formats/types';
-import { ALL_CODES } from './codes';
+import { ALL_CODES } from '../../../../common/problem-codes';
 import type { Flow, GraphOptions, SelfLoopPolicy } from './graph-check';
 import type { Split } from './roles';
 

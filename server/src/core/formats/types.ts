@@ -119,59 +119,10 @@ export interface SparseTensor {
 
 export type Tensor = DenseTensor | SparseTensor;
 
-export type Format = 'npy' | 'npz' | 'sparse-npz' | 'pt' | 'safetensors' | 'edgelist' | 'mtx' | 'json';
-
-export type Severity = 'error' | 'warning' | 'info';
-
-export type ProblemCode =
-  | 'unreadable'
-  | 'edge-shape'
-  | 'transposed-edge-index'
-  | 'non-integer-index'
-  | 'index-out-of-range'
-  | 'one-based-index'
-  | 'feature-rows-mismatch'
-  | 'label-length-mismatch'
-  | 'mask-length-mismatch'
-  | 'edge-features-rows-mismatch'
-  | 'not-square'
-  | 'asymmetric-adjacency'
-  | 'self-loops'
-  | 'duplicate-edges'
-  | 'isolated-nodes'
-  | 'sparse-ids'
-  | 'non-finite-features'
-  | 'mask-overlap'
-  | 'label-range'
-  | 'empty-graph'
-  | 'skew-symmetric-diagonal'
-  | 'no-graph-tensors';
-
-/** One place a problem shows up. Text formats fill line/column; binary ones tensor/index. */
-export interface ProblemLocation {
-  line?: number;
-  column?: number;
-  length?: number;
-  tensor?: string;
-  /** Flat (C-order) element index in `tensor`. */
-  index?: number;
-  /** A short phrase about this occurrence, e.g. "edge 17: 3 → 40". */
-  detail?: string;
-}
-
-export interface Problem {
-  code: ProblemCode;
-  severity: Severity;
-  message: string;
-  tensor?: string;
-  /** How many offending items there are in all. */
-  count: number;
-  /** First offending place (text formats), 1-based. */
-  line?: number;
-  column?: number;
-  /** The first few offending places (at most MAX_LOCATIONS). */
-  locations?: ProblemLocation[];
-}
+// The report vocabulary (formats, severities, problem codes, problems) is shared by every process:
+// it lives in common/report.ts.
+export type { Format, Severity, ProblemCode, ProblemLocation, Problem } from '../../../../common/report';
+import type { Format, Problem } from '../../../../common/report';
 
 export const MAX_LOCATIONS = 200;
 

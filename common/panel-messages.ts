@@ -3,7 +3,7 @@
  * (extension/src/panel.ts). Both import this file, so each message is checked on both sides.
  * The host relays requests to the language server; the webview draws what comes back.
  */
-import type { BottlenecksPayload, FieldViewPayload, SmoothingPayload, WlClassesPayload } from '../../server/src/protocol';
+import type { BottlenecksPayload, FieldViewPayload, SmoothingPayload, WlClassesPayload } from './protocol';
 
 export type Flow = 'source-to-target' | 'target-to-source';
 export type ViewMode = 'hops' | 'wl' | 'bottlenecks';

@@ -2,7 +2,7 @@
  * The stable problem codes, their default severities and one-line explanations. The README's
  * problem table is checked against this list by a unit test.
  */
-import type { ProblemCode, Severity } from '../formats/types';
+import type { ProblemCode, Severity } from './report';
 
 export interface CodeInfo {
   severity: Severity;

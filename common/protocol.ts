@@ -3,7 +3,7 @@
  * import this file (esbuild bundles it into each), so method names and payload types exist once.
  * Payloads are plain JSON: summaries, pages and histograms, never whole tensors.
  */
-import type { FileReport } from './core/checks/check-set';
+import type { FileReport } from './report';
 
 /** Request, client → server: everything known about one graph file (from the cache when fresh). */
 export namespace FileSummaryRequest {

@@ -2,7 +2,7 @@
  * Messages between the tensor viewer webview and the extension host. Imported by both sides, so
  * the compiler checks that each message is sent and handled with the same shape.
  */
-import type { FileSummary, TensorPage, TensorStats } from '../../server/src/protocol';
+import type { FileSummary, TensorPage, TensorStats } from './protocol';
 
 /** Webview → extension host. */
 export type ViewerRequest =
