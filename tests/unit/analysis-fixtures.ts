@@ -44,7 +44,7 @@ export function fixtureGraph(name: string): FixtureGraph {
   return g;
 }
 
-/** Undirected graph from an edge list, both directions stored (for the small REFERENCES.md graphs). */
+/** Undirected graph from an edge list, both directions stored (for the small graphs of docs/references.md). */
 export function undirected(n: number, edges: Array<[number, number]>): { n: number; fwd: Csr; rev: Csr } {
   const src = new Int32Array(edges.length * 2);
   const dst = new Int32Array(edges.length * 2);

@@ -1,7 +1,7 @@
 /**
  * Bridges of the undirected view.
  *
- * Sources: REFERENCES.md §2.1 (karate: one bridge, (0, 11)) and §2.3 (Florentine families: 5
+ * Sources: docs/references.md §2.1 (karate: one bridge, (0, 11)) and §2.3 (Florentine families: 5
  * bridges, named; Les Misérables: 18; bull: 2); networkx.bridges (NetworkX 2.8) on every graph in
  * tests/fixtures/structure/expected.json, including a random graph with some bridges stored twice,
  * where networkx.bridges on the MultiGraph does not count the doubled edges.
@@ -14,7 +14,7 @@ import { AnalysisCancelled, undirectedFromEdges } from '../../server/src/core/gr
 
 const pairsOf = (b: { u: Int32Array; v: Int32Array }) => Array.from(b.u, (u, k) => [u, b.v[k]!]);
 
-describe('bridges: REFERENCES.md values', () => {
+describe('bridges: docs/references.md values', () => {
   it('karate: one bridge, (0, 11)', () => {
     expect(pairsOf(findBridges(fixture('karate').g))).toEqual([[0, 11]]);
   });

@@ -1,7 +1,7 @@
 /**
  * Forman and balanced Forman curvature.
  *
- * Sources: REFERENCES.md §6 — the definition of balanced Forman curvature (Topping, Di Giovanni,
+ * Sources: docs/references.md §6 — the definition of balanced Forman curvature (Topping, Di Giovanni,
  * Chamberlain, Dong & Bronstein, "Understanding over-squashing and bottlenecks on graphs via
  * curvature", ICLR 2022, Definition 1) and its table of exact values (K_n, C4, C5, C_n, trees, Q_d,
  * grid/torus, K3,3, triangular prism, barbell bridge, Petersen, karate edges and karate summary);
@@ -34,7 +34,7 @@ function allEdges(c: EdgeCurvature, check: (e: number) => void): void {
   for (let e = 0; e < c.m; e++) check(e);
 }
 
-describe('balanced Forman curvature: REFERENCES.md §6 table (Topping et al. 2022)', () => {
+describe('balanced Forman curvature: docs/references.md §6 table (Topping et al. 2022)', () => {
   for (const n of [3, 4, 5]) {
     it(`K${n}: triangles n−2, Forman 6−2n, Forman+3Δ = n, BFC n/(n−1)`, () => {
       const { c } = curv(`complete${n}`);
@@ -141,7 +141,7 @@ describe('balanced Forman curvature: REFERENCES.md §6 table (Topping et al. 202
   });
 });
 
-describe('karate club: REFERENCES.md §6 values', () => {
+describe('karate club: docs/references.md §6 values', () => {
   const { c } = curv('karate');
   const row = (u: number, v: number) => {
     const e = edgeOf(c, u, v);
@@ -228,7 +228,7 @@ describe('ordering and options', () => {
 });
 
 /**
- * Definition 1 of Topping et al. (ICLR 2022) as REFERENCES.md §6 words it, written with plain sets.
+ * Definition 1 of Topping et al. (ICLR 2022) as docs/references.md §6 words it, written with plain sets.
  * This is a second, deliberately naive reading of the same definition (not an outside value): it
  * checks that the fast path (marks, cheaper end first, binary searches next to hubs) counts the
  * same 4-cycles.
@@ -270,7 +270,7 @@ describe('property (fast-check): the fast 4-cycle count equals the set-based rea
 
 describe('top list without computing every edge (lowestBalancedForman)', () => {
   // The bounded search must list exactly what sorting the full computation lists; the full
-  // computation is itself held to REFERENCES.md §6 above. Forced onto the bounded path.
+  // computation is itself held to docs/references.md §6 above. Forced onto the bounded path.
   it('equals the first T of mostNegativeFirst on fixture graphs and random clustered graphs', () => {
     const graphs = ['karate', 'les_miserables'].map((name) => fixture(name).g);
     const rnd = seededRandom(9);

@@ -1,6 +1,6 @@
 /**
  * `hopscope field` through the CLI entry point main(), output captured. Reference values:
- * - karate club field sizes 1, 17, 26, 34 for node 0 (Zachary 1977; ../shared/REFERENCES.md §2.1,
+ * - karate club field sizes 1, 17, 26, 34 for node 0 (Zachary 1977; docs/references.md §2.1,
  *   networkx.karate_club_graph 2.8.8);
  * - influence weights: rows of numpy.linalg.matrix_power of the dense GCN matrix
  *   D̃^-1/2 (A+I) D̃^-1/2 (Kipf & Welling 2017) and of D̃^-1 (A+I)
@@ -39,7 +39,7 @@ function ranked(row: number[]): Array<[number, number]> {
 }
 
 describe('hopscope field --json', () => {
-  it('karate, node 0, 3 layers: exactly the documented keys; REFERENCES.md §2.1 sizes; NumPy influence row', () => {
+  it('karate, node 0, 3 layers: exactly the documented keys; docs/references.md §2.1 sizes; NumPy influence row', () => {
     const j = runJson(['field', KARATE, '--node', '0', '--layers', '3']);
     expect(Object.keys(j)).toEqual(['node', 'layers', 'perHop', 'total', 'coverage', 'influence']);
     expect(j.node).toBe(0);
@@ -113,7 +113,7 @@ describe('hopscope field, table view', () => {
     expect(r.code).toBe(0);
     expect(r.err).toBe('');
     expect(r.out).not.toContain('\x1b[');
-    // node 16: 1, 3, 6, 18 within 0..3 hops (REFERENCES.md §2.1)
+    // node 16: 1, 3, 6, 18 within 0..3 hops (docs/references.md §2.1)
     const rows = r.out.split('\n').filter((l) => /^\s+\d+\s+\d+\s+\d+\s+[\d.]+%/.test(l));
     expect(rows.map((l) => l.trim().split(/\s+/).slice(0, 3).map(Number))).toEqual([[0, 1, 1], [1, 2, 3], [2, 3, 6], [3, 12, 18]]);
     expect(r.out).toContain('18 of 34 nodes (52.9%)');

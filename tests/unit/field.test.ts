@@ -1,9 +1,9 @@
 /**
  * Receptive field and coverage curve, checked against values from outside Hopscope:
  * - Zachary karate club field sizes |N_L(v) ∪ {v}|, L = 0..5, for nodes 0, 33, 16, 11 (Zachary 1977,
- *   computed with networkx.karate_club_graph 2.8.8; ../shared/REFERENCES.md §2.1);
+ *   computed with networkx.karate_club_graph 2.8.8; docs/references.md §2.1);
  * - Petersen graph 1, 4, 10 and the complete binary tree of depth 4 from the root 1, 3, 7, 15, 31
- *   (REFERENCES.md §4, receptive-field sizes);
+ *   (docs/references.md §4, receptive-field sizes);
  * - per-node hop distances for every fixture graph and flow from
  *   networkx.single_source_shortest_path_length (tests/fixtures/make_analysis_fixtures.py →
  *   tests/fixtures/analysis/expected.json), on G.reverse() for source-to-target, on G for
@@ -35,7 +35,7 @@ const MODES: Record<string, FieldOptions> = {
   sym: { symmetrise: true },
 };
 
-describe('receptive field: karate club (Zachary 1977; REFERENCES.md §2.1, networkx 2.8.8)', () => {
+describe('receptive field: karate club (Zachary 1977; docs/references.md §2.1, networkx 2.8.8)', () => {
   // tests/fixtures/graphs/karate.npy: the 156-entry edge index written by make_graph_fixtures.py
   const g = fromEdgeIndexFile('karate.npy', 34);
   const walker = new FieldWalker(g);
@@ -55,7 +55,7 @@ describe('receptive field: karate club (Zachary 1977; REFERENCES.md §2.1, netwo
     });
   }
 
-  it('eccentricities from REFERENCES.md §2.1: node 0 → 3, node 16 → 5, node 33 → 4', () => {
+  it('eccentricities from docs/references.md §2.1: node 0 → 3, node 16 → 5, node 33 → 4', () => {
     for (const [v, ecc] of [[0, 3], [16, 5], [33, 4]] as const) {
       const f = walker.field(v, 8);
       expect(Math.max(...f.hops)).toBe(ecc);
@@ -75,7 +75,7 @@ describe('receptive field: karate club (Zachary 1977; REFERENCES.md §2.1, netwo
   });
 });
 
-describe('receptive field: REFERENCES.md §4 sizes', () => {
+describe('receptive field: docs/references.md §4 sizes', () => {
   it('Petersen graph (networkx.petersen_graph via tests/fixtures/graphs/petersen.npy): 1, 4, 10', () => {
     const g = fromEdgeIndexFile('petersen.npy', 10);
     for (let v = 0; v < 10; v++) expect(cumulative(receptiveField(g, v, 2).perHop)).toEqual([1, 4, 10]);

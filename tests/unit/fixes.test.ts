@@ -1,7 +1,7 @@
 /**
  * Quick fixes and corrected copies. The fixed text / file is re-read and its figures compared with
  * a plain set-based recount written here (independent of the CSR code), and with the problem list.
- * The written .npy must match NumPy's own layout for int64 (REFERENCES.md §1.1: 64-byte aligned
+ * The written .npy must match NumPy's own layout for int64 (docs/references.md §1.1: 64-byte aligned
  * header, '<i8', C order) — checked by the project's reader, which is tested against NumPy files.
  */
 import { describe, expect, it } from 'vitest';

@@ -4,7 +4,7 @@
  *   NetworkX 2.8 (number_of_selfloops, isolates, number_weakly_connected_components),
  *   NumPy 1.24 (np.unique for duplicates, np.isin for missing reverses) and SciPy 1.10
  *   (csgraph.connected_components, connection='weak');
- * - published counts for Zachary's karate club (Zachary 1977; ../shared/REFERENCES.md §2.1:
+ * - published counts for Zachary's karate club (Zachary 1977; docs/references.md §2.1:
  *   34 nodes, 78 edges, 156 directed entries, connected, no self-loops, no isolated nodes).
  */
 import { describe, expect, it } from 'vitest';
@@ -44,13 +44,13 @@ describe('graph figures match NetworkX/NumPy/SciPy on fixture graphs', () => {
     });
   }
 
-  it('karate club: the published counts (Zachary 1977, REFERENCES.md §2.1)', () => {
+  it('karate club: the published counts (Zachary 1977, docs/references.md §2.1)', () => {
     const t = load('karate.npy');
     const check = checkGraph([{ file: 'karate.npy', tensor: t, guess: guessRole(t) }]);
     expect(check.figures).toMatchObject({ nodes: 34, edges: 156, directed: false, selfLoops: 0, isolatedNodes: 0, components: 1 });
     // 78 undirected edges, from NetworkX's karate_club_graph
     expect(expected.graphs.karate.networkx.undirectedEdges).toBe(78);
-    // Degrees from the CSR equal NetworkX's degree sequence (REFERENCES.md lists 16 9 10 6 3 ...).
+    // Degrees from the CSR equal NetworkX's degree sequence (docs/references.md §2.1 lists 16 9 10 6 3 ...).
     const s = check.structure!;
     const degrees = Array.from({ length: 34 }, (_, u) => s.fwd.indptr[u + 1]! - s.fwd.indptr[u]!);
     expect(degrees).toEqual(expected.graphs.karate.networkx.degrees);

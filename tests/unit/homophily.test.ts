@@ -1,6 +1,6 @@
 /**
  * Homophily and degree histograms, checked against:
- * - ../shared/REFERENCES.md §7 worked examples: P6 (A A B B A B) edge 2/5, node 5/12, per node
+ * - docs/references.md §7 worked examples: P6 (A A B B A B) edge 2/5, node 5/12, per node
  *   1, ½, ½, ½, 0, 0; star K_{1,4} 1/2 and 1/2; C6 with alternating labels 0 and 0; karate club with
  *   the `club` attribute 67/78 = 0.858974 and 0.888233 — edge homophily as defined by Zhu et al.
  *   (NeurIPS 2020), node homophily as defined by Pei et al. (ICLR 2020);
@@ -23,7 +23,7 @@ const symOf = (g: { fwd: any; rev: any }) => simpleUndirected(g.fwd, g.rev);
 const tensor = (shape: number[], data: number[], dtype: DenseTensor['dtype'] = 'int64'): DenseTensor =>
   ({ kind: 'dense', name: 'y', dtype, shape, data: dtype.startsWith('float') ? Float64Array.from(data) : Int32Array.from(data) });
 
-describe('REFERENCES.md §7 worked examples (Zhu et al. 2020 edge, Pei et al. 2020 node homophily)', () => {
+describe('docs/references.md §7 worked examples (Zhu et al. 2020 edge, Pei et al. 2020 node homophily)', () => {
   it('P6 with labels A A B B A B: edge 2/5, node 5/12, per node 1, ½, ½, ½, 0, 0', () => {
     const h = homophily(symOf(undirected(6, path_(6))), labels([0, 0, 1, 1, 0, 1]));
     expect(h.edge).toBeCloseTo(2 / 5, 15);

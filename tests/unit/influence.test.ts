@@ -1,13 +1,13 @@
 /**
  * Influence rows (row v of Â^L, GCN normalisation of Kipf & Welling, ICLR 2017, eq. 2), checked against:
- * - ../shared/REFERENCES.md §4 (values computed there with SymPy): P3, C4, K3, star K_{1,3} and P5 rows,
+ * - docs/references.md §4 (values computed there with SymPy): P3, C4, K3, star K_{1,3} and P5 rows,
  *   the row-normalised P5 row at L = 3 (influence distribution in the sense of Xu et al., ICML 2018);
  * - exact SymPy matrix powers of the same small graphs, 20 digits
  *   (tests/fixtures/make_analysis_fixtures.py → tests/fixtures/analysis/expected.json, "small");
  * - dense numpy.linalg.matrix_power rows of D̃^-1/2 (A+I) D̃^-1/2 and D̃^-1 (A+I) on the karate club,
  *   a directed multigraph with loops/duplicates (symmetrised and deduplicated first) and a sparse
  *   random graph (same file, "graphs.*.influence");
- * - the support of the row equals the BFS ball of radius L (REFERENCES.md §4: (Â^L)_ij ≠ 0 exactly
+ * - the support of the row equals the BFS ball of radius L (docs/references.md §4: (Â^L)_ij ≠ 0 exactly
  *   when dist(i, j) ≤ L), with distances from networkx.single_source_shortest_path_length.
  */
 import { describe, expect, it } from 'vitest';
@@ -25,7 +25,7 @@ function expectRow(got: Float64Array, want: number[], tol = TOL): void {
 const fullRow = (g: Parameters<typeof influenceRow>[0], v: number, L: number, opts = {}) =>
   influenceRow(g, v, L, { fullRow: true, ...opts }).row!;
 
-describe('REFERENCES.md §4 closed forms (Kipf & Welling 2017 normalisation; SymPy values)', () => {
+describe('docs/references.md §4 closed forms (Kipf & Welling 2017 normalisation; SymPy values)', () => {
   const s6 = 1 / Math.sqrt(6);
   it('P3: Â rows, Â² rows, Â³ row 0', () => {
     const g = undirected(3, path_(3));

@@ -1,6 +1,6 @@
 /**
  * The .npy and .npz writers against files NumPy 1.24 wrote (tests/fixtures/make_write_fixtures.py →
- * tests/fixtures/write): every byte of an .npy (header layout per numpy.lib.format, NEP 1 / REFERENCES.md
+ * tests/fixtures/write): every byte of an .npy (header layout per numpy.lib.format, NEP 1 / docs/references.md
  * §1.1, including the growth-axis spaces and the full 64 spaces NumPy adds to an already aligned
  * header), and the members of an .npz as numpy.savez stores them. ZIP header fields per PKWARE
  * APPNOTE.TXT 4.3.7 (local file header), 4.3.9 (data descriptor), 4.4.4 (flags). That NumPy itself

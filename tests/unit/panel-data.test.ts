@@ -2,16 +2,16 @@
  * The receptive-field panel's payloads (server/src/core/graph/panel-field.ts, panel-structure.ts,
  * server/src/node/analysis-service.ts), checked against values from outside Hopscope:
  * - karate club field sizes 1, 17, 26 (node 0), 1, 18, 24, 33 (node 33), 1, 3, 6, 18 (node 16):
- *   Zachary 1977 via networkx.karate_club_graph 2.8.8, ../shared/REFERENCES.md §2.1;
+ *   Zachary 1977 via networkx.karate_club_graph 2.8.8, docs/references.md §2.1;
  * - hop distances and the drawn edges against a plain breadth-first search written here over the
  *   raw edge list of the same file;
  * - influence rows of Â^L and coverage-curve percentiles computed by NumPy / NetworkX
  *   (tests/fixtures/analysis/expected.json, written by make_analysis_fixtures.py);
- * - Dirichlet energies of the karate degree vector (REFERENCES.md §8, same expected.json);
- * - 1-WL: karate 1, 11, 27 classes and the NetworkX partition (REFERENCES.md §5,
+ * - Dirichlet energies of the karate degree vector (docs/references.md §8, same expected.json);
+ * - 1-WL: karate 1, 11, 27 classes and the NetworkX partition (docs/references.md §5,
  *   tests/fixtures/structure/expected.json);
  * - curvature of karate edges (0,1), (0,31), (32,33), (0,11) and the single bridge (0,11)
- *   (REFERENCES.md §6, networkx.bridges);
+ *   (docs/references.md §6, networkx.bridges);
  * - no self-loops: walks of exactly L steps on small paths, worked by hand below.
  */
 import { describe, expect, it } from 'vitest';
@@ -81,7 +81,7 @@ describe('field payload: karate club', () => {
     expect(f.centreInField).toBe(true);
   });
 
-  it('other nodes and depths match REFERENCES.md §2.1', () => {
+  it('other nodes and depths match docs/references.md §2.1', () => {
     const cum = (xs: number[]) => xs.map((_, k) => xs.slice(0, k + 1).reduce((a, b) => a + b, 0));
     expect(cum(field(svc, KARATE, 33, 3).perHop)).toEqual([1, 18, 24, 33]);
     expect(cum(field(svc, KARATE, 16, 3).perHop)).toEqual([1, 3, 6, 18]);
@@ -220,7 +220,7 @@ describe('field payload: karate club', () => {
       fs.copyFileSync(path.join(__dirname, '../fixtures/graphs/petersen.npy'), file);
       fs.utimesSync(file, new Date(), new Date(Date.now() + 5000));
       const f = field(s, file, 0, 2);
-      // Petersen: 10 nodes, field sizes 1, 4, 10 (REFERENCES.md §4).
+      // Petersen: 10 nodes, field sizes 1, 4, 10 (docs/references.md §4).
       expect(f.graphNodes).toBe(10);
       expect(f.perHop).toEqual([1, 3, 6]);
     } finally {
@@ -294,7 +294,7 @@ describe('field payload without self-loops: walks of exactly L steps', () => {
 });
 
 describe('smoothing payload', () => {
-  it('Cai–Wang energy of the karate degree vector (REFERENCES.md §8)', () => {
+  it('Cai–Wang energy of the karate degree vector (docs/references.md §8)', () => {
     const s = new AnalysisService().smoothing(KARATE_WITH_X, 8);
     if (!s || 'error' in s) throw new Error('no smoothing curve');
     const exp: number[] = analysisExpected.graphs.karate.energy.caiWang;
@@ -333,7 +333,7 @@ describe('WL classes payload', () => {
 });
 
 describe('bottlenecks payload', () => {
-  it('karate edges: Forman, balanced Forman and the bridge (REFERENCES.md §6)', () => {
+  it('karate edges: Forman, balanced Forman and the bridge (docs/references.md §6)', () => {
     const svc = new AnalysisService();
     const r = svc.bottlenecks(KARATE, [0, 1, 31, 0, 32, 33, 0, 11, 0, 9]);
     if ('error' in r) throw new Error(r.error);

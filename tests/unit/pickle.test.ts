@@ -3,7 +3,7 @@
  * Sources: streams written by CPython 3.11's pickle.dumps at protocols 0–5 and the data.pkl
  * members written by PyTorch 1.13 (Debian python3-torch), both with the values Python gave them
  * (tests/fixtures/make_pt_fixtures.py → tests/fixtures/pt/expected.json); opcode bytes and
- * semantics per CPython's pickletools opcode table (REFERENCES.md §1.7).
+ * semantics per CPython's pickletools opcode table (docs/references.md §1.7).
  */
 import { describe, expect, it } from 'vitest';
 import { existsSync } from 'node:fs';
@@ -66,7 +66,7 @@ describe('CPython pickle.dumps streams, protocols 0-5 (values from CPython 3.11,
 });
 
 describe('torch.save data.pkl streams (PyTorch 1.13, make_pt_fixtures.py)', () => {
-  it('the fixtures use every opcode of the REFERENCES.md §1.7 table', () => {
+  it('the fixtures use every opcode of the docs/references.md §1.7 table', () => {
     const used = new Set(Object.values(ptExpected.files).flatMap((f) => f.opcodes ?? []));
     for (const name of [
       'PROTO', 'EMPTY_DICT', 'EMPTY_LIST', 'MARK', 'BINUNICODE', 'GLOBAL', 'NONE', 'BININT1', 'BININT2', 'BININT',
@@ -104,7 +104,7 @@ describe('torch.save data.pkl streams (PyTorch 1.13, make_pt_fixtures.py)', () =
     for (const [k, want] of Object.entries(py.meta_hex)) expect(tagged(dictGet(meta, k)!)).toEqual({ int: want });
   });
 
-  it('tensors become rebuild nodes over shared storage nodes (REFERENCES.md §1.6)', () => {
+  it('tensors become rebuild nodes over shared storage nodes (docs/references.md §1.6)', () => {
     const v = parseTorch(dataPkl('shared.pt')) as PyValue[];
     expect(v.length).toBe(2);
     const [a, b] = v;

@@ -2,7 +2,7 @@
  * Helpers for the PyTorch reader tests: the pt fixtures and their expected.json, a value-tree →
  * tagged-JSON converter matching make_pt_fixtures.py's `tag()`, and builders that write pickle
  * opcodes and torch.save-shaped archives by hand (opcode bytes per CPython's pickletools table,
- * archive layout per REFERENCES.md §1.6).
+ * archive layout per docs/references.md §1.6).
  */
 import { readFileSync, readdirSync } from 'node:fs';
 import { join } from 'node:path';

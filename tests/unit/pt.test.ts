@@ -3,7 +3,7 @@
  * Every fixture was written by PyTorch 1.13 (Debian python3-torch), see
  * tests/fixtures/make_pt_fixtures.py; expected.json holds what torch computed for each tensor
  * (dtype, shape, float64 sum, first values in C order after strides and offsets). The archive
- * layout and the legacy magic bytes are from REFERENCES.md §1.6. Names (`masks.train`, `[0]`) are
+ * layout and the legacy magic bytes are from docs/references.md §1.6. Names (`masks.train`, `[0]`) are
  * this reader's own convention.
  */
 import { describe, expect, it } from 'vitest';
@@ -69,7 +69,7 @@ describe('every torch.save fixture against the values torch computed (PyTorch 1.
 describe('views, offsets and strides are materialised in C order', () => {
   const facts = (file: string, t: string): PtExpectedTensor => ptExpected.files[file]!.tensors![t]!;
 
-  it('t.t() of a 3x4 matrix: size (4, 3), stride (1, 4) (REFERENCES.md §1.6), every value as torch gave it', () => {
+  it('t.t() of a 3x4 matrix: size (4, 3), stride (1, 4) (docs/references.md §1.6), every value as torch gave it', () => {
     const e = facts('transposed.pt', 'transposed');
     expect([e.contiguous, e.stride]).toEqual([false, [1, 4]]);
     const t = dense('transposed.pt', 'transposed');
@@ -155,7 +155,7 @@ describe('storages', () => {
 });
 
 describe('refused files, with clear messages', () => {
-  it('legacy (pre-1.6) format: starts with the REFERENCES.md §1.6 magic bytes', () => {
+  it('legacy (pre-1.6) format: starts with the docs/references.md §1.6 magic bytes', () => {
     const f = ptExpected.files['legacy.pt']!;
     expect(f.head_hex).toBe('80028a0a6cfc9c46f9206aa85019');
     expectUnreadable(() => read('legacy.pt'), /legacy \(pre-1\.6\) file format.*torch\.save\(obj, path\).*default zip format/);

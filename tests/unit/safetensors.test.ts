@@ -1,7 +1,7 @@
 /**
  * safetensors reader tests.
  * Fixtures: bytes written by tests/fixtures/make_binary_fixtures.py from the published layout
- * (REFERENCES.md §1.4), with values as numpy 1.24 decodes them (expected.json). Two more byte
+ * (docs/references.md §1.4), with values as numpy 1.24 decodes them (expected.json). Two more byte
  * vectors are copied from the tests of the reference implementation (huggingface/safetensors,
  * safetensors/src/tensor.rs: test_serialization and test_empty).
  */
@@ -32,7 +32,7 @@ describe('safetensors fixtures (values as numpy 1.24 decodes them, make_binary_f
     });
   }
 
-  it('REFERENCES.md §1.4 example: N = 160 (a0 00 ..), data from byte 168, 256 bytes', () => {
+  it('docs/references.md §1.4 example: N = 160 (a0 00 ..), data from byte 168, 256 bytes', () => {
     const bytes = fixture('example.safetensors');
     expect(Array.from(bytes.subarray(0, 8))).toEqual([0xa0, 0, 0, 0, 0, 0, 0, 0]);
     expect(bytes.length).toBe(256);

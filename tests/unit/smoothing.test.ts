@@ -1,6 +1,6 @@
 /**
  * Dirichlet-energy smoothing curve, checked against:
- * - ../shared/REFERENCES.md §8 (values computed there with NumPy): degree-normalised energy of
+ * - docs/references.md §8 (values computed there with NumPy): degree-normalised energy of
  *   Cai & Wang, "A Note on Over-Smoothing for Graph Neural Networks" (2020), and the unnormalised
  *   tr(XᵀLX): P4 two-column example 7/3 and 6, P4 e₀ curve, C6 alternating signal (eigenvector of Â
  *   for −1/3, energy × 1/9 per step), C6 e₀ curve, karate degree vector 235.752349, 35.381847, …;
@@ -27,7 +27,7 @@ function close(a: number, b: number, tol: number): void {
   expect(Math.abs(a - b)).toBeLessThanOrEqual(tol * Math.max(1, Math.abs(b)));
 }
 
-describe('REFERENCES.md §8 values (Cai & Wang 2020 energy; unnormalised tr(XᵀLX))', () => {
+describe('docs/references.md §8 values (Cai & Wang 2020 energy; unnormalised tr(XᵀLX))', () => {
   it('P4, X = [[1,0],[0,1],[1,0],[0,1]]: tr(XᵀLX) = 6, Cai–Wang 7/3', () => {
     const e = dirichletEnergies(symOf(undirected(4, path_(4))), matrix([[1, 0], [0, 1], [1, 0], [0, 1]]).data, 2);
     close(e.unnormalised, 6, 1e-15);

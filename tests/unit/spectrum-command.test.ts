@@ -1,7 +1,7 @@
 /**
  * `hopscope spectrum` through the CLI entry point (main(argv, io)).
  *
- * Expected numbers: karate λ2 = 0.468525 (L) and 0.132272 (normalised), REFERENCES.md §3, and the
+ * Expected numbers: karate λ2 = 0.468525 (L) and 0.132272 (normalised), docs/references.md §3, and the
  * SciPy 1.10 / NetworkX 2.8 eigenvalues in tests/fixtures/spectrum/expected.json
  * (tests/fixtures/make_spectrum_fixtures.py); P3 + C4 + K1 normalised 0,0,0,1,1,1,2,2
  * (networkx.normalized_laplacian_matrix, Chung's convention). The written .npy is decoded with

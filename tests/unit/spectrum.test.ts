@@ -2,7 +2,7 @@
  * Laplacian spectra (server/src/core/graph/spectrum.ts) and the float32 .npy writer, checked
  * against values from outside Hopscope:
  *
- * - closed forms from ../shared/REFERENCES.md §3 — Brouwer & Haemers, *Spectra of Graphs* (2012),
+ * - closed forms from docs/references.md §3 — Brouwer & Haemers, *Spectra of Graphs* (2012),
  *   §1.4 for L = D − A, and Chung, *Spectral Graph Theory* (1997), Ch. 1 for the normalised
  *   Laplacian: paths, cycles, complete, star, complete bipartite, hypercube, Petersen; the
  *   multiplicity of 0 = number of components; Chung's convention for isolated nodes; the P4
@@ -97,7 +97,7 @@ function checkResult(g: Csr, r: SpectrumResult): void {
 }
 
 // ---------------------------------------------------------------------------------------------
-// Closed forms (REFERENCES.md §3; Brouwer & Haemers 2012 §1.4, Chung 1997 Ch. 1)
+// Closed forms (docs/references.md §3; Brouwer & Haemers 2012 §1.4, Chung 1997 Ch. 1)
 
 const pathL = (n: number) => asc(range(n).map((k) => 2 - 2 * Math.cos((Math.PI * k) / n)));
 const pathN = (n: number) => asc(range(n).map((k) => 1 - Math.cos((Math.PI * k) / (n - 1))));
@@ -123,8 +123,8 @@ const CLOSED: Record<string, { n: number; combinatorial: number[]; normalized: n
   petersen: { n: 10, combinatorial: [0, ...times(2, 5), ...times(5, 4)], normalized: [0, ...times(2 / 3, 5), ...times(5 / 3, 4)] },
 };
 
-describe('closed-form spectra (Brouwer & Haemers §1.4; Chung Ch. 1; REFERENCES.md §3)', () => {
-  it('the formulas reproduce the numbers listed in REFERENCES.md §3', () => {
+describe('closed-form spectra (Brouwer & Haemers §1.4; Chung Ch. 1; docs/references.md §3)', () => {
+  it('the formulas reproduce the numbers listed in docs/references.md §3', () => {
     expectClose(CLOSED.path4!.combinatorial, [0, 0.585786, 2, 3.414214], 1e-6);
     expectClose(CLOSED.path5!.normalized, [0, 0.292893, 1, 1.707107, 2], 1e-6);
     expectClose(CLOSED.cycle5!.combinatorial, [0, 1.381966, 1.381966, 3.618034, 3.618034], 1e-6);
@@ -218,7 +218,7 @@ describe('components and isolated nodes', () => {
   });
 });
 
-describe('Zachary karate club (REFERENCES.md §3; SciPy fixture)', () => {
+describe('Zachary karate club (docs/references.md §3; SciPy fixture)', () => {
   const g = fixture('karate');
   for (const mode of MODES) {
     it(`λ2 = 0.468525 (L) and 0.132272 (normalised), ${mode.name}`, () => {

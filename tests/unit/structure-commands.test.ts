@@ -1,7 +1,7 @@
 /**
  * `hopscope wl`, `compare` and `bottlenecks` through the CLI entry point (main(argv, io)).
  *
- * Expected numbers: REFERENCES.md §5 (karate 1, 11, 27; the pairs table), §2.1 (karate bridge
+ * Expected numbers: docs/references.md §5 (karate 1, 11, 27; the pairs table), §2.1 (karate bridge
  * (0, 11)), §6 (karate (0,31) = −67/48, the most negative balanced Forman curvature), and
  * NetworkX 2.8 values in tests/fixtures/structure/expected.json (bridges, WL from the club
  * attribute, is_isomorphic).
@@ -25,7 +25,7 @@ const json = (r: { code: number; out: string; err: string }) => {
   return JSON.parse(r.out);
 };
 
-/** A C-order '<i8' .npy of a 2 x E array (NumPy 1.24 layout: 128-byte header, REFERENCES.md §1.1). */
+/** A C-order '<i8' .npy of a 2 x E array (NumPy 1.24 layout: 128-byte header, docs/references.md §1.1). */
 function writeEdgeIndex(file: string, src: ArrayLike<number>, dst: ArrayLike<number>): void {
   const e = src.length;
   let header = `{'descr': '<i8', 'fortran_order': False, 'shape': (2, ${e}), }`;
@@ -106,7 +106,7 @@ describe('hopscope wl', () => {
 });
 
 describe('hopscope compare', () => {
-  // REFERENCES.md §5 pairs table.
+  // docs/references.md §5 pairs table.
   for (const [a, b, rounds] of [['two_k3', 'cycle6', 0], ['c3_c4', 'cycle7', 0], ['decalin', 'bicyclopentyl', 2],
     ['k33', 'prism3', 0], ['petersen', 'prism5', 0], ['rook4', 'shrikhande', 0]] as const) {
     it(`${a} vs ${b}: not distinguishable, not isomorphic`, () => {

@@ -2,7 +2,7 @@
  * 1-WL colour refinement, graph comparison and the exact isomorphism test.
  *
  * Sources:
- *  - REFERENCES.md §5 (classes per round of classic graphs; non-isomorphic pairs 1-WL cannot tell
+ *  - docs/references.md §5 (classes per round of classic graphs; non-isomorphic pairs 1-WL cannot tell
  *    apart: the 2-regular pairs, decalin vs bicyclopentyl from Sato's 2020 survey, K3,3 vs prism,
  *    Petersen vs pentagonal prism, 4x4 rook's graph vs Shrikhande) and §2.1/§2.3 (karate 27
  *    classes, Frucht and Petersen one class).
@@ -22,8 +22,8 @@ import { readEdgeIndexNpy, STRUCTURE_DIR } from './structure-fixtures';
 import * as fs from 'node:fs';
 import * as path from 'node:path';
 
-describe('1-WL classes per round: REFERENCES.md §5 table', () => {
-  // [V] values in REFERENCES.md §5 (and §2.1 for karate, §2.3 for Petersen/Frucht).
+describe('1-WL classes per round: docs/references.md §5 table', () => {
+  // [V] values in docs/references.md §5 (and §2.1 for karate, §2.3 for Petersen/Frucht).
   const table: [string, number[]][] = [
     ['karate', [1, 11, 27]],
     ['les_miserables', [1, 18, 52]],
@@ -46,7 +46,7 @@ describe('1-WL classes per round: REFERENCES.md §5 table', () => {
     });
   }
 
-  it('karate: 27 final classes (REFERENCES.md §2.1: equal to its 27 automorphism orbits)', () => {
+  it('karate: 27 final classes (docs/references.md §2.1: equal to its 27 automorphism orbits)', () => {
     const r = refineWl(fixture('karate').g);
     expect(new Set(r.colours).size).toBe(27);
   });
@@ -67,7 +67,7 @@ describe('1-WL against NetworkX weisfeiler_lehman_subgraph_hashes (every fixture
     const { g, info } = fixture('karate');
     const { src } = readEdgeIndexNpy(path.join(STRUCTURE_DIR, 'karate.npy'));
     expect(src.length).toBe(156);
-    // karate_club_onehot.npy: float32 34 x 2; read its data after the 128-byte header (NumPy 1.24 layout, REFERENCES.md §1.1).
+    // karate_club_onehot.npy: float32 34 x 2; read its data after the 128-byte header (NumPy 1.24 layout, docs/references.md §1.1).
     const buf = fs.readFileSync(path.join(STRUCTURE_DIR, 'karate_club_onehot.npy'));
     expect(buf.readUInt16LE(8)).toBe(118);
     const rows = new Float32Array(buf.buffer.slice(buf.byteOffset + 128, buf.byteOffset + buf.length));
@@ -160,7 +160,7 @@ describe('refinement details', () => {
 });
 
 describe('comparing graphs', () => {
-  // REFERENCES.md §5, pairs table: non-isomorphic, and 1-WL cannot tell them apart.
+  // docs/references.md §5, pairs table: non-isomorphic, and 1-WL cannot tell them apart.
   const pairs: [string, string, number[]][] = [
     ['two_k3', 'cycle6', [1]],
     ['c3_c4', 'cycle7', [1]],

@@ -1,6 +1,6 @@
 /**
  * The one .npy writer: byte for byte what NumPy 1.24's `numpy.save` writes for a C-ordered array
- * (format 1.0, REFERENCES.md §1.1; `numpy.lib.format._write_array_header` / `_wrap_header`):
+ * (format 1.0, docs/references.md §1.1; `numpy.lib.format._write_array_header` / `_wrap_header`):
  *
  *   \x93NUMPY, version 1.0, the header length (uint16 LE), then the header: the dict literal
  *   "{'descr': <descr>, 'fortran_order': False, 'shape': <Python tuple>, }", spare spaces so the

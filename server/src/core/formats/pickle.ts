@@ -10,7 +10,7 @@
  * kept as a named record of its state, which is how saved data objects (edge_index, x, y, masks as
  * attributes) are read.
  *
- * Opcode semantics per CPython's `pickle.py` / `pickletools` opcode table (REFERENCES.md §1.7).
+ * Opcode semantics per CPython's `pickle.py` / `pickletools` opcode table (docs/references.md §1.7).
  */
 import { UnreadableError } from './types';
 import {

@@ -6,7 +6,7 @@
  * copyreg helpers that stand for `cls.__new__` (a record, never the class called). Also the reader
  * of torch.save's persistent ids (storages).
  *
- * The torch rebuild signatures and storage classes per REFERENCES.md §1.6.
+ * The torch rebuild signatures and storage classes per docs/references.md §1.6.
  */
 import { UnreadableError, type DType } from './types';
 import { CallArgumentError, type AllowedCall, type AllowedCalls } from './pickle';
@@ -16,7 +16,7 @@ import {
 } from './pickle-values';
 
 
-/** torch storage class → [element type, torch's type name] (REFERENCES.md §1.6); undefined: known, not read. */
+/** torch storage class → [element type, torch's type name] (docs/references.md §1.6); undefined: known, not read. */
 const STORAGE_TYPES: Record<string, [DType | undefined, string]> = {
   FloatStorage: ['float32', 'float32'],
   DoubleStorage: ['float64', 'float64'],
@@ -280,7 +280,7 @@ export function isAllowedCall(qualified: string): boolean {
 
 /**
  * Persistent-id reader for torch.save: `('storage', torch.XStorage, key, location, numel)`
- * (REFERENCES.md §1.6). The same key always yields the same storage node, so tensors sharing a
+ * (docs/references.md §1.6). The same key always yields the same storage node, so tensors sharing a
  * storage share one node (and the reader decodes the member once).
  */
 export function torchPersistentLoad(): (pid: PyValue, offset: number) => PyStorage {

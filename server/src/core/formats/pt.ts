@@ -1,6 +1,6 @@
 /**
  * PyTorch `.pt` / `.pth` reader for the zip layout `torch.save` has written since PyTorch 1.6
- * (REFERENCES.md §1.6): `<root>/data.pkl` (a pickle, parsed by pickle.ts and never executed; the
+ * (docs/references.md §1.6): `<root>/data.pkl` (a pickle, parsed by pickle.ts and never executed; the
  * only calls it may make are listed in pt-allowed.ts), `<root>/data/<key>` (raw storage bytes),
  * `<root>/version`, and from torch 2.1 `<root>/byteorder`.
  *

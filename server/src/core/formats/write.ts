@@ -3,7 +3,7 @@
  * and corrected copies of an .npz with members passed through as they were), and a safetensors
  * file with one tensor replaced. The .npy encoder is npy-write.ts. Pure: bytes in, bytes out.
  *
- * ZIP layout per PKWARE APPNOTE.TXT (REFERENCES.md §1.2).
+ * ZIP layout per PKWARE APPNOTE.TXT (docs/references.md §1.2).
  */
 import { Zip, zipSync, type ZipInputFile } from 'fflate';
 import { int64Bytes } from './npy-write';
