@@ -6,7 +6,7 @@ import * as fs from 'node:fs';
 import * as path from 'node:path';
 import { readNpy } from '../../server/src/core/formats/npy';
 import { DEFAULT_LIMITS, type DenseTensor } from '../../server/src/core/formats/types';
-import { buildSortedPair, type Csr } from '../../server/src/core/graph/csr';
+import { buildSortedPair, type Csr } from '../../server/src/core/graph/structure/csr';
 
 export const ANALYSIS_DIR = path.join(__dirname, '../fixtures/analysis');
 export const analysisExpected = JSON.parse(fs.readFileSync(path.join(ANALYSIS_DIR, 'expected.json'), 'utf8'));

@@ -9,8 +9,8 @@
 import { describe, expect, it } from 'vitest';
 import fc from 'fast-check';
 import { expected, fixture, fromPairs } from './structure-fixtures';
-import { findBridges } from '../../server/src/core/graph/bridges';
-import { AnalysisCancelled, undirectedFromEdges } from '../../server/src/core/graph/undirected';
+import { findBridges } from '../../server/src/core/graph/structure/bridges';
+import { AnalysisCancelled, undirectedFromEdges } from '../../server/src/core/graph/structure/undirected';
 
 const pairsOf = (b: { u: Int32Array; v: Int32Array }) => Array.from(b.u, (u, k) => [u, b.v[k]!]);
 

@@ -12,7 +12,7 @@ import * as path from 'node:path';
 import { checkPaths } from '../../server/src/node/load';
 import { checkGraph } from '../../server/src/core/checks/graph-check';
 import { guessRole } from '../../server/src/core/checks/roles';
-import { MIN_DENSE_NODES, denseNodeLimit } from '../../server/src/core/graph/compact';
+import { MIN_DENSE_NODES, denseNodeLimit } from '../../server/src/core/graph/structure/compact';
 import type { DenseTensor, Problem } from '../../server/src/core/formats/types';
 import type { FileReport } from '../../server/src/core/checks/check-set';
 

@@ -14,8 +14,8 @@ import { describe, expect, it } from 'vitest';
 import { seededRandom } from './random';
 import fc from 'fast-check';
 import { expected, fixture, fromPairs } from './structure-fixtures';
-import { edgeCurvature, lowestBalancedForman, mostNegativeFirst, type EdgeCurvature } from '../../server/src/core/graph/curvature';
-import { AnalysisCancelled } from '../../server/src/core/graph/undirected';
+import { edgeCurvature, lowestBalancedForman, mostNegativeFirst, type EdgeCurvature } from '../../server/src/core/graph/curvature/curvature';
+import { AnalysisCancelled } from '../../server/src/core/graph/structure/undirected';
 
 const EPS = 12; // digits for toBeCloseTo: exact fractions up to float rounding
 

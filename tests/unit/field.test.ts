@@ -14,9 +14,9 @@ import { describe, expect, it } from 'vitest';
 import * as path from 'node:path';
 import {
   FieldWalker, coverageCurve, percentileSorted, receptiveField, sampleNodes, type FieldOptions,
-} from '../../server/src/core/graph/field';
-import { AnalysisCancelled } from '../../server/src/core/graph/simple-undirected';
-import { buildSortedPair } from '../../server/src/core/graph/csr';
+} from '../../server/src/core/graph/propagation/field';
+import { AnalysisCancelled } from '../../server/src/core/graph/structure/simple-undirected';
+import { buildSortedPair } from '../../server/src/core/graph/structure/csr';
 import { cycle, fixtureGraph, readTensor, undirected } from './analysis-fixtures';
 
 const GRAPHS_DIR = path.join(__dirname, '../fixtures/graphs');

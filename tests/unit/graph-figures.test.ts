@@ -14,8 +14,8 @@ import * as path from 'node:path';
 import { readNpy } from '../../server/src/core/formats/npy';
 import { checkGraph } from '../../server/src/core/checks/graph-check';
 import { guessRole } from '../../server/src/core/checks/roles';
-import { analyseStructure, countComponentsCsr } from '../../server/src/core/graph/figures';
-import { buildSortedPair, hasEdge, transpose, buildCsr } from '../../server/src/core/graph/csr';
+import { analyseStructure, countComponentsCsr } from '../../server/src/core/graph/structure/figures';
+import { buildSortedPair, hasEdge, transpose, buildCsr } from '../../server/src/core/graph/structure/csr';
 import { DEFAULT_LIMITS, type DenseTensor } from '../../server/src/core/formats/types';
 
 const dir = path.join(__dirname, '../fixtures/graphs');

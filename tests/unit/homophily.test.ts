@@ -12,8 +12,8 @@
  */
 import { describe, expect, it } from 'vitest';
 import * as path from 'node:path';
-import { degreeHistograms, homophily, labelVector } from '../../server/src/core/graph/homophily';
-import { simpleUndirected } from '../../server/src/core/graph/simple-undirected';
+import { degreeHistograms, homophily, labelVector } from '../../server/src/core/graph/propagation/homophily';
+import { simpleUndirected } from '../../server/src/core/graph/structure/simple-undirected';
 import type { DenseTensor } from '../../server/src/core/formats/types';
 import { loadGraph } from '../../server/src/node/graph-input';
 import { cycle, fixtureGraph, path_, undirected } from './analysis-fixtures';

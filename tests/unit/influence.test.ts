@@ -11,8 +11,8 @@
  *   when dist(i, j) ≤ L), with distances from networkx.single_source_shortest_path_length.
  */
 import { describe, expect, it } from 'vitest';
-import { InfluencePropagator, influenceRow } from '../../server/src/core/graph/influence';
-import { AnalysisCancelled, simpleUndirected } from '../../server/src/core/graph/simple-undirected';
+import { InfluencePropagator, influenceRow } from '../../server/src/core/graph/propagation/influence';
+import { AnalysisCancelled, simpleUndirected } from '../../server/src/core/graph/structure/simple-undirected';
 import { analysisExpected, cycle, fixtureGraph, path_, undirected } from './analysis-fixtures';
 
 const TOL = 1e-12;

@@ -4,8 +4,8 @@
 // themselves is in graph-figures.test.ts (NetworkX/SciPy); this file compares two builders.
 import * as path from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
-import { sequentialPair, setPairBuilder, buildSortedPair } from '../../server/src/core/graph/csr';
-import { countComponentsCsr } from '../../server/src/core/graph/figures';
+import { sequentialPair, setPairBuilder, buildSortedPair } from '../../server/src/core/graph/structure/csr';
+import { countComponentsCsr } from '../../server/src/core/graph/structure/figures';
 import { PARALLEL_MIN_EDGES, parallelPair, useParallelPairBuilder } from '../../server/src/node/pair-build';
 import { sharedInt32 } from '../../server/src/node/helper-thread';
 import { seededRandom } from './random';

@@ -1,5 +1,5 @@
 /**
- * The receptive-field panel's payloads (server/src/core/graph/panel-field.ts, panel-structure.ts,
+ * The receptive-field panel's payloads (server/src/core/graph/field-view.ts, structure-view.ts,
  * server/src/node/analysis-service.ts), checked against values from outside Hopscope:
  * - karate club field sizes 1, 17, 26 (node 0), 1, 18, 24, 33 (node 33), 1, 3, 6, 18 (node 16):
  *   Zachary 1977 via networkx.karate_club_graph 2.8.8, docs/references.md §2.1;
@@ -19,11 +19,11 @@ import * as fs from 'node:fs';
 import * as os from 'node:os';
 import * as path from 'node:path';
 import { AnalysisService } from '../../server/src/node/analysis-service';
-import { FieldAnalyzer, hash32, plainPropagationRow } from '../../server/src/core/graph/panel-field';
-import { StructureAnalyzer } from '../../server/src/core/graph/panel-structure';
-import { edgeCurvature } from '../../server/src/core/graph/curvature';
-import { buildSortedPair } from '../../server/src/core/graph/csr';
-import { simpleUndirected } from '../../server/src/core/graph/simple-undirected';
+import { FieldAnalyzer, hash32, plainPropagationRow } from '../../server/src/core/graph/field-view';
+import { StructureAnalyzer } from '../../server/src/core/graph/structure-view';
+import { edgeCurvature } from '../../server/src/core/graph/curvature/curvature';
+import { buildSortedPair } from '../../server/src/core/graph/structure/csr';
+import { simpleUndirected } from '../../server/src/core/graph/structure/simple-undirected';
 import type { FieldViewPayload } from '../../common/protocol';
 import { analysisExpected, ANALYSIS_DIR, fixtureGraph, path_, readTensor, undirected } from './analysis-fixtures';
 import { expected as structureExpected, fixture as structureFixture } from './structure-fixtures';

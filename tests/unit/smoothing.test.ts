@@ -11,8 +11,8 @@
  *   a directed multigraph (same file, "graphs.*.energy").
  */
 import { describe, expect, it } from 'vitest';
-import { dirichletEnergies, featureMatrix, smoothingCurve, type FeatureMatrix } from '../../server/src/core/graph/smoothing';
-import { AnalysisCancelled, simpleUndirected } from '../../server/src/core/graph/simple-undirected';
+import { dirichletEnergies, featureMatrix, smoothingCurve, type FeatureMatrix } from '../../server/src/core/graph/propagation/smoothing';
+import { AnalysisCancelled, simpleUndirected } from '../../server/src/core/graph/structure/simple-undirected';
 import type { DenseTensor } from '../../server/src/core/formats/types';
 import { analysisExpected, cycle, fixtureGraph, path_, undirected } from './analysis-fixtures';
 

@@ -14,9 +14,9 @@ import * as path from 'node:path';
 import { main } from '../../server/src/cli';
 import { readNpy } from '../../server/src/core/formats/npy';
 import { DEFAULT_LIMITS, type DenseTensor } from '../../server/src/core/formats/types';
-import { buildSortedPair } from '../../server/src/core/graph/csr';
-import { simpleUndirected } from '../../server/src/core/graph/simple-undirected';
-import { denseLaplacian } from '../../server/src/core/graph/spectrum';
+import { buildSortedPair } from '../../server/src/core/graph/structure/csr';
+import { simpleUndirected } from '../../server/src/core/graph/structure/simple-undirected';
+import { denseLaplacian } from '../../server/src/core/graph/spectral/spectrum';
 
 const DIR = path.join(__dirname, '../fixtures/spectrum');
 const expected = JSON.parse(fs.readFileSync(path.join(DIR, 'expected.json'), 'utf8'));

@@ -18,12 +18,12 @@
 import { describe, expect, it } from 'vitest';
 import * as fs from 'node:fs';
 import * as path from 'node:path';
-import { buildSortedPair, type Csr } from '../../server/src/core/graph/csr';
-import { AnalysisCancelled, simpleUndirected } from '../../server/src/core/graph/simple-undirected';
+import { buildSortedPair, type Csr } from '../../server/src/core/graph/structure/csr';
+import { AnalysisCancelled, simpleUndirected } from '../../server/src/core/graph/structure/simple-undirected';
 import {
   denseLaplacian, denseLaplacianSpectrum, laplacianSpectrum, positionalEncoding, type LaplacianKind,
   type SpectrumOptions, type SpectrumResult,
-} from '../../server/src/core/graph/spectrum';
+} from '../../server/src/core/graph/spectral/spectrum';
 import { encodeNpyFloat32, npyHeader } from '../../server/src/core/formats/npy-write';
 import { readNpy } from '../../server/src/core/formats/npy';
 import { DEFAULT_LIMITS, type DenseTensor } from '../../server/src/core/formats/types';

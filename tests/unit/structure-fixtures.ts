@@ -6,7 +6,7 @@
  */
 import * as fs from 'node:fs';
 import * as path from 'node:path';
-import { undirectedFromEdges, type UndirectedGraph } from '../../server/src/core/graph/undirected';
+import { undirectedFromEdges, type UndirectedGraph } from '../../server/src/core/graph/structure/undirected';
 
 export const STRUCTURE_DIR = path.join(__dirname, '../fixtures/structure');
 

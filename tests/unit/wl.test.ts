@@ -16,8 +16,8 @@ import fc from 'fast-check';
 import { fixture, expected, fromPairs, partitionOf } from './structure-fixtures';
 import {
   colourGroups, compareGraphs, compareWl, isomorphic, refineWl, rowColours, sharedColourCount,
-} from '../../server/src/core/graph/wl';
-import { AnalysisCancelled, undirectedFromEdges, type UndirectedGraph } from '../../server/src/core/graph/undirected';
+} from '../../server/src/core/graph/refinement/wl';
+import { AnalysisCancelled, undirectedFromEdges, type UndirectedGraph } from '../../server/src/core/graph/structure/undirected';
 import { readEdgeIndexNpy, STRUCTURE_DIR } from './structure-fixtures';
 import * as fs from 'node:fs';
 import * as path from 'node:path';

@@ -5,8 +5,8 @@
 import type { CliIo, Command } from './types';
 import { UsageError } from './types';
 import { guarded, loadUndirected, optionalWhole, parseArgs, plural, styler } from './structure-args';
-import { findBridges } from '../core/graph/bridges';
-import { lowestBalancedForman } from '../core/graph/curvature';
+import { findBridges } from '../core/graph/structure/bridges';
+import { lowestBalancedForman } from '../core/graph/curvature/curvature';
 
 const DEFAULT_TOP = 20;
 

@@ -6,8 +6,8 @@
 import type { CliIo, Command } from './types';
 import { UsageError } from './types';
 import { guarded, loadUndirected, optionalWhole, parseArgs, plural, styler } from './structure-args';
-import { compareGraphs } from '../core/graph/wl';
-import { undirectedEdgeCount } from '../core/graph/undirected';
+import { compareGraphs } from '../core/graph/refinement/wl';
+import { undirectedEdgeCount } from '../core/graph/structure/undirected';
 
 const DEFAULT_MAX_NODES = 2000;
 const DEFAULT_BUDGET = 20000;

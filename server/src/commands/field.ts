@@ -8,8 +8,8 @@ import { UsageError } from './types';
 import { guarded, optionalWhole, parseArgs, styler, wholeNumber } from './structure-args';
 import { loadGraph } from '../node/graph-input';
 import type { CheckSetOptions } from '../core/checks/check-set';
-import { FieldWalker, coverageCurve, type Flow } from '../core/graph/field';
-import { influenceRow } from '../core/graph/influence';
+import { FieldWalker, coverageCurve, type Flow } from '../core/graph/propagation/field';
+import { influenceRow } from '../core/graph/propagation/influence';
 
 const MAX_LAYERS = 64;
 const DEFAULT_TOP = 50;

@@ -6,9 +6,9 @@ import * as fs from 'node:fs';
 import type { CliIo, Command } from './types';
 import { UsageError } from './types';
 import { guarded, loadUndirected, parseArgs, plural, styler, wholeNumber } from './structure-args';
-import { laplacianSpectrum, positionalEncoding, type LaplacianKind } from '../core/graph/spectrum';
+import { laplacianSpectrum, positionalEncoding, type LaplacianKind } from '../core/graph/spectral/spectrum';
 import { encodeNpyFloat32 } from '../core/formats/npy-write';
-import { undirectedEdgeCount } from '../core/graph/undirected';
+import { undirectedEdgeCount } from '../core/graph/structure/undirected';
 
 const DEFAULT_TOL = 1e-8;
 

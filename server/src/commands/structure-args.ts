@@ -6,7 +6,7 @@ import type { CliIo } from './types';
 import { UsageError } from './types';
 import { GraphLoadError, loadGraph, type LoadedGraph } from '../node/graph-input';
 import type { CheckSetOptions } from '../core/checks/check-set';
-import { undirectedView, type UndirectedGraph } from '../core/graph/undirected';
+import { undirectedView, type UndirectedGraph } from '../core/graph/structure/undirected';
 
 export interface ParsedArgs {
   files: string[];

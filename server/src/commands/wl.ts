@@ -5,8 +5,8 @@
 import type { CliIo, Command } from './types';
 import { UsageError } from './types';
 import { guarded, loadUndirected, optionalWhole, parseArgs, plural, styler } from './structure-args';
-import { colourGroups, refineWl, rowColours, sharedColourCount } from '../core/graph/wl';
-import { undirectedEdgeCount } from '../core/graph/undirected';
+import { colourGroups, refineWl, rowColours, sharedColourCount } from '../core/graph/refinement/wl';
+import { undirectedEdgeCount } from '../core/graph/structure/undirected';
 
 const DEFAULT_GROUPS = 10;
 const MEMBERS_SHOWN_JSON = 100;

@@ -10,9 +10,9 @@ import * as fs from 'node:fs';
 import * as path from 'node:path';
 import type { CheckSetOptions } from '../core/checks/check-set';
 import type { DenseTensor } from '../core/formats/types';
-import { FieldAnalyzer, smoothingSummary } from '../core/graph/panel-field';
-import { StructureAnalyzer } from '../core/graph/panel-structure';
-import { labelVector } from '../core/graph/homophily';
+import { FieldAnalyzer, smoothingSummary } from '../core/graph/field-view';
+import { StructureAnalyzer } from '../core/graph/structure-view';
+import { labelVector } from '../core/graph/propagation/homophily';
 import { GraphLoadError, loadGraph, type LoadedGraph } from './graph-input';
 import { manifestsAbove } from './load';
 import type {

@@ -4,7 +4,7 @@
  * from the in-range edges plus the per-node tensors.
  */
 import * as path from 'node:path';
-import type { Csr } from '../core/graph/csr';
+import type { Csr } from '../core/graph/structure/csr';
 import type { DenseTensor, Problem } from '../core/formats/types';
 import type { CheckSetOptions } from '../core/checks/check-set';
 import type { GraphFigures, GraphOptions } from '../core/checks/graph-check';

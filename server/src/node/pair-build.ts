@@ -8,8 +8,8 @@
  * the core's synchronous API is kept. Any failure — the helper script missing, the helper not
  * answering, an exception in it — falls back to building on this thread.
  */
-import { sequentialPair, setPairBuilder, sortedCsr, type Csr, type PairBuild, type PairBuilder } from '../core/graph/csr';
-import { countComponentsCsr } from '../core/graph/figures';
+import { sequentialPair, setPairBuilder, sortedCsr, type Csr, type PairBuild, type PairBuilder } from '../core/graph/structure/csr';
+import { countComponentsCsr } from '../core/graph/structure/figures';
 import { dropHelper, getHelper, setHelperScript, sharedInt32, signal, waitWhile } from './helper-thread';
 
 /** Below this many edge entries the second thread is not worth its start-up (~30 ms). */

@@ -6,8 +6,8 @@
 import * as fs from 'node:fs';
 import * as path from 'node:path';
 import type { CheckSetOptions, FileReport, LoadedFile } from '../core/checks/check-set';
-import type { Csr } from '../core/graph/csr';
-import { indexOfId } from '../core/graph/compact';
+import type { Csr } from '../core/graph/structure/csr';
+import { indexOfId } from '../core/graph/structure/compact';
 import type { Tensor } from '../core/formats/types';
 import { guessRole } from '../core/checks/roles';
 import { columnStats } from '../core/checks/stats';

@@ -13,8 +13,8 @@ import { isFloatDType, isIntegerDType, type RoleGuess, type Split } from './role
 import {
   analyseStructure, asymmetricExamples, duplicateExamples, isolatedExamples,
   type Structure,
-} from '../graph/figures';
-import { compactIds, denseNodeLimit, isolatedIdExamples } from '../graph/compact';
+} from '../graph/structure/figures';
+import { compactIds, denseNodeLimit, isolatedIdExamples } from '../graph/structure/compact';
 
 export type SelfLoopPolicy = 'allowed' | 'forbidden';
 export type Flow = 'source-to-target' | 'target-to-source';

@@ -5,9 +5,9 @@
  */
 import { readEdgeList } from '../formats/edgelist';
 import { DEFAULT_LIMITS, type DenseTensor } from '../formats/types';
-import { buildSortedPair } from '../graph/csr';
-import { asymmetricExamples, duplicateExamples } from '../graph/figures';
-import { compactIds, denseNodeLimit } from '../graph/compact';
+import { buildSortedPair } from '../graph/structure/csr';
+import { asymmetricExamples, duplicateExamples } from '../graph/structure/figures';
+import { compactIds, denseNodeLimit } from '../graph/structure/compact';
 
 export interface Edit {
   startLine: number;

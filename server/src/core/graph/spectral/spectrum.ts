@@ -36,8 +36,8 @@
  * the first entry whose magnitude is at least 1e-3 of the largest is positive.
  */
 import { EigenvalueDecomposition, Matrix } from 'ml-matrix';
-import type { Csr } from './csr';
-import { throwIfCancelled, type Cancel } from './simple-undirected';
+import type { Csr } from '../structure/csr';
+import { throwIfCancelled, type Cancel } from '../structure/simple-undirected';
 import { lanczosSmallest, type Deflation, type SymmetricOperator } from './lanczos';
 import { axpy, fixSign, norm, scale } from './vectors';
 

@@ -13,9 +13,9 @@
  * constant over the nodes, so tr(XᵀLX) levels off (or even grows) while the features are in fact
  * fully smoothed. Only on regular graphs are the two proportional.
  */
-import type { Csr } from './csr';
-import type { DenseTensor } from '../formats/types';
-import { throwIfCancelled, type Cancel } from './simple-undirected';
+import type { Csr } from '../structure/csr';
+import type { DenseTensor } from '../../formats/types';
+import { throwIfCancelled, type Cancel } from '../structure/simple-undirected';
 
 export interface FeatureMatrix {
   /** Row-major N x F values. */

@@ -13,9 +13,9 @@
  * counts as visited when its stamp equals the current search's number, so a search never clears
  * an O(N) array and costs O(visited nodes + their edges).
  */
-import type { Csr } from './csr';
-import { throwIfCancelled, type Cancel } from './simple-undirected';
-import { seededRandom } from '../random';
+import type { Csr } from '../structure/csr';
+import { throwIfCancelled, type Cancel } from '../structure/simple-undirected';
+import { seededRandom } from '../../random';
 
 export type Flow = 'source-to-target' | 'target-to-source';
 

@@ -26,9 +26,9 @@
  * Deterministic for a given seed.
  */
 import { EigenvalueDecomposition, Matrix } from 'ml-matrix';
-import { throwIfCancelled, type Cancel } from './simple-undirected';
+import { throwIfCancelled, type Cancel } from '../structure/simple-undirected';
 import { axpy, dot, gramSchmidtSweep, norm, scale } from './vectors';
-import { fillSymmetric, seededRandom } from '../random';
+import { fillSymmetric, seededRandom } from '../../random';
 
 /** y = A x for a symmetric positive semi-definite A of order n. */
 export interface SymmetricOperator {

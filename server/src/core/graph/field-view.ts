@@ -19,11 +19,11 @@
  * an edge to an already chosen node come first (the drawing stays connected), then a fixed hash of
  * (seed, node id) decides. The same graph, node and options always give the same drawing.
  */
-import type { Csr } from './csr';
-import { coverageCurve, FieldWalker, percentileSorted, sampleNodes, type FieldGraph, type Flow } from './field';
-import { InfluencePropagator } from './influence';
-import { simpleUndirected, throwIfCancelled, type Cancel } from './simple-undirected';
-import { featureMatrix, smoothingCurve, type FeatureMatrix, type SmoothingCurve } from './smoothing';
+import type { Csr } from './structure/csr';
+import { coverageCurve, FieldWalker, percentileSorted, sampleNodes, type FieldGraph, type Flow } from './propagation/field';
+import { InfluencePropagator } from './propagation/influence';
+import { simpleUndirected, throwIfCancelled, type Cancel } from './structure/simple-undirected';
+import { featureMatrix, smoothingCurve, type FeatureMatrix, type SmoothingCurve } from './propagation/smoothing';
 import type { DenseTensor } from '../formats/types';
 
 export interface FieldViewOptions {

@@ -4,10 +4,10 @@
  * dropped. Built in O(N + E) by merging the sorted forward and reverse rows.
  */
 import type { Csr } from './csr';
-import { throwIfCancelled, type Cancel } from '../cancel';
+import { throwIfCancelled, type Cancel } from '../../cancel';
 import { undirectedView } from './undirected';
 
-export { AnalysisCancelled, throwIfCancelled, type Cancel } from '../cancel';
+export { AnalysisCancelled, throwIfCancelled, type Cancel } from '../../cancel';
 
 /**
  * Row u = the distinct neighbours w ≠ u of u in either direction, sorted ascending; the row

@@ -10,8 +10,8 @@
  * current support and its edges (two Float64Array(N) buffers and a touched-list, reused between
  * calls on one `InfluencePropagator`). No N x N matrix is ever formed.
  */
-import type { Csr } from './csr';
-import { simpleUndirected, throwIfCancelled, type Cancel } from './simple-undirected';
+import type { Csr } from '../structure/csr';
+import { simpleUndirected, throwIfCancelled, type Cancel } from '../structure/simple-undirected';
 
 export type InfluenceNorm = 'gcn' | 'random-walk';
 

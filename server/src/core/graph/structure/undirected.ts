@@ -13,7 +13,7 @@
  */
 import { buildSortedPair, type Csr } from './csr';
 
-export { AnalysisCancelled, throwIfCancelled, type Cancel } from '../cancel';
+export { AnalysisCancelled, throwIfCancelled, type Cancel } from '../../cancel';
 
 export interface UndirectedGraph extends Csr {
   /** Row u: the neighbours of u, sorted ascending, no repeats, never u itself. */

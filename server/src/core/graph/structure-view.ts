@@ -14,12 +14,12 @@
  * so its curvatures of the drawn edges equal those of the whole graph, at a cost bounded by the
  * neighbourhood of the drawing.
  */
-import { lowerBound } from './csr';
-import { undirectedView, type Cancel, type UndirectedGraph } from './undirected';
-import { colourGroups, refineWl, type WlResult } from './wl';
-import { findBridges, type Bridges } from './bridges';
-import { edgeCurvature } from './curvature';
-import type { Csr } from './csr';
+import { lowerBound } from './structure/csr';
+import { undirectedView, type Cancel, type UndirectedGraph } from './structure/undirected';
+import { colourGroups, refineWl, type WlResult } from './refinement/wl';
+import { findBridges, type Bridges } from './structure/bridges';
+import { edgeCurvature } from './curvature/curvature';
+import type { Csr } from './structure/csr';
 
 export interface WlForNodes {
   /** Classes per refinement round of the whole graph from a uniform start (stable count last). */

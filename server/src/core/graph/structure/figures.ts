@@ -3,7 +3,7 @@
  * nodes, weakly connected components. O(N + E) time, typed arrays only.
  */
 import { buildSortedPair, lowerBound, type Csr } from './csr';
-import { timed } from '../timing';
+import { timed } from '../../timing';
 
 export interface StructureFigures {
   nodes: number;

@@ -19,9 +19,9 @@
  * end, either scan k's row against the marks or binary-search the other end's candidates in it.
  * One edge costs O(d_i + d_j + Σ_k min(d_k, d · log d_k)); heavy around hubs, hence cancellable.
  */
-import type { Cancel, UndirectedGraph } from './undirected';
-import { throwIfCancelled } from './undirected';
-import { lowerBound } from './csr';
+import type { Cancel, UndirectedGraph } from '../structure/undirected';
+import { throwIfCancelled } from '../structure/undirected';
+import { lowerBound } from '../structure/csr';
 
 export interface EdgeCurvature {
   /** Undirected edges, each once. */

@@ -13,9 +13,9 @@
  * no (labelled) neighbours — degree 0 — are excluded from node homophily, since the share is
  * undefined for them; `nodeCounted` says how many nodes the mean is over.
  */
-import type { Csr } from './csr';
-import type { DenseTensor } from '../formats/types';
-import { throwIfCancelled, type Cancel } from './simple-undirected';
+import type { Csr } from '../structure/csr';
+import type { DenseTensor } from '../../formats/types';
+import { throwIfCancelled, type Cancel } from '../structure/simple-undirected';
 
 export interface Homophily {
   /** Edge homophily, or null when no edge has two labelled ends. */

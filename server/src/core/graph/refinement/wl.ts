@@ -22,8 +22,8 @@
 import {
   disjointUnion, throwIfCancelled, undirectedEdgeCount,
   type Cancel, type UndirectedGraph,
-} from './undirected';
-import { lowerBound, sortRange } from './csr';
+} from '../structure/undirected';
+import { lowerBound, sortRange } from '../structure/csr';
 
 // ---------------------------------------------------------------------------------------------
 // Hashing and dense canonical class ids
