@@ -315,12 +315,21 @@ describe('layout sniffing', () => {
 });
 
 describe('empty and unreadable input', () => {
-  it('reads an empty file, or one with only comments, as zero edges', () => {
+  it('reads an empty .el/.edges file, or one with only comments, as zero edges; a .txt without data lines is not taken for a graph', () => {
     for (const text of ['', '\n\n', '# nothing here\n', '\ufeff']) {
-      const r = readText(text);
-      expect(dense(r, 'edge_index').shape).toEqual([2, 0]);
-      expect(r.problems).toEqual([]);
+      for (const name of ['closed.el', 'retired.edges']) {
+        const r = readText(text, name);
+        expect(dense(r, 'edge_index').shape).toEqual([2, 0]);
+        expect(r.problems).toEqual([]);
+      }
+      expect(() => readText(text, 'notes.txt')).toThrow(NotEdgeListError);
+      // A manifest names it as an edge list: read as one, with no edges.
+      const named = readEdgeList(utf8(text), 'notes.txt', DEFAULT_LIMITS, undefined, { asEdgeList: true });
+      expect(dense(named, 'edge_index').shape).toEqual([2, 0]);
     }
+    // A delimited header row alone is an edge list with no rows yet; one line of words is not.
+    expect(dense(readText('source,target\n', 'lanes.csv'), 'edge_index').shape).toEqual([2, 0]);
+    expect(() => readText('Larkhaven dock notes\n', 'notes.txt')).toThrow(/no data lines, only one line of words/);
   });
 
   it('refuses binary data', () => {

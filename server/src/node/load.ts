@@ -17,7 +17,13 @@ import { readNpyStreaming } from './npy-stream';
 import { readArriving } from './file-stream';
 import { NotEdgeListError, notEdgeListReason, readEdgeList, type EdgeListReadResult } from '../core/formats/edgelist';
 import { assertText, wideEncoding } from '../core/formats/text-common';
-import type { FileCache } from './service';
+import { throwIfCancelled, type Cancel } from '../core/cancel';
+
+/** What loadFile consults before reading a file again (the graph store's LRU). */
+export interface FileCache {
+  get(absPath: string, mtimeMs: number, size: number): LoadedFile | undefined;
+  set(absPath: string, mtimeMs: number, size: number, file: LoadedFile): void;
+}
 
 export interface LoadOptions {
   /** Files larger than this are reported unreadable without being read. */
@@ -25,10 +31,17 @@ export interface LoadOptions {
   limits?: ReadLimits;
   /** Folder names never descended into. */
   skipDirs?: ReadonlySet<string>;
-  /** Extra predicate to leave paths out (e.g. the editor's exclude globs). */
+  /**
+   * Extra predicate to leave paths out (the editor's exclude globs): excluded paths are not
+   * walked, not taken as inputs and not read as siblings.
+   */
   exclude?: (absPath: string) => boolean;
   /** Files already read, keyed by absolute path, reused while mtime and size are unchanged. */
   cache?: FileCache;
+  /** Called with the absolute path each time a file is read from disk (not served by `cache`). */
+  onRead?: (absPath: string) => void;
+  /** Looked at between folders of a walk and between files of a check. */
+  cancel?: Cancel;
   /**
    * A text file named on its own (not found in a folder) that is not an edge list is reported
    * `unreadable` ("not an edge list: …") instead of being skipped. For the command line; editors
@@ -68,6 +81,7 @@ export function collect(inputs: string[], opts: LoadOptions = {}): Collected {
     } catch {
       return;
     }
+    throwIfCancelled(opts.cancel);
     entries.sort((a, b) => (a.name < b.name ? -1 : 1));
     for (const e of entries) {
       const p = path.join(dir, e.name);
@@ -81,6 +95,7 @@ export function collect(inputs: string[], opts: LoadOptions = {}): Collected {
     }
   };
   for (const input of inputs) {
+    if (opts.exclude?.(path.resolve(input))) continue;
     let st: fs.Stats;
     try {
       st = fs.statSync(input);
@@ -122,6 +137,7 @@ export function loadFile(p: string, opts: LoadOptions = {}, asEdgeList = false):
       return { path: p, format: reader.format, error: { message: `the file is ${(size / 1024 ** 2).toFixed(0)} MiB, above the ${(max / 1024 ** 2).toFixed(0)} MiB limit for checking` } };
     }
     const limits = opts.limits ?? DEFAULT_LIMITS;
+    opts.onRead?.(abs);
     probeText(p, reader.format, size, asEdgeList);
     const result = timed('read', () => readLarge(p, reader.format, size, limits, asEdgeList))
       ?? timed('read', () => reader.format === 'edgelist'
@@ -133,6 +149,12 @@ export function loadFile(p: string, opts: LoadOptions = {}, asEdgeList = false):
   } catch (e) {
     if (e instanceof NotEdgeListError) {
       return { path: p, format: reader.format, error: { message: e.message }, notEdgeList: e.reason };
+    }
+    if (e instanceof UnreadableError && reader.format === 'edgelist' && !asEdgeList && binaryGenericText(p, e)) {
+      // A .txt/.csv/.tsv holding binary data is some other program's file, not a broken graph: folder
+      // checks skip it like other text that is not an edge list (a named file still says why).
+      const reason = `it holds binary data, not text (${e.message}); only .el and .edges files are taken for edge lists whatever they hold`;
+      return { path: p, format: reader.format, error: { message: `not an edge list: ${reason}` }, notEdgeList: reason };
     }
     if (e instanceof UnreadableError) {
       return { path: p, format: reader.format, error: { message: e.message, ...(e.line !== undefined ? { line: e.line } : {}), ...(e.offset !== undefined ? { offset: e.offset } : {}) } };
@@ -300,7 +322,7 @@ export function checkPaths(inputs: string[], options: CheckSetOptions = {}, load
     const dir = path.dirname(path.resolve(f));
     for (const m of manifestsAbove(dir)) manifestPaths.add(m);
     // Siblings whose names give a role (x.npy beside edge_index.npy).
-    for (const s of siblings(dir)) filePaths.add(s);
+    for (const s of siblings(dir)) if (!load.exclude?.(path.resolve(s))) filePaths.add(s);
   }
   const manifests = [...manifestPaths].map(loadManifest);
   // Files a manifest names are read as it says: text as an edge list, whatever its lines hold.
@@ -318,6 +340,7 @@ export function checkPaths(inputs: string[], options: CheckSetOptions = {}, load
   const skipped: SkippedFile[] = [];
   const loaded: LoadedFile[] = [];
   for (const p of filePaths) {
+    throwIfCancelled(load.cancel);
     if (!readerFor(p) || !fs.existsSync(p)) continue;
     const f = loadFile(p, load, declared.has(p));
     // Text that is not an edge list (a README, a metrics table): left out, and listed when it was
@@ -448,4 +471,9 @@ function isRegularFile(p: string): boolean {
 function displayPath(p: string): string {
   const rel = path.relative(process.cwd(), p);
   return rel && !rel.startsWith('..') && !path.isAbsolute(rel) ? rel : p;
+}
+
+/** A binary-data refusal ("not a text file (NUL byte …)") of a file with a generic text name. */
+function binaryGenericText(p: string, e: UnreadableError): boolean {
+  return /\.(txt|csv|tsv)$/i.test(p) && e.message.startsWith('not a text file');
 }

@@ -199,6 +199,13 @@ export function readEdgeList(
     layout = sniffLayout(b, first);
   }
   if (layout.notEdgeList && !options.asEdgeList) throw new NotEdgeListError(layout.notEdgeList);
+  if (layout.dataLines === 0 && !options.asEdgeList && !emptyEdgeListLikely(fileName, layout)) {
+    throw new NotEdgeListError(layout.headerAt >= 0
+      ? 'it has no data lines, only one line of words (the rule: a file without data lines is an empty edge list only when ' +
+        'named .el or .edges, or when a comma, tab, semicolon or | separates its header). If it is an edge list, name it in hopscope.json to have it read as one.'
+      : 'it has no data lines (the rule: a file without data lines is an empty edge list only when named .el or .edges, ' +
+        'or when a comma, tab, semicolon or | separates its header). If it is an edge list, name it in hopscope.json to have it read as one.');
+  }
   const C = layout.fieldCount;
   const nw = C > 2 ? 1 : 0;
   const na = C > 3 ? C - 3 : 0;
@@ -806,6 +813,19 @@ function isId(b: Uint8Array, s: number, e: number): boolean {
  * say so (the same rule readEdgeList applies); undefined when they say it is one, or when the
  * bytes end before SNIFF_LINES data lines and the file goes on (`whole` false).
  */
+/**
+ * Whether a text file without data lines reads as an empty edge list rather than as other text.
+ * An empty or comment-only `.el`/`.edges` file is an edge list with no edges yet (worth the
+ * empty-graph warning); so is a delimited header row alone (`source,target`). A `.txt`, `.csv` or
+ * `.tsv` that is empty, only comments, or one line of space-separated words (a note, a title) is
+ * not taken for a graph: folder checks skip it instead of warning about an empty graph.
+ */
+function emptyEdgeListLikely(fileName: string, layout: { headerAt: number; delimiter: Delimiter }): boolean {
+  const name = fileName.toLowerCase().replace(/\.gz$/, '');
+  if (name.endsWith('.el') || name.endsWith('.edges')) return true;
+  return layout.headerAt >= 0 && layout.delimiter !== 'whitespace';
+}
+
 export function notEdgeListReason(prefix: Uint8Array, whole: boolean): string | undefined {
   // UTF-16/32 text is looked at decoded (it is refused either way, but as what depends on this).
   const wide = wideEncoding(prefix);
