@@ -4,7 +4,9 @@
  */
 import type { CliIo, Command } from './types';
 import { UsageError } from './types';
-import { guarded, loadUndirected, optionalWhole, parseArgs, plural, styler } from './structure-args';
+import { GRAPH_OPTIONS, graphOptions, guarded, optionalWhole, parseCommandLine } from './args';
+import { plural, styler } from './style';
+import { loadUndirected } from './undirected-input';
 import { findBridges } from '../core/graph/structure/bridges';
 import { lowestBalancedForman } from '../core/graph/curvature/curvature';
 
@@ -41,13 +43,19 @@ minimum stay exact while "balancedFormanMax"/"balancedFormanMean" are null;
 
 Exit codes: 0 = done; 2 = usage error or the file could not be read.`;
 
+const OPTIONS = {
+  ...GRAPH_OPTIONS,
+  top: { type: 'string' },
+  json: { type: 'boolean' },
+} as const;
+
 function run(argv: string[], io: CliIo): number {
   return guarded('bottlenecks', USAGE, io, () => {
-    const args = parseArgs(argv, ['--top'], ['--json']);
-    if (args.files.length !== 1) throw new UsageError(args.files.length ? `one FILE at a time, got ${args.files.length}` : 'no FILE given');
-    const top = optionalWhole(args, '--top') ?? DEFAULT_TOP;
-    const file = args.files[0]!;
-    const { g, base } = loadUndirected(file, args.options, 'bottlenecks', io);
+    const { values: v, positionals: files } = parseCommandLine(argv, OPTIONS);
+    if (files.length !== 1) throw new UsageError(files.length ? `one FILE at a time, got ${files.length}` : 'no FILE given');
+    const top = optionalWhole('--top', v.top) ?? DEFAULT_TOP;
+    const file = files[0]!;
+    const { g, base } = loadUndirected(file, graphOptions(v), 'bottlenecks', io);
     const br = findBridges(g);
     const { curvature: curv, order, computed } = lowestBalancedForman(g, top);
     const complete = computed === curv.m;
@@ -77,7 +85,7 @@ function run(argv: string[], io: CliIo): number {
     };
     const shown = Array.from(order);
 
-    if (args.switches.has('--json')) {
+    if (v.json) {
       const out = {
         bridges: Array.from(br.u, (u, k) => [u + base, br.v[k]! + base]),
         bridgeCount: br.count,
@@ -94,33 +102,33 @@ function run(argv: string[], io: CliIo): number {
 
     const c = styler(io);
     const lines: string[] = [];
-    lines.push(c(1, 'Bottlenecks') + c(2, `  (${file}: ${plural(g.n, 'node')}, ${plural(curv.m, 'edge')} in the undirected view)`));
+    lines.push(c('bold', 'Bottlenecks') + c('dim', `  (${file}: ${plural(g.n, 'node')}, ${plural(curv.m, 'edge')} in the undirected view)`));
     lines.push('');
     if (br.count === 0) {
       lines.push('  No bridges: every edge lies on a cycle.');
     } else {
       const listed = Array.from(br.u.subarray(0, Math.min(br.count, Math.max(top, 1))), (u, k) => `${u + base}–${br.v[k]! + base}`);
       lines.push(`  ${plural(br.count, 'bridge')} (removing one cuts the graph): ${listed.join(', ')}` +
-        (br.count > listed.length ? c(2, ` … +${br.count - listed.length}`) : ''));
+        (br.count > listed.length ? c('dim', ` … +${br.count - listed.length}`) : ''));
     }
     if (curv.m > 0) {
       lines.push('');
-      lines.push(c(1, `Most negatively curved edges`) + c(2, `  (${shown.length} of ${curv.m}, by balanced Forman curvature)`));
+      lines.push(c('bold', `Most negatively curved edges`) + c('dim', `  (${shown.length} of ${curv.m}, by balanced Forman curvature)`));
       const w = Math.max(4, ...shown.map((e) => `${curv.u[e]! + base}–${curv.v[e]! + base}`.length));
-      lines.push(c(2, `  ${'edge'.padEnd(w)}   balanced   Forman   triangles`));
+      lines.push(c('dim', `  ${'edge'.padEnd(w)}   balanced   Forman   triangles`));
       for (const e of shown) {
         const b = curv.balancedForman[e]!;
         const label = `${curv.u[e]! + base}–${curv.v[e]! + base}`.padEnd(w);
         const bs = b.toFixed(4).padStart(8);
-        const mark = isBridge(e) ? c(33, '  bridge') : '';
-        lines.push(`  ${label}   ${b < 0 ? c(31, bs) : bs}   ${String(curv.forman[e]).padStart(6)}   ${String(curv.triangles[e]).padStart(9)}${mark}`);
+        const mark = isBridge(e) ? c('yellow', '  bridge') : '';
+        lines.push(`  ${label}   ${b < 0 ? c('red', bs) : bs}   ${String(curv.forman[e]).padStart(6)}   ${String(curv.triangles[e]).padStart(9)}${mark}`);
       }
       const s = summary as { balancedFormanMean: number | null; formanMean: number; balancedFormanMin: number; balancedFormanMax: number | null };
       lines.push('');
       const bf = complete
         ? `balanced Forman: min ${s.balancedFormanMin.toFixed(4)}, max ${s.balancedFormanMax!.toFixed(4)}, mean ${s.balancedFormanMean!.toFixed(4)}`
         : `balanced Forman: min ${s.balancedFormanMin.toFixed(4)} (computed on the ${plural(computed, 'edge')} that could rank in the list)`;
-      lines.push(c(2, `  ${bf}; Forman: min ${fMin}, max ${fMax}, mean ${s.formanMean.toFixed(3)}`));
+      lines.push(c('dim', `  ${bf}; Forman: min ${fMin}, max ${fMax}, mean ${s.formanMean.toFixed(3)}`));
     }
     io.out(lines.join('\n') + '\n');
     return 0;

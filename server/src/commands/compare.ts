@@ -5,7 +5,9 @@
  */
 import type { CliIo, Command } from './types';
 import { UsageError } from './types';
-import { guarded, loadUndirected, optionalWhole, parseArgs, plural, styler } from './structure-args';
+import { GRAPH_OPTIONS, graphOptions, guarded, optionalWhole, parseCommandLine } from './args';
+import { plural, styler } from './style';
+import { loadUndirected } from './undirected-input';
 import { compareGraphs } from '../core/graph/refinement/wl';
 import { undirectedEdgeCount } from '../core/graph/structure/undirected';
 
@@ -39,19 +41,28 @@ never isomorphic, so isomorphic is then false at any size.
 
 Exit codes: 0 = done; 2 = usage error or a file could not be read.`;
 
+const OPTIONS = {
+  ...GRAPH_OPTIONS,
+  rounds: { type: 'string' },
+  'max-nodes': { type: 'string' },
+  budget: { type: 'string' },
+  json: { type: 'boolean' },
+} as const;
+
 function run(argv: string[], io: CliIo): number {
   return guarded('compare', USAGE, io, () => {
-    const args = parseArgs(argv, ['--rounds', '--max-nodes', '--budget'], ['--json']);
-    if (args.files.length !== 2) throw new UsageError(`two files needed (FILE_A FILE_B), got ${args.files.length}`);
-    const maxRounds = optionalWhole(args, '--rounds');
-    const maxNodes = optionalWhole(args, '--max-nodes') ?? DEFAULT_MAX_NODES;
-    const budget = optionalWhole(args, '--budget') ?? DEFAULT_BUDGET;
-    const [fa, fb] = args.files as [string, string];
-    const a = loadUndirected(fa, args.options, 'compare', io).g;
-    const b = loadUndirected(fb, args.options, 'compare', io).g;
+    const { values: v, positionals: files } = parseCommandLine(argv, OPTIONS);
+    if (files.length !== 2) throw new UsageError(`two files needed (FILE_A FILE_B), got ${files.length}`);
+    const maxRounds = optionalWhole('--rounds', v.rounds);
+    const maxNodes = optionalWhole('--max-nodes', v['max-nodes']) ?? DEFAULT_MAX_NODES;
+    const budget = optionalWhole('--budget', v.budget) ?? DEFAULT_BUDGET;
+    const options = graphOptions(v);
+    const [fa, fb] = files as [string, string];
+    const a = loadUndirected(fa, options, 'compare', io).g;
+    const b = loadUndirected(fb, options, 'compare', io).g;
     const r = compareGraphs(a, b, { ...(maxRounds !== undefined ? { maxRounds } : {}), maxNodes, budget });
 
-    if (args.switches.has('--json')) {
+    if (v.json) {
       const out = {
         wlDistinguishable: r.distinguishable,
         roundsUsed: r.roundsUsed,
@@ -67,25 +78,25 @@ function run(argv: string[], io: CliIo): number {
     const c = styler(io);
     const lines: string[] = [];
     const width = Math.max(fa.length, fb.length);
-    lines.push(c(1, 'Graph comparison') + c(2, '  (undirected views)'));
+    lines.push(c('bold', 'Graph comparison') + c('dim', '  (undirected views)'));
     lines.push(`  A  ${fa.padEnd(width)}  ${plural(a.n, 'node')}, ${plural(undirectedEdgeCount(a), 'edge')}`);
     lines.push(`  B  ${fb.padEnd(width)}  ${plural(b.n, 'node')}, ${plural(undirectedEdgeCount(b), 'edge')}`);
     lines.push('');
     if (r.distinguishable) {
-      lines.push(`  1-WL        ${c(32, 'tells them apart')} at round ${r.roundsUsed}` +
+      lines.push(`  1-WL        ${c('green', 'tells them apart')} at round ${r.roundsUsed}` +
         (r.roundsUsed === 0 ? ' (different node counts)' : ` — a message-passing network with ${plural(r.roundsUsed, 'layer')} or more can separate them`));
     } else if (r.complete) {
-      lines.push(`  1-WL        ${c(33, 'cannot tell them apart')} (colour histograms equal at every round; stable after round ${r.roundsUsed})`);
+      lines.push(`  1-WL        ${c('yellow', 'cannot tell them apart')} (colour histograms equal at every round; stable after round ${r.roundsUsed})`);
     } else {
       lines.push(`  1-WL        no difference within ${plural(r.roundsUsed, 'round')} (--rounds); later rounds might still show one`);
     }
     const iso = r.isomorphic === null
-      ? c(2, `unknown (more than ${maxNodes} nodes, or the search passed ${budget} steps; see --max-nodes, --budget)`)
+      ? c('dim', `unknown (more than ${maxNodes} nodes, or the search passed ${budget} steps; see --max-nodes, --budget)`)
       : r.isomorphic ? 'yes — the same graph up to node numbering' : 'no';
     lines.push(`  Isomorphic  ${iso}`);
     if (!r.distinguishable && r.complete && r.isomorphic === false) {
       lines.push('');
-      lines.push(c(33, '  Different graphs that every message-passing network without node features maps to the same ' +
+      lines.push(c('yellow', '  Different graphs that every message-passing network without node features maps to the same ' +
         'output: add structural features (e.g. cycle counts, random or positional encodings) if the task needs to separate them.'));
     }
     io.out(lines.join('\n') + '\n');

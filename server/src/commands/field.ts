@@ -5,7 +5,8 @@
  */
 import type { CliIo, Command } from './types';
 import { UsageError } from './types';
-import { guarded, optionalWhole, parseArgs, styler, wholeNumber } from './structure-args';
+import { GRAPH_OPTIONS, graphOptions, guarded, oneOf, optionalWhole, parseCommandLine, wholeNumber } from './args';
+import { styler } from './style';
 import { loadGraph } from '../node/graph-input';
 import type { CheckSetOptions } from '../core/checks/check-set';
 import { FieldWalker, coverageCurve, type Flow } from '../core/graph/propagation/field';
@@ -57,25 +58,33 @@ interface FieldArgs {
   options: CheckSetOptions;
 }
 
+const OPTIONS = {
+  ...GRAPH_OPTIONS,
+  node: { type: 'string' },
+  layers: { type: 'string' },
+  top: { type: 'string' },
+  flow: { type: 'string' },
+  symmetrise: { type: 'boolean' },
+  symmetrize: { type: 'boolean' },
+  'random-walk': { type: 'boolean' },
+  curve: { type: 'boolean' },
+  json: { type: 'boolean' },
+} as const;
+
 function parseFieldArgs(argv: string[]): FieldArgs {
-  const a = parseArgs(argv, ['--node', '--layers', '--top', '--flow'], ['--symmetrise', '--symmetrize', '--random-walk', '--curve', '--json']);
-  if (a.files.length === 0) throw new UsageError('no FILE given');
-  if (a.files.length > 1) throw new UsageError(`one FILE at a time, got ${a.files.length}: ${a.files.join(' ')}`);
-  const nodeText = a.values.get('--node');
-  if (nodeText === undefined) throw new UsageError('--node is required');
-  if (/^-\d/.test(nodeText)) throw new UsageError(`--node must be a node id (0 or more), got "${nodeText}"`);
-  const node = wholeNumber('--node', nodeText);
-  const layers = optionalWhole(a, '--layers', 0, MAX_LAYERS);
+  const { values: v, positionals: files } = parseCommandLine(argv, OPTIONS);
+  if (files.length === 0) throw new UsageError('no FILE given');
+  if (files.length > 1) throw new UsageError(`one FILE at a time, got ${files.length}: ${files.join(' ')}`);
+  if (v.node === undefined) throw new UsageError('--node is required');
+  if (/^-\d/.test(v.node)) throw new UsageError(`--node must be a node id (0 or more), got "${v.node}"`);
+  const node = wholeNumber('--node', v.node);
+  const layers = optionalWhole('--layers', v.layers, 0, MAX_LAYERS);
   if (layers === undefined) throw new UsageError('--layers is required');
-  const top = optionalWhole(a, '--top');
-  const flow = a.values.get('--flow');
-  if (flow !== undefined && flow !== 'source-to-target' && flow !== 'target-to-source') {
-    throw new UsageError(`--flow must be source-to-target or target-to-source, got "${flow}"`);
-  }
-  const on = (f: string) => a.switches.has(f);
+  const top = optionalWhole('--top', v.top);
+  const flow = v.flow === undefined ? undefined : oneOf('--flow', v.flow, ['source-to-target', 'target-to-source'] as const);
   return {
-    file: a.files[0]!, node, layers, options: a.options,
-    symmetrise: on('--symmetrise') || on('--symmetrize'), randomWalk: on('--random-walk'), curve: on('--curve'), json: on('--json'),
+    file: files[0]!, node, layers, options: graphOptions(v),
+    symmetrise: v.symmetrise === true || v.symmetrize === true, randomWalk: v['random-walk'] === true, curve: v.curve === true, json: v.json === true,
     ...(flow ? { flow } : {}), ...(top !== undefined ? { top } : {}),
   };
 }
@@ -119,35 +128,35 @@ function fieldReport(argv: string[], io: CliIo): number {
   const pct = (x: number) => `${(100 * x).toFixed(1)}%`;
   const lines: string[] = [];
   const how = args.symmetrise ? 'both ways along every edge' : flow;
-  lines.push(c(1, `Node ${args.node}, ${args.layers} layer${args.layers === 1 ? '' : 's'}`) +
-    c(2, `  (${args.file}: ${g.n} nodes, messages ${how})`));
+  lines.push(c('bold', `Node ${args.node}, ${args.layers} layer${args.layers === 1 ? '' : 's'}`) +
+    c('dim', `  (${args.file}: ${g.n} nodes, messages ${how})`));
   lines.push('');
-  lines.push(c(2, '  hop   new nodes   within reach   share of graph'));
+  lines.push(c('dim', '  hop   new nodes   within reach   share of graph'));
   const maxCount = Math.max(1, ...field.perHop);
   let within = 0;
   field.perHop.forEach((count, k) => {
     within += count;
     const bar = '█'.repeat(Math.round((20 * count) / maxCount));
-    lines.push(`  ${String(k).padStart(3)}   ${String(count).padStart(9)}   ${String(within).padStart(12)}   ${pct(within / g.n).padStart(14)}  ${c(36, bar)}`);
+    lines.push(`  ${String(k).padStart(3)}   ${String(count).padStart(9)}   ${String(within).padStart(12)}   ${pct(within / g.n).padStart(14)}  ${c('cyan', bar)}`);
   });
   lines.push('');
   const full = field.total === g.n;
   lines.push(`  ${field.total} of ${g.n} nodes (${pct(field.coverage)}) can pass a message to node ${args.node} within ${args.layers} layer${args.layers === 1 ? '' : 's'}` +
-    (full ? c(33, ' — the whole graph') : '') + '.');
+    (full ? c('yellow', ' — the whole graph') : '') + '.');
   if (field.perHop.length > 1 && field.perHop[field.perHop.length - 1] === 0 && !full) {
-    lines.push(c(2, `  The field stops growing before layer ${args.layers}: no further nodes can reach it.`));
+    lines.push(c('dim', `  The field stops growing before layer ${args.layers}: no further nodes can reach it.`));
   }
   lines.push('');
   const normName = args.randomWalk ? 'random-walk D̃^-1 (A + I)' : 'GCN D̃^-1/2 (A + I) D̃^-1/2';
-  lines.push(c(1, `Strongest influence on node ${args.node}`) + c(2, `  (row ${args.node} of Â^${args.layers}, ${normName}; ${influence.length} of ${infl.support} nodes)`));
-  lines.push(c(2, '      node   weight       share'));
+  lines.push(c('bold', `Strongest influence on node ${args.node}`) + c('dim', `  (row ${args.node} of Â^${args.layers}, ${normName}; ${influence.length} of ${infl.support} nodes)`));
+  lines.push(c('dim', '      node   weight       share'));
   for (const { node, weight } of influence) {
     lines.push(`  ${String(node).padStart(8)}   ${weight.toFixed(6)}   ${pct(weight / infl.rowSum).padStart(6)}`);
   }
   if (curve) {
     lines.push('');
-    lines.push(c(1, 'Coverage by depth') + c(2, `  (${curve.allNodes ? 'all' : curve.sample.length} nodes${curve.allNodes ? '' : ', fixed sample'})`));
-    lines.push(c(2, '  layers   median    90th pct'));
+    lines.push(c('bold', 'Coverage by depth') + c('dim', `  (${curve.allNodes ? 'all' : curve.sample.length} nodes${curve.allNodes ? '' : ', fixed sample'})`));
+    lines.push(c('dim', '  layers   median    90th pct'));
     curve.layers.forEach((L, i) => lines.push(`  ${String(L).padStart(6)}   ${pct(curve.median[i]!).padStart(6)}   ${pct(curve.p90[i]!).padStart(9)}`));
   }
   io.out(lines.join('\n') + '\n');

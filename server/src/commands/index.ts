@@ -1,8 +1,9 @@
 /**
- * The analysis subcommands of `hopscope` (besides `check`, which lives in cli.ts).
- * Each command registers itself here with one import and one array entry.
+ * The `hopscope` commands. cli.ts dispatches on `name`; each command registers itself here with
+ * one import and one array entry.
  */
 import type { Command } from './types';
+import { checkCommand } from './check';
 import { fieldCommand } from './field';
 import { wlCommand } from './wl';
 import { compareCommand } from './compare';
@@ -10,6 +11,7 @@ import { bottlenecksCommand } from './bottlenecks';
 import { spectrumCommand } from './spectrum';
 
 export const COMMANDS: Command[] = [
+  checkCommand,
   fieldCommand,
   wlCommand,
   compareCommand,

@@ -5,7 +5,9 @@
 import * as fs from 'node:fs';
 import type { CliIo, Command } from './types';
 import { UsageError } from './types';
-import { guarded, loadUndirected, parseArgs, plural, styler, wholeNumber } from './structure-args';
+import { GRAPH_OPTIONS, graphOptions, guarded, oneOf, parseCommandLine, wholeNumber } from './args';
+import { plural, styler } from './style';
+import { loadUndirected } from './undirected-input';
 import { laplacianSpectrum, positionalEncoding, type LaplacianKind } from '../core/graph/spectral/spectrum';
 import { encodeNpyFloat32 } from '../core/formats/npy-write';
 import { undirectedEdgeCount } from '../core/graph/structure/undirected';
@@ -46,6 +48,18 @@ Options:
 Exit codes: 0 = done; 2 = usage error, K out of range, --out exists, or the file could not be
 read or written.`;
 
+const OPTIONS = {
+  ...GRAPH_OPTIONS,
+  k: { type: 'string' },
+  laplacian: { type: 'string' },
+  out: { type: 'string' },
+  tol: { type: 'string' },
+  force: { type: 'boolean' },
+  json: { type: 'boolean' },
+} as const;
+
+const LAPLACIANS = ['combinatorial', 'normalized'] as const satisfies readonly LaplacianKind[];
+
 function parseTol(v: string): number {
   const x = Number(v);
   if (!/^[0-9.eE+-]+$/.test(v) || !Number.isFinite(x) || x < 1e-12 || x > 1e-2) {
@@ -56,27 +70,21 @@ function parseTol(v: string): number {
 
 function run(argv: string[], io: CliIo): number {
   return guarded('spectrum', USAGE, io, () => {
-    const args = parseArgs(argv, ['--k', '--laplacian', '--out', '--tol'], ['--json', '--force']);
-    if (args.files.length !== 1) throw new UsageError(args.files.length ? `one FILE at a time, got ${args.files.length}` : 'no FILE given');
-    const kText = args.values.get('--k');
-    if (kText === undefined) throw new UsageError('--k is required');
-    const k = wholeNumber('--k', kText, 1);
-    const lap = args.values.get('--laplacian') ?? 'combinatorial';
-    if (lap !== 'combinatorial' && lap !== 'normalized') {
-      throw new UsageError(`--laplacian must be combinatorial or normalized, got "${lap}"`);
-    }
-    const kind: LaplacianKind = lap;
-    const tolText = args.values.get('--tol');
-    const tol = tolText === undefined ? DEFAULT_TOL : parseTol(tolText);
-    const out = args.values.get('--out');
-    const force = args.switches.has('--force');
+    const { values: v, positionals: files } = parseCommandLine(argv, OPTIONS);
+    if (files.length !== 1) throw new UsageError(files.length ? `one FILE at a time, got ${files.length}` : 'no FILE given');
+    if (v.k === undefined) throw new UsageError('--k is required');
+    const k = wholeNumber('--k', v.k, 1);
+    const kind: LaplacianKind = v.laplacian === undefined ? 'combinatorial' : oneOf('--laplacian', v.laplacian, LAPLACIANS);
+    const tol = v.tol === undefined ? DEFAULT_TOL : parseTol(v.tol);
+    const out = v.out;
+    const force = v.force === true;
     if (force && out === undefined) throw new UsageError('--force only applies to --out');
     if (out !== undefined && !force && fs.existsSync(out)) {
       throw new UsageError(`--out ${out} already exists; pass --force to replace it`);
     }
 
-    const file = args.files[0]!;
-    const { g } = loadUndirected(file, args.options, 'spectrum', io);
+    const file = files[0]!;
+    const { g } = loadUndirected(file, graphOptions(v), 'spectrum', io);
     if (k > g.n) throw new UsageError(`--k ${k} is more than the ${plural(g.n, 'node')} of ${file}`);
     const r = laplacianSpectrum(g, k, { laplacian: kind, tol });
 
@@ -96,7 +104,7 @@ function run(argv: string[], io: CliIo): number {
     }
 
     const edges = undirectedEdgeCount(g);
-    if (args.switches.has('--json')) {
+    if (v.json) {
       io.out(JSON.stringify({
         file, nodes: g.n, edges, laplacian: kind, k: r.k,
         eigenvalues: Array.from(r.eigenvalues),
@@ -112,10 +120,10 @@ function run(argv: string[], io: CliIo): number {
 
     const c = styler(io);
     const lines: string[] = [];
-    lines.push(c(1, `Smallest ${plural(r.k, 'eigenvalue')} of the ${kind} Laplacian`) +
-      c(2, `  (${file}: ${plural(g.n, 'node')}, ${plural(edges, 'edge')} in the undirected view)`));
+    lines.push(c('bold', `Smallest ${plural(r.k, 'eigenvalue')} of the ${kind} Laplacian`) +
+      c('dim', `  (${file}: ${plural(g.n, 'node')}, ${plural(edges, 'edge')} in the undirected view)`));
     lines.push('');
-    lines.push(c(2, '      #        eigenvalue     residual'));
+    lines.push(c('dim', '      #        eigenvalue     residual'));
     r.eigenvalues.forEach((lambda, i) => {
       lines.push(`  ${String(i + 1).padStart(5)}  ${lambda.toFixed(10).padStart(16)}   ${r.residuals[i]!.toExponential(1).padStart(8)}`);
     });
@@ -128,8 +136,8 @@ function run(argv: string[], io: CliIo): number {
         (r.components === 1 ? ' (algebraic connectivity).' : ' (over all components).'));
     }
     lines.push(r.converged
-      ? c(2, `  Every residual is at most ${r.tol} x ${r.normBound} (tolerance x bound on the largest eigenvalue).`)
-      : c(33, `  Not converged within the iteration budget: the residuals above say how far each pair is.`));
+      ? c('dim', `  Every residual is at most ${r.tol} x ${r.normBound} (tolerance x bound on the largest eigenvalue).`)
+      : c('yellow', `  Not converged within the iteration budget: the residuals above say how far each pair is.`));
     if (out !== undefined) lines.push(`  Wrote ${r.n} x ${r.k} float32 eigenvectors to ${out}.`);
     io.out(lines.join('\n') + '\n');
     return 0;

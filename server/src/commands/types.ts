@@ -1,4 +1,4 @@
-/** A `hopscope` subcommand. cli.ts dispatches on `name`; everything else lives in the command. */
+/** A `hopscope` command. cli.ts dispatches on `name`; everything else lives in the command. */
 export interface CliIo {
   out: (s: string) => void;
   err: (s: string) => void;

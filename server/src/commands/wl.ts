@@ -4,7 +4,9 @@
  */
 import type { CliIo, Command } from './types';
 import { UsageError } from './types';
-import { guarded, loadUndirected, optionalWhole, parseArgs, plural, styler } from './structure-args';
+import { GRAPH_OPTIONS, graphOptions, guarded, optionalWhole, parseCommandLine } from './args';
+import { plural, styler } from './style';
+import { loadUndirected } from './undirected-input';
 import { colourGroups, refineWl, rowColours, sharedColourCount } from '../core/graph/refinement/wl';
 import { undirectedEdgeCount } from '../core/graph/structure/undirected';
 
@@ -40,17 +42,25 @@ nodes sharing their colour after the last round listed (at most ${MEMBERS_SHOWN_
 
 Exit codes: 0 = done; 2 = usage error or the file could not be read.`;
 
+const OPTIONS = {
+  ...GRAPH_OPTIONS,
+  rounds: { type: 'string' },
+  groups: { type: 'string' },
+  features: { type: 'boolean' },
+  json: { type: 'boolean' },
+} as const;
+
 function run(argv: string[], io: CliIo): number {
   return guarded('wl', USAGE, io, () => {
-    const args = parseArgs(argv, ['--rounds', '--groups'], ['--features', '--json']);
-    if (args.files.length !== 1) throw new UsageError(args.files.length ? `one FILE at a time, got ${args.files.length}` : 'no FILE given');
-    const maxRounds = optionalWhole(args, '--rounds');
-    const groupLimit = optionalWhole(args, '--groups') ?? DEFAULT_GROUPS;
-    const file = args.files[0]!;
-    const { loaded, g, base } = loadUndirected(file, args.options, 'wl', io);
+    const { values: v, positionals: files } = parseCommandLine(argv, OPTIONS);
+    if (files.length !== 1) throw new UsageError(files.length ? `one FILE at a time, got ${files.length}` : 'no FILE given');
+    const maxRounds = optionalWhole('--rounds', v.rounds);
+    const groupLimit = optionalWhole('--groups', v.groups) ?? DEFAULT_GROUPS;
+    const file = files[0]!;
+    const { loaded, g, base } = loadUndirected(file, graphOptions(v), 'wl', io);
 
     let initial: Int32Array | undefined;
-    if (args.switches.has('--features')) {
+    if (v.features) {
       const x = loaded.features;
       if (!x) throw new UsageError(`--features: no node feature matrix found beside ${file} (see hopscope check)`);
       if (x.summary) throw new UsageError(`--features: ${x.name} is too large to keep in memory (it was only summarised while it was read)`);
@@ -64,7 +74,7 @@ function run(argv: string[], io: CliIo): number {
     const groups = colourGroups(wl.colours, { limit: groupLimit, maxMembers: MEMBERS_SHOWN_JSON });
     const last = wl.classesPerRound.length - 1;
 
-    if (args.switches.has('--json')) {
+    if (v.json) {
       const out = {
         file, nodes: g.n, edges: undirectedEdgeCount(g),
         start: initial ? 'features' : 'uniform',
@@ -79,22 +89,22 @@ function run(argv: string[], io: CliIo): number {
 
     const c = styler(io);
     const lines: string[] = [];
-    lines.push(c(1, `1-WL colour refinement`) +
-      c(2, `  (${file}: ${plural(g.n, 'node')}, ${plural(undirectedEdgeCount(g), 'edge')} in the undirected view; start: ${initial ? 'feature rows' : 'one colour'})`));
+    lines.push(c('bold', `1-WL colour refinement`) +
+      c('dim', `  (${file}: ${plural(g.n, 'node')}, ${plural(undirectedEdgeCount(g), 'edge')} in the undirected view; start: ${initial ? 'feature rows' : 'one colour'})`));
     lines.push('');
-    lines.push(c(2, '  round   classes   new'));
+    lines.push(c('dim', '  round   classes   new'));
     const maxK = Math.max(1, ...wl.classesPerRound);
     wl.classesPerRound.forEach((k, r) => {
       const added = r === 0 ? '' : `+${k - wl.classesPerRound[r - 1]!}`;
       const bar = '█'.repeat(Math.max(k > 0 ? 1 : 0, Math.round((24 * k) / maxK)));
-      lines.push(`  ${String(r).padStart(5)}   ${String(k).padStart(7)}   ${added.padStart(3)}  ${c(36, bar)}`);
+      lines.push(`  ${String(r).padStart(5)}   ${String(k).padStart(7)}   ${added.padStart(3)}  ${c('cyan', bar)}`);
     });
     lines.push('');
     if (wl.stableAfter !== null) {
       lines.push(`  Stable after round ${wl.stableAfter}: ${plural(wl.classesPerRound[last]!, 'class', 'classes')} of ${plural(g.n, 'node')}. ` +
         `Layers beyond ${wl.stableAfter} separate no further nodes.`);
     } else {
-      lines.push(c(33, `  Still splitting after round ${last} (--rounds ${maxRounds}): ${plural(wl.classesPerRound[last]!, 'class', 'classes')} so far.`));
+      lines.push(c('yellow', `  Still splitting after round ${last} (--rounds ${maxRounds}): ${plural(wl.classesPerRound[last]!, 'class', 'classes')} so far.`));
     }
     if (shared === 0) {
       lines.push(`  Every node ends with a colour of its own: the graph alone is enough to tell all nodes apart.`);
@@ -103,11 +113,11 @@ function run(argv: string[], io: CliIo): number {
       lines.push(`  ${plural(shared, 'node')} share their colour with another node: ${who} that sees only ` +
         `the graph${initial ? ' and these features' : ''} gives all nodes of a group the same output.`);
       lines.push('');
-      lines.push(c(1, `Largest look-alike groups`) + c(2, `  (${groups.length} shown)`));
-      lines.push(c(2, '    size   nodes'));
+      lines.push(c('bold', `Largest look-alike groups`) + c('dim', `  (${groups.length} shown)`));
+      lines.push(c('dim', '    size   nodes'));
       for (const gr of groups) {
         const shown = gr.nodes.slice(0, MEMBERS_SHOWN_TABLE).map((v) => v + base).join(' ');
-        const more = gr.size > MEMBERS_SHOWN_TABLE ? c(2, ` … +${gr.size - MEMBERS_SHOWN_TABLE}`) : '';
+        const more = gr.size > MEMBERS_SHOWN_TABLE ? c('dim', ` … +${gr.size - MEMBERS_SHOWN_TABLE}`) : '';
         lines.push(`  ${String(gr.size).padStart(6)}   ${shown}${more}`);
       }
     }
