@@ -2,9 +2,9 @@
  * The receptive-field panel's requests over stdio: the built language server (dist/server.js)
  * spawned like tests/server/protocol.test.ts does, on a workspace holding a copy of the karate
  * fixture folder (edge_index.npy with x.npy = the degree vector and y.npy = the club labels).
- * Expected values: field sizes 1, 17, 26 (REFERENCES.md §2.1); influence rows of Â^L and Dirichlet
+ * Expected values: field sizes 1, 17, 26 (docs/references.md §2.1); influence rows of Â^L and Dirichlet
  * energies computed by NumPy (tests/fixtures/analysis/expected.json); 1-WL 1, 11, 27 classes
- * (REFERENCES.md §5); karate curvature and the bridge (0, 11) (REFERENCES.md §6).
+ * (docs/references.md §5); karate curvature and the bridge (0, 11) (docs/references.md §6).
  */
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import * as fs from 'node:fs';

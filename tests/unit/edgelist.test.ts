@@ -3,7 +3,7 @@ import * as path from 'node:path';
 import { gzipSync } from 'node:zlib';
 import { describe, expect, it } from 'vitest';
 import { NotEdgeListError, readEdgeList, wideLimit, type EdgeListReadResult } from '../../server/src/core/formats/edgelist';
-import { FieldSplitter } from '../../server/src/core/formats/text-common';
+import { FieldSplitter } from '../../server/src/core/formats/text/fields';
 import { DEFAULT_LIMITS, UnreadableError, type ReadLimits } from '../../server/src/core/formats/types';
 import { dense, expected, fixture, pairs, span, tensor, utf8 } from './text-fixture-helpers';
 import { expectUnreadable } from './binary-helpers';
@@ -40,7 +40,7 @@ describe('edge lists written by networkx / numpy', () => {
       expect(ei.data).toBeInstanceOf(Int32Array);
       expect(ei.shape).toEqual([2, exp.count]);
       expect(ei.declaredRole).toBe('edge-index');
-      // REFERENCES.md §2.1: karate has 78 edges.
+      // docs/references.md §2.1: karate has 78 edges.
       expect(exp.count).toBe(78);
       expect(pairs(ei)).toEqual(exp.edges);
       expect(r.delimiter).toBe(exp.delimiter);

@@ -17,7 +17,7 @@ describe('JSON written by Python', () => {
     const r = read(fixture('karate_pairs.json'));
     expect(r.format).toBe('json');
     const ei = dense(r, 'edge_index');
-    expect(ei.shape).toEqual([2, 78]); // REFERENCES.md §2.1: 78 edges
+    expect(ei.shape).toEqual([2, 78]); // docs/references.md §2.1: 78 edges
     expect(ei.dtype).toBe('int64');
     expect(ei.data).toBeInstanceOf(Int32Array);
     expect(ei.declaredRole).toBe('edge-index');
@@ -186,7 +186,7 @@ describe('node-link JSON (NetworkX node_link_data)', () => {
     expect(r.hints).toEqual({ nodes: exp.nodes, directed: false });
     const ei = dense(r, 'edge_index');
     expect(ei.declaredRole).toBe('edge-index');
-    expect(ei.shape).toEqual([2, 2 * exp.edges - exp.selfLoops]); // 156 = 2 · 78 (REFERENCES.md §2.1)
+    expect(ei.shape).toEqual([2, 2 * exp.edges - exp.selfLoops]); // 156 = 2 · 78 (docs/references.md §2.1)
     const got = pairs(ei);
     const want = (exp.links as number[][]).flatMap(([u, v]) => (u === v ? [[u, v]] : [[u, v], [v, u]]));
     expect(got).toEqual(want);

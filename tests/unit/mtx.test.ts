@@ -11,7 +11,7 @@ const unreadable = (fn: () => unknown): UnreadableError => expectUnreadable(fn);
 
 /**
  * Files written by scipy 1.10 (scipy.io.mmwrite), see make_text_fixtures.py, and the hand-written
- * examples of REFERENCES.md §1.5 (which cites NISTIR 5935). Expected dense matrices, nnz and
+ * examples of docs/references.md §1.5 (which cites NISTIR 5935). Expected dense matrices, nnz and
  * banner words are what scipy.io.mmread / mminfo returned for each file.
  */
 const FILES: Array<[string, string]> = [
@@ -22,7 +22,7 @@ const FILES: Array<[string, string]> = [
   ['directed.mtx', 'float64'], // scipy.io.mmwrite: real general
   ['dense_general.mtx', 'float64'], // scipy.io.mmwrite of a dense array: array real general
   ['dense_symmetric.mtx', 'float64'], // scipy.io.mmwrite: array real symmetric
-  ['spec_pattern_cycle.mtx', 'bool'], // REFERENCES.md §1.5: pattern symmetric 4-cycle, nnz 8
+  ['spec_pattern_cycle.mtx', 'bool'], // docs/references.md §1.5: pattern symmetric 4-cycle, nnz 8
   ['spec_skew.mtx', 'float64'], // §1.5: skew-symmetric `2 1 5.0` → A[1,0]=5, A[0,1]=-5
   ['spec_array_general.mtx', 'float64'], // §1.5: array 2x3 of 1..6 → [[1,3,5],[2,4,6]]
   ['spec_array_symmetric.mtx', 'float64'], // §1.5: array symmetric 3x3 of 1..6 → [[1,2,3],[2,4,5],[3,5,6]]
@@ -30,7 +30,7 @@ const FILES: Array<[string, string]> = [
   ['upper_case.mtx', 'int64'], // upper-case banner words, CRLF
 ];
 
-describe('Matrix Market files (scipy.io.mmwrite and REFERENCES.md §1.5)', () => {
+describe('Matrix Market files (scipy.io.mmwrite and docs/references.md §1.5)', () => {
   for (const [name, dtype] of FILES) {
     it(`reads ${name} like scipy.io.mmread`, () => {
       const exp = expected[name];
@@ -58,7 +58,7 @@ describe('Matrix Market files (scipy.io.mmwrite and REFERENCES.md §1.5)', () =>
     });
   }
 
-  it('gives karate 156 directed entries from 78 stored lines (REFERENCES.md §2.1)', () => {
+  it('gives karate 156 directed entries from 78 stored lines (docs/references.md §2.1)', () => {
     const a = sparse(read(fixture('karate.mtx')));
     expect(a.row.length).toBe(156);
     let degree0 = 0;
@@ -66,14 +66,14 @@ describe('Matrix Market files (scipy.io.mmwrite and REFERENCES.md §1.5)', () =>
     expect(degree0).toBe(16); // degree of node 0, §2.1
   });
 
-  it('keeps duplicate coordinates as separate entries (REFERENCES.md §1.5)', () => {
+  it('keeps duplicate coordinates as separate entries (docs/references.md §1.5)', () => {
     const a = sparse(read(fixture('spec_duplicates.mtx')));
     expect(Array.from(a.row)).toEqual([0, 0]);
     expect(Array.from(a.col)).toEqual([1, 1]);
     expect(Array.from(a.values!)).toEqual([7, 3]);
   });
 
-  it('mirrors skew-symmetric entries with the negated value (REFERENCES.md §1.5)', () => {
+  it('mirrors skew-symmetric entries with the negated value (docs/references.md §1.5)', () => {
     const a = sparse(read(fixture('spec_skew.mtx')));
     expect(Array.from(a.row)).toEqual([1, 0]);
     expect(Array.from(a.col)).toEqual([0, 1]);
@@ -93,7 +93,7 @@ describe('bare-CR line ends (classic Mac OS text)', () => {
 
 describe('locating entries', () => {
   it('maps every entry, mirrored ones included, to its stored line', () => {
-    // REFERENCES.md §1.5 pattern 4-cycle: line 3 holds `2 1`, line 6 holds `4 1`.
+    // docs/references.md §1.5 pattern 4-cycle: line 3 holds `2 1`, line 6 holds `4 1`.
     const a = sparse(read(fixture('spec_pattern_cycle.mtx')));
     expect(span(a.locator!.locate(0))).toEqual({ line: 3, column: 1, length: 3 });
     expect(span(a.locator!.locate(1))).toEqual({ line: 3, column: 1, length: 3 });
@@ -160,7 +160,7 @@ describe('problems', () => {
   });
 
   it('keeps the diagonal of a skew-symmetric file as scipy.io.mmread does, and reports the non-zero entries', () => {
-    // NISTIR 5935 (REFERENCES.md §1.5): skew-symmetric stores entries strictly below the diagonal.
+    // NISTIR 5935 (docs/references.md §1.5): skew-symmetric stores entries strictly below the diagonal.
     // skew_diagonal.mtx stores two diagonal entries (2.5 and an explicit 0); expected.json holds
     // what scipy 1.10's mmread returned: the diagonal kept once, not mirrored, the explicit 0 too.
     const exp = expected['skew_diagonal.mtx'];
@@ -185,7 +185,7 @@ describe('problems', () => {
 });
 
 describe('banner and size line', () => {
-  it('takes banner words in any case ([M] REFERENCES.md §1.5: reference readers are case-insensitive)', () => {
+  it('takes banner words in any case ([M] docs/references.md §1.5: reference readers are case-insensitive)', () => {
     const r = readText('%%MATRIXMARKET MATRIX COORDINATE PATTERN GENERAL\n2 2 1\n1 2\n');
     expect(toDense(sparse(r))).toEqual([[0, 1], [0, 0]]);
   });

@@ -2,7 +2,7 @@
  * .npy reader tests.
  * Fixture values were written by numpy 1.24 (see tests/fixtures/make_binary_fixtures.py) and are
  * compared with what NumPy itself computed (expected.json). Byte layouts come from the
- * `numpy.lib.format` docstring / NEP 1 as summarised in REFERENCES.md §1.1.
+ * `numpy.lib.format` docstring / NEP 1 as summarised in docs/references.md §1.1.
  */
 import { describe, expect, it } from 'vitest';
 import { parseNpy, readNpy } from '../../server/src/core/formats/npy';
@@ -119,7 +119,7 @@ describe('float16 → float32', () => {
   });
 });
 
-describe('byte layouts of REFERENCES.md §1.1 (np.save in NumPy 1.24), built by hand', () => {
+describe('byte layouts of docs/references.md §1.1 (np.save in NumPy 1.24), built by hand', () => {
   const i8 = bytesOf(new BigInt64Array([0n, 1n, 2n, 3n, 4n, 5n]));
 
   it('arange(6, <i8).reshape(2,3): HEADER_LEN 118 (76 00), data at 128, 176 bytes', () => {

@@ -3,7 +3,7 @@
  * Fixture values were written by numpy 1.24 / scipy 1.10 (numpy.savez, numpy.savez_compressed,
  * scipy.sparse.save_npz; see tests/fixtures/make_binary_fixtures.py) and expected.json holds what
  * NumPy/SciPy computed from them (scipy's load_npz(...).toarray() for the dense matrices).
- * Member layouts: REFERENCES.md §1.2 and §1.3.
+ * Member layouts: docs/references.md §1.2 and §1.3.
  */
 import { describe, expect, it } from 'vitest';
 import { readNpz } from '../../server/src/core/formats/npz';
@@ -36,7 +36,7 @@ const f64 = (...v: number[]) => bytesOf(new Float64Array(v));
 const i64 = (...v: number[]) => bytesOf(new BigInt64Array(v.map(BigInt)));
 const fmt = (f: string) => npyMember('format', '|S3', '()', new TextEncoder().encode(f));
 
-/** The REFERENCES.md §1.3 csr example with some arrays replaced. */
+/** The docs/references.md §1.3 csr example with some arrays replaced. */
 function csr(over: Partial<Record<'indptr' | 'indices' | 'data' | 'shape', ZipMember>> = {}): Uint8Array {
   return buildZip([
     over.indices ?? npyMember('indices', '<i4', '(4,)', i32(1, 0, 2, 1)),
@@ -59,7 +59,7 @@ describe('readNpz on numpy.savez / savez_compressed files (values from numpy 1.2
     });
   }
 
-  it('names positional arrays arr_0, arr_1 (REFERENCES.md §1.2)', () => {
+  it('names positional arrays arr_0, arr_1 (docs/references.md §1.2)', () => {
     const r = readNpz(fixture('positional.npz'), 'p.npz', DEFAULT_LIMITS);
     expect(r.tensors.map((t) => t.name)).toEqual(['arr_0', 'arr_1']);
   });
@@ -108,7 +108,7 @@ describe('scipy.sparse.save_npz files (values from scipy 1.10, make_binary_fixtu
     });
   }
 
-  it('the members of the 3x3 csr example are those of REFERENCES.md §1.3', () => {
+  it('the members of the 3x3 csr example are those of docs/references.md §1.3', () => {
     const bytes = fixture('sparse3_csr.npz');
     const zip = openZip(bytes, DEFAULT_LIMITS);
     const m = new Map(zip.entries.map((e) => [e.name.slice(0, -4), parseNpy(zip.readEntry(e), e.name)]));

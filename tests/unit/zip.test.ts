@@ -25,7 +25,7 @@ describe('openZip on numpy archives (written by numpy 1.24, make_binary_fixtures
         expect(zip.entries.map((e) => e.name).sort()).toEqual(Object.keys(exp.tensors).map((k) => `${k}.npy`).sort());
       }
       for (const e of zip.entries) {
-        expect(e.method).toBe(exp.compressed ? 8 : 0); // REFERENCES.md §1.2: savez stores, savez_compressed deflates
+        expect(e.method).toBe(exp.compressed ? 8 : 0); // docs/references.md §1.2: savez stores, savez_compressed deflates
         const data = zip.readEntry(e);
         expect(data.length).toBe(e.uncompressedSize);
         expect(Array.from(data.subarray(0, 6))).toEqual([0x93, 0x4e, 0x55, 0x4d, 0x50, 0x59]);
@@ -34,7 +34,7 @@ describe('openZip on numpy archives (written by numpy 1.24, make_binary_fixtures
     });
   }
 
-  it('skips the 20-byte ZIP64 extra field numpy writes in every local header (REFERENCES.md §1.2)', () => {
+  it('skips the 20-byte ZIP64 extra field numpy writes in every local header (docs/references.md §1.2)', () => {
     const bytes = fixture('graph_stored.npz');
     const zip = openZip(bytes, DEFAULT_LIMITS);
     for (const e of zip.entries) {

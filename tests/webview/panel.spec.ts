@@ -3,8 +3,8 @@
  * page and Content-Security-Policy the extension serves (extension/src/panel-html.ts). A fake host
  * in this process answers the page's requests with the real AnalysisService, as the extension and
  * the language server would. Expected numbers: karate club field sizes 1, 17, 26 for node 0 and
- * 34 at three layers (REFERENCES.md §2.1); the 1-WL partition from NetworkX
- * (tests/fixtures/structure/expected.json); the single karate bridge (0, 11) (REFERENCES.md §6).
+ * 34 at three layers (docs/references.md §2.1); the 1-WL partition from NetworkX
+ * (tests/fixtures/structure/expected.json); the single karate bridge (0, 11) (docs/references.md §6).
  * Framing is checked on the rendered page itself (getBoundingClientRect of every node circle and
  * ring label against the stage's client rectangle); the palette's OKLCH conversion against
  * Chromium's own oklch() colour conversion (CSS Color Module Level 4).
@@ -385,7 +385,7 @@ describe('receptive-field panel in Chromium', () => {
     const box = (await circles(page).nth(idx).boundingBox())!;
     await page.mouse.click(box.x + box.width / 2, box.y + box.height / 2);
     await expect.poll(() => page.locator('#title').textContent(), { timeout: 30_000 }).toBe('Receptive field of node 33');
-    // node 33, two layers: 1 + 17 + 6 = 24 (REFERENCES.md §2.1)
+    // node 33, two layers: 1 + 17 + 6 = 24 (docs/references.md §2.1)
     await drawn(page, 'svg', 24);
     const fields = (await posted()).filter((m) => m.type === 'field') as Array<{ query: { node: number } }>;
     expect(fields.at(-1)!.query.node).toBe(33);
