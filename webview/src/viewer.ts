@@ -8,8 +8,8 @@ import '@vscode-elements/elements/dist/vscode-button/index.js';
 import '@vscode-elements/elements/dist/vscode-tabs/index.js';
 import '@vscode-elements/elements/dist/vscode-tab-header/index.js';
 import '@vscode-elements/elements/dist/vscode-tab-panel/index.js';
-import { select } from 'd3-selection';
 import { scaleBand, scaleLinear } from 'd3-scale';
+import { chartSvg, el } from './dom';
 import type { ViewerMessage, ViewerRequest, ViewerState } from '../../common/viewer-messages';
 import type { FileSummary, TensorPage, TensorStats } from '../../common/protocol';
 import type { TensorReport } from '../../server/src/core/checks/check-set';
@@ -37,14 +37,8 @@ const pages = new Map<string, TensorPage>(); // key: tensor@pageIndex
 const requested = new Set<string>();
 const stats = new Map<string, TensorStats>();
 
-// ---- small DOM helpers (text only) ---------------------------------------------------------------
+// ---- text ----------------------------------------------------------------------------------------
 
-function el<K extends keyof HTMLElementTagNameMap>(tag: K, attrs: Record<string, string> = {}, ...children: Array<Node | string>): HTMLElementTagNameMap[K] {
-  const e = document.createElement(tag);
-  for (const [k, v] of Object.entries(attrs)) e.setAttribute(k, v);
-  for (const c of children) e.append(typeof c === 'string' ? document.createTextNode(c) : c);
-  return e;
-}
 const fmt = (x: number | null | undefined): string =>
   x === null || x === undefined ? '—' : Number.isInteger(x) ? String(x) : Math.abs(x) >= 1e5 || (Math.abs(x) < 1e-3 && x !== 0) ? x.toExponential(3) : x.toFixed(4);
 const app = document.getElementById('app')!;
@@ -238,7 +232,7 @@ function bars(title: string, data: Array<{ key: string; count: number }>): HTMLE
   const width = Math.max(240, Math.min(900, shown.length * 18 + 60)), height = 160, left = 40, bottom = 20;
   const x = scaleBand<string>().domain(shown.map((d) => d.key)).range([left, width - 4]).padding(0.15);
   const y = scaleLinear().domain([0, Math.max(1, ...shown.map((d) => d.count))]).nice().range([height - bottom, 6]);
-  const svg = select(fig).append('svg').attr('width', width).attr('height', height).attr('role', 'img').attr('aria-label', title);
+  const svg = chartSvg(fig, width, height, title);
   svg.selectAll('rect').data(shown).join('rect')
     .attr('class', 'bar').attr('x', (d) => x(d.key)!).attr('width', x.bandwidth())
     .attr('y', (d) => y(d.count)).attr('height', (d) => y(0) - y(d.count))

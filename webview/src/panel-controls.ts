@@ -1,0 +1,141 @@
+/**
+ * The panel's controls: the centre node box, the layer slider, the message direction, the
+ * self-loop and symmetrise toggles (one toolbar), and the colouring, find box, Fit and the two
+ * export buttons (a second toolbar). They keep the saved state and call back into the panel.
+ */
+import '@vscode-elements/elements/dist/vscode-button/index.js';
+import '@vscode-elements/elements/dist/vscode-checkbox/index.js';
+import '@vscode-elements/elements/dist/vscode-radio/index.js';
+import '@vscode-elements/elements/dist/vscode-radio-group/index.js';
+import '@vscode-elements/elements/dist/vscode-textfield/index.js';
+import type { Flow, ViewMode } from '../../common/panel-messages';
+import { custom, el } from './dom';
+import type { PanelModel } from './panel-model';
+import { plural } from './panel-numbers';
+
+/** Most layers the slider offers. */
+const MAX_LAYERS = 8;
+
+/** What the controls ask the panel to do. */
+export interface ControlActions {
+  /** Ask again for the field with the saved query. */
+  requestField(): void;
+  /** Centre on the node id typed or clicked (NaN when the text is not an id). */
+  centreOn(node: number): void;
+  /** Select a node id in the drawing. */
+  find(node: number): void;
+  /** The colouring changed (saved already). */
+  modeChanged(): void;
+  fit(): void;
+  exportSvg(): void;
+  exportPng(): void;
+}
+
+export interface Controls {
+  /** The field options toolbar and the drawing toolbar. */
+  readonly toolbars: [HTMLElement, HTMLElement];
+  /** Shows the saved state (and the file's own direction when none is chosen) in the controls. */
+  sync(): void;
+  /** Puts a node id in the centre node box. */
+  showNode(node: number): void;
+}
+
+type Checkable = HTMLElement & { checked: boolean };
+
+/** Value of the checked radio of a group (the change event may come from the group or a radio). */
+function checkedValue(group: HTMLElement): string | undefined {
+  for (const r of group.querySelectorAll('vscode-radio')) if ((r as Checkable).checked) return r.getAttribute('value') ?? undefined;
+  return undefined;
+}
+
+/** A node id typed in a box, or NaN. */
+const readNode = (s: string): number => (s.trim() === '' || !/^\d+$/.test(s.trim()) ? NaN : Number(s.trim()));
+
+const onEnter = (target: HTMLElement, fn: () => void) => target.addEventListener('keydown', (e) => {
+  if ((e as KeyboardEvent).key === 'Enter') { e.preventDefault(); fn(); }
+});
+
+export function createControls(model: PanelModel, act: ControlActions): Controls {
+  const nodeInput = custom('vscode-textfield', { id: 'node-input', type: 'number', min: '0', 'aria-label': 'Centre node id', size: '7' }) as HTMLElement & { value: string };
+  const goButton = custom('vscode-button', { id: 'go', secondary: '' }, 'Show');
+  const layersInput = el('input', { id: 'layers', type: 'range', min: '0', max: String(MAX_LAYERS), step: '1', value: '2', 'aria-describedby': 'layers-out' });
+  const layersOut = el('output', { id: 'layers-out', for: 'layers' }, '2');
+  const flowGroup = custom('vscode-radio-group', { id: 'flow', 'aria-label': 'Message direction' },
+    custom('vscode-radio', { name: 'flow', value: 'source-to-target', label: 'row 0 sends' }, 'row 0 sends'),
+    custom('vscode-radio', { name: 'flow', value: 'target-to-source', label: 'row 1 sends' }, 'row 1 sends'));
+  const selfLoopsBox = custom('vscode-checkbox', { id: 'self-loops', label: 'Add self-loops', checked: '' }, 'Add self-loops') as Checkable;
+  const symmetriseBox = custom('vscode-checkbox', { id: 'symmetrise', label: 'Symmetrise' }, 'Symmetrise') as Checkable;
+  const modeGroup = custom('vscode-radio-group', { id: 'mode', 'aria-label': 'Colour by' },
+    custom('vscode-radio', { name: 'mode', value: 'hops', label: 'Hop distance', checked: '' }, 'Hop distance'),
+    custom('vscode-radio', { name: 'mode', value: 'wl', label: '1-WL classes' }, '1-WL classes'),
+    custom('vscode-radio', { name: 'mode', value: 'bottlenecks', label: 'Bottlenecks' }, 'Bottlenecks'));
+  const findInput = custom('vscode-textfield', { id: 'find', type: 'number', min: '0', placeholder: 'find id', 'aria-label': 'Find a node in the drawing', size: '7' }) as HTMLElement & { value: string };
+  const fitButton = custom('vscode-button', { id: 'fit', secondary: '', title: 'Fit the drawing to the view (0)' }, 'Fit');
+  const svgButton = custom('vscode-button', { id: 'export-svg', secondary: '' }, 'Save SVG…');
+  const pngButton = custom('vscode-button', { id: 'export-png', secondary: '' }, 'Save PNG…');
+
+  const toolbars: [HTMLElement, HTMLElement] = [
+    el('div', { class: 'controls', role: 'toolbar', 'aria-label': 'Field options' },
+      el('span', { class: 'group' }, el('label', { for: 'node-input' }, 'Node'), nodeInput, goButton),
+      el('span', { class: 'group' }, el('label', { for: 'layers' }, 'Layers'), layersInput, layersOut),
+      el('span', { class: 'group', title: 'Which end of an edge sends the message' }, flowGroup),
+      el('span', { class: 'group' }, selfLoopsBox, symmetriseBox),
+    ),
+    el('div', { class: 'controls', role: 'toolbar', 'aria-label': 'Drawing' },
+      el('span', { class: 'group' }, el('span', { class: 'muted' }, 'Colour by'), modeGroup),
+      el('span', { class: 'group' }, findInput, fitButton, svgButton, pngButton),
+    ),
+  ];
+
+  // The slider asks again 90 ms after it stops moving, and at once when it is let go.
+  let layerTimer: ReturnType<typeof setTimeout> | undefined;
+  function setLayers(L: number, immediate = false): void {
+    const v = Math.max(0, Math.min(MAX_LAYERS, Math.round(L)));
+    model.save({ layers: v });
+    layersOut.textContent = String(v);
+    layersInput.setAttribute('aria-valuetext', plural(v, 'layer'));
+    clearTimeout(layerTimer);
+    if (immediate) act.requestField();
+    else layerTimer = setTimeout(() => act.requestField(), 90);
+  }
+
+  onEnter(nodeInput, () => act.centreOn(readNode(nodeInput.value)));
+  goButton.addEventListener('click', () => act.centreOn(readNode(nodeInput.value)));
+  layersInput.addEventListener('input', () => setLayers(Number(layersInput.value)));
+  layersInput.addEventListener('change', () => setLayers(Number(layersInput.value), true));
+  flowGroup.addEventListener('change', () => {
+    const v = checkedValue(flowGroup);
+    if ((v === 'source-to-target' || v === 'target-to-source') && v !== (model.state.flow ?? model.view?.flow)) { model.save({ flow: v as Flow }); act.requestField(); }
+  });
+  selfLoopsBox.addEventListener('change', () => { model.save({ selfLoops: selfLoopsBox.checked }); act.requestField(); });
+  symmetriseBox.addEventListener('change', () => { model.save({ symmetrise: symmetriseBox.checked }); act.requestField(); });
+  modeGroup.addEventListener('change', () => {
+    const v = checkedValue(modeGroup) as ViewMode | undefined;
+    if ((v === 'hops' || v === 'wl' || v === 'bottlenecks') && v !== (model.state.mode ?? 'hops')) { model.save({ mode: v }); act.modeChanged(); }
+  });
+  onEnter(findInput, () => act.find(readNode(findInput.value)));
+  fitButton.addEventListener('click', () => act.fit());
+  svgButton.addEventListener('click', () => act.exportSvg());
+  pngButton.addEventListener('click', () => act.exportPng());
+  // vscode-button turns Enter and Space into a click itself.
+
+  return {
+    toolbars,
+    sync(): void {
+      const state = model.state;
+      nodeInput.value = String(state.node ?? 0);
+      layersInput.value = String(state.layers ?? 2);
+      layersOut.textContent = String(state.layers ?? 2);
+      layersInput.setAttribute('aria-valuetext', plural(state.layers ?? 2, 'layer'));
+      selfLoopsBox.checked = state.selfLoops !== false;
+      symmetriseBox.checked = state.symmetrise === true;
+      const mode = state.mode ?? 'hops';
+      for (const r of modeGroup.querySelectorAll('vscode-radio')) (r as Checkable).checked = r.getAttribute('value') === mode;
+      const flow = state.flow ?? model.view?.flow;
+      for (const r of flowGroup.querySelectorAll('vscode-radio')) (r as Checkable).checked = r.getAttribute('value') === flow;
+    },
+    showNode(node: number): void {
+      nodeInput.value = String(node);
+    },
+  };
+}

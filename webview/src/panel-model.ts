@@ -1,0 +1,27 @@
+/**
+ * What the receptive-field panel knows: its saved state and the data the host last sent. One object,
+ * made by panel.ts and shared by reference with the stage, the controls and the side charts; only
+ * panel.ts (the message handler) replaces the data, the parts read it when they draw.
+ */
+import type { BottlenecksPayload, FieldViewPayload, SmoothingPayload, WlClassesPayload } from '../../common/protocol';
+import type { PanelState, ViewMode } from '../../common/panel-messages';
+import type { Theme } from './panel-colours';
+
+export interface PanelModel {
+  /** Kept across reloads of the webview; change it only through save(). */
+  state: PanelState;
+  save(patch: Partial<PanelState>): void;
+  file: { uri: string; name: string } | undefined;
+  /** Number of the latest field request; answers to older ones are dropped. */
+  seq: number;
+  view: FieldViewPayload | undefined;
+  wl: WlClassesPayload | undefined;
+  bottlenecks: BottlenecksPayload | undefined;
+  /** null: no smoothing curve for this file (smoothingNote may say why). */
+  smoothing: SmoothingPayload | null | undefined;
+  smoothingNote: string | undefined;
+  theme: Theme;
+}
+
+/** The colouring chosen in the panel (hop distance unless changed). */
+export const viewMode = (m: PanelModel): ViewMode => m.state.mode ?? 'hops';
