@@ -2,7 +2,7 @@
 // every alignment, and ByteLines must give each offset's 1-based line across 64 KiB checkpoints.
 import { describe, expect, it } from 'vitest';
 import { seededRandom } from './random';
-import { ByteLines, countLF, lineEndFrom } from '../../server/src/core/formats/text-common';
+import { ByteLines, countLF, lineEndFrom } from '../../server/src/core/formats/text/line-index';
 
 function naive(b: Uint8Array, s: number, e: number): number {
   let c = 0;

@@ -16,7 +16,7 @@ import { timed } from '../core/timing';
 import { readNpyStreaming } from './npy-stream';
 import { readArriving } from './file-stream';
 import { NotEdgeListError, notEdgeListReason, readEdgeList, type EdgeListReadResult } from '../core/formats/edgelist';
-import { assertText, wideEncoding } from '../core/formats/text-common';
+import { assertText, wideEncoding } from '../core/formats/text/encoding';
 import { throwIfCancelled, type Cancel } from '../core/cancel';
 
 /** What loadFile consults before reading a file again (the graph store's LRU). */

@@ -35,45 +35,28 @@ import {
   type TextLocator,
   type TextSpan,
 } from './types';
+import { COMMA, CR, HASH, LF, PERCENT, PIPE, QUOTE, SEMICOLON, SPACE, TAB } from './text/bytes';
+import { bomLength, decodeWide, onlyCrLineEnds, textBytes, wideEncoding } from './text/encoding';
+import { ByteLines, countLF, lineEndFrom, utf16Length } from './text/line-index';
+import { FieldSplitter, skipBlanks, tokenText } from './text/fields';
 import {
-  ByteLines,
-  COMMA,
-  CR,
-  FieldSplitter,
-  HASH,
   INT32_MAX,
-  LF,
-  PERCENT,
-  PIPE,
-  ProblemCollector,
-  QUOTE,
-  allocFloat64,
-  allocInt32,
-  allocUint32,
-  SEMICOLON,
-  SPACE,
-  TAB,
-  bomLength,
-  countLF,
-  decodeWide,
-  fit,
-  growFloat64,
-  growInt32,
-  growUint32,
   intRefusal,
-  lineEndFrom,
   numberState,
   parseDecimalBytes,
   parseIntBytes,
   parseNumberBytes,
-  plural,
-  skipBlanks,
-  onlyCrLineEnds,
-  textBytes,
-  tokenText,
-  utf16Length,
-  wideEncoding,
-} from './text-common';
+} from './text/numbers';
+import {
+  allocFloat64,
+  allocInt32,
+  allocUint32,
+  fit,
+  growFloat64,
+  growInt32,
+  growUint32,
+} from './text/growable';
+import { ProblemCollector, plural } from './text/problems';
 
 export type Delimiter = 'whitespace' | 'tab' | ',' | ';' | '|';
 

@@ -30,7 +30,9 @@ import {
   type TextLocator,
   type TextSpan,
 } from './types';
-import { INT32_MAX, StringLines, assertText } from './text-common';
+import { assertText } from './text/encoding';
+import { StringLines } from './text/line-index';
+import { INT32_MAX } from './text/numbers';
 import {
   isAdjacencyData, isCytoscapeData, isNodeLink, isObject, readAdjacencyData, readCytoscapeData, readNodeLink,
 } from './node-link';

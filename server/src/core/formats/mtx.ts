@@ -33,36 +33,28 @@ import {
   type TextSpan,
   type GraphHints,
 } from './types';
+import { CR, LF, PERCENT, SPACE, TAB } from './text/bytes';
+import { bomLength, textBytes } from './text/encoding';
+import { ByteLines, lineEndFrom, utf16Length } from './text/line-index';
+import { FieldSplitter, skipBlanks, tokenText } from './text/fields';
 import {
-  ByteLines,
-  CR,
-  FieldSplitter,
   INT32_MAX,
-  LF,
-  PERCENT,
-  ProblemCollector,
-  SPACE,
-  TAB,
-  allocFloat64,
-  allocInt32,
-  allocUint32,
-  bomLength,
-  fit,
-  growFloat64,
-  growInt32,
-  growUint32,
   intRefusal,
-  lineEndFrom,
   numberState,
   parseDecimalBytes,
   parseIntBytes,
   parseNumberBytes,
-  plural,
-  skipBlanks,
-  textBytes,
-  tokenText,
-  utf16Length,
-} from './text-common';
+} from './text/numbers';
+import {
+  allocFloat64,
+  allocInt32,
+  allocUint32,
+  fit,
+  growFloat64,
+  growInt32,
+  growUint32,
+} from './text/growable';
+import { ProblemCollector, plural } from './text/problems';
 
 type MtxFormat = 'coordinate' | 'array';
 type MtxField = 'real' | 'integer' | 'pattern';

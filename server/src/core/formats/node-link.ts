@@ -16,7 +16,8 @@ import {
   MAX_LOCATIONS, type DenseTensor, type GraphHints, type Problem, type ProblemLocation, type TensorData,
   type TextLocator, type TextSpan,
 } from './types';
-import { INT32_MAX, type StringLines } from './text-common';
+import { type StringLines } from './text/line-index';
+import { INT32_MAX } from './text/numbers';
 
 /** Whether a parsed JSON object has the node-link layout. */
 export function isNodeLink(root: Record<string, unknown>): boolean {
