@@ -4,16 +4,17 @@
  * The host relays requests to the language server; the webview draws what comes back.
  */
 import type { BottlenecksPayload, FieldViewPayload, SmoothingPayload, WlClassesPayload } from './protocol';
+import type { SendingRow } from './report';
 
-export type Flow = 'source-to-target' | 'target-to-source';
+export type { SendingRow } from './report';
 export type ViewMode = 'hops' | 'wl' | 'bottlenecks';
 
 /** What the webview asks the server for (through the host). */
 export interface FieldQuery {
   node: number;
   layers: number;
-  /** Omitted: the file's own flow (manifest or setting). */
-  flow?: Flow;
+  /** Which row of the edge index sends. Omitted: the file's own (manifest or setting). */
+  sendingRow?: SendingRow;
   symmetrise: boolean;
   selfLoops: boolean;
 }
@@ -47,7 +48,7 @@ export interface PanelState {
   name?: string;
   node?: number;
   layers?: number;
-  flow?: Flow;
+  sendingRow?: SendingRow;
   symmetrise?: boolean;
   selfLoops?: boolean;
   mode?: ViewMode;

@@ -32,6 +32,7 @@ export const CODES: Readonly<Record<ProblemCode, CodeInfo>> = {
   'empty-graph': { severity: 'warning', summary: 'A graph with no nodes or no edges.' },
   'skew-symmetric-diagonal': { severity: 'warning', summary: 'A skew-symmetric Matrix Market file that stores non-zero diagonal entries (a skew-symmetric matrix has a zero diagonal); they are kept, as SciPy keeps them.' },
   'no-graph-tensors': { severity: 'info', summary: 'A file that was read but holds nothing taken as graph data (e.g. JSON with a "nodes" key in a layout that is not read).' },
+  'renamed-key': { severity: 'info', summary: 'A hopscope.json key that still works under its old name; the message gives the new one.' },
 };
 
 export const ALL_CODES = Object.keys(CODES) as ProblemCode[];

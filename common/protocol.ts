@@ -2,12 +2,20 @@
  * Custom messages between the extension (client) and the Hopscope language server. Both sides
  * import this file (esbuild bundles it into each), so method names and payload types exist once.
  * Payloads are plain JSON: summaries, pages and histograms, never whole tensors.
+ *
+ * Each message is a `RequestType`/`NotificationType` object (`X.type`) and is sent and handled by
+ * that object — `client.sendRequest(FileSummaryRequest.type, params, token)`,
+ * `connection.onRequest(FileSummaryRequest.type, handler)` — so params and results are checked
+ * on both sides. Requests that compute (the panel's analyses, summaries, pages, statistics) stop
+ * when the caller cancels them (`$/cancelRequest`, sent by the client library for a cancelled token).
  */
-import type { FileReport } from './report';
+import { NotificationType, RequestType, RequestType0 } from 'vscode-languageserver-protocol';
+import type { FileReport, SendingRow } from './report';
 
 /** Request, client → server: everything known about one graph file (from the cache when fresh). */
 export namespace FileSummaryRequest {
   export const method = 'hopscope/fileSummary';
+  export const type = new RequestType<Params, FileSummary, void>(method);
   export interface Params {
     uri: string;
     /** When false, answer at once with status 'checking' instead of waiting for a check. */
@@ -27,6 +35,7 @@ export interface FileSummary {
 /** Request, client → server: a window of rows of one tensor, for the viewer's virtualised table. */
 export namespace TensorPageRequest {
   export const method = 'hopscope/tensorPage';
+  export const type = new RequestType<Params, TensorPage | null, void>(method);
   export interface Params {
     uri: string;
     tensor: string;
@@ -53,6 +62,7 @@ export interface TensorPage {
 /** Request, client → server: column statistics and histograms for the viewer. */
 export namespace TensorStatsRequest {
   export const method = 'hopscope/tensorStats';
+  export const type = new RequestType<Params, TensorStats | null, void>(method);
   export interface Params {
     uri: string;
     tensor: string;
@@ -84,6 +94,7 @@ export interface TensorStats {
 /** Request, client → server: degree and neighbours of one node of a graph file (hovers). */
 export namespace NodeInfoRequest {
   export const method = 'hopscope/nodeInfo';
+  export const type = new RequestType<Params, NodeInfo | null, void>(method);
   export interface Params { uri: string; node: number; maxNeighbours?: number }
 }
 export interface NodeInfo {
@@ -98,6 +109,7 @@ export interface NodeInfo {
 /** Request, client → server: what a corrected copy of a file would change, and writing it. */
 export namespace FixedCopyRequest {
   export const method = 'hopscope/fixedCopy';
+  export const type = new RequestType<Params, FixedCopyResult, void>(method);
   export interface Params {
     uri: string;
     /** Without `write`, only describe the changes. */
@@ -118,6 +130,7 @@ export interface FixedCopyResult {
 /** Notification, server → client: progress of the workspace check, for the status bar. */
 export namespace StatusNotification {
   export const method = 'hopscope/status';
+  export const type = new NotificationType<StatusParams>(method);
 }
 export interface StatusParams {
   filesChecked: number;
@@ -130,6 +143,7 @@ export interface StatusParams {
 /** Request, client → server: check the whole workspace again. */
 export namespace RecheckRequest {
   export const method = 'hopscope/recheck';
+  export const type = new RequestType0<null, void>(method);
 }
 
 /**
@@ -140,13 +154,14 @@ export namespace RecheckRequest {
 /** Request, client → server: the receptive field of one node, with the nodes and edges to draw. */
 export namespace FieldViewRequest {
   export const method = 'hopscope/field';
+  export const type = new RequestType<Params, FieldViewPayload, void>(method);
   export interface Params {
     uri: string;
     node: number;
     /** Message-passing layers, 0..64 (the panel offers 0..8). */
     layers: number;
-    /** Default: the manifest's `flow`, else the `hopscope.flow` setting. */
-    flow?: 'source-to-target' | 'target-to-source';
+    /** Which row of the edge index sends. Default: the manifest's `sendingRow`, else the `hopscope.sendingRow` setting. */
+    sendingRow?: SendingRow;
     /** Messages travel both ways along every edge. */
     symmetrise?: boolean;
     /** Every layer keeps the node's own state (default true): the field is every node within L hops. */
@@ -159,7 +174,7 @@ export interface FieldViewPayload {
   file: string;
   node: number;
   layers: number;
-  flow: 'source-to-target' | 'target-to-source';
+  sendingRow: SendingRow;
   symmetrised: boolean;
   selfLoops: boolean;
   graphNodes: number;
@@ -196,6 +211,7 @@ export interface FieldViewPayload {
 /** Request, client → server: 1-WL colours of the drawn nodes and the groups that share one. */
 export namespace WlClassesRequest {
   export const method = 'hopscope/wlClasses';
+  export const type = new RequestType<Params, WlClassesPayload, void>(method);
   export interface Params { uri: string; nodes: number[] }
 }
 export interface WlClassesPayload {
@@ -214,6 +230,7 @@ export interface WlClassesPayload {
 /** Request, client → server: curvature and bridge flag of the drawn edges. */
 export namespace BottlenecksRequest {
   export const method = 'hopscope/bottlenecks';
+  export const type = new RequestType<Params, BottlenecksPayload, void>(method);
   /** `edges`: node id pairs, flattened. */
   export interface Params { uri: string; edges: number[] }
 }
@@ -232,6 +249,7 @@ export interface BottlenecksPayload {
 /** Request, client → server: Dirichlet energy of the features over 0..steps GCN steps. Null without features. */
 export namespace SmoothingRequest {
   export const method = 'hopscope/smoothing';
+  export const type = new RequestType<Params, SmoothingPayload | null, void>(method);
   export interface Params { uri: string; steps?: number }
 }
 export interface SmoothingPayload {
@@ -247,23 +265,5 @@ export interface SmoothingPayload {
   nonFinite: number;
 }
 
-/** Initialization options the client sends (mirrors the `hopscope.*` settings). */
-export interface ServerSettings {
-  /** Declared directedness when nothing else says: 'auto' (infer), 'directed', 'undirected'. */
-  defaultDirectedness: 'auto' | 'directed' | 'undirected';
-  flow: 'source-to-target' | 'target-to-source';
-  /** Files above this many MiB are not read. */
-  maxFileSizeMB: number;
-  /** Glob patterns (workspace-relative) never checked, in addition to files.exclude. */
-  exclude: string[];
-  /** Severity per problem code: 'error' | 'warning' | 'info' | 'off'. */
-  severity: Record<string, 'error' | 'warning' | 'info' | 'off'>;
-}
-
-export const DEFAULT_SETTINGS: ServerSettings = {
-  defaultDirectedness: 'auto',
-  flow: 'source-to-target',
-  maxFileSizeMB: 1024,
-  exclude: [],
-  severity: {},
-};
+/** Initialization options the client sends: the `hopscope.*` settings the server uses (common/settings.ts). */
+export { DEFAULT_SETTINGS, type ServerSettings } from './settings';

@@ -30,7 +30,14 @@ export type ProblemCode =
   | 'label-range'
   | 'empty-graph'
   | 'skew-symmetric-diagonal'
-  | 'no-graph-tensors';
+  | 'no-graph-tensors'
+  | 'renamed-key';
+
+/**
+ * Which row of an edge index sends messages (and which column of an edge list): 0 = row 0 sends
+ * and row 1 receives (the default), 1 = row 1 sends.
+ */
+export type SendingRow = 0 | 1;
 
 /** One place a problem shows up. Text formats fill line/column; binary ones tensor/index. */
 export interface ProblemLocation {

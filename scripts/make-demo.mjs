@@ -162,12 +162,12 @@ for (let u = 0; u < 20; u++) lanes2018.push(`${u} ${(u + 1) % 20}`, ...(u % 4 ==
 write('archive/lanes_2018.el', lanes2018.join('\n') + '\n');
 // Net rides between docks (rides a → b minus rides b → a): skew-symmetric, lower triangle stored.
 // The export also wrote each dock's own ride total on the diagonal, which a skew-symmetric matrix cannot hold.
-const flow = ['%%MatrixMarket matrix coordinate integer skew-symmetric', '% Larkhaven net rides between docks, March'];
+const netRides = ['%%MatrixMarket matrix coordinate integer skew-symmetric', '% Larkhaven net rides between docks, March'];
 const fEntries = [];
 for (let u = 2; u <= 8; u++) fEntries.push(`${u} ${u - 1} ${randint(40) - 20 || 3}`);
 fEntries.push('5 5 112', '6 6 87');
-flow.push(`8 8 ${fEntries.length}`, ...fEntries);
-write('archive/net_flow.mtx', flow.join('\n') + '\n');
+netRides.push(`8 8 ${fEntries.length}`, ...fEntries);
+write('archive/net_flow.mtx', netRides.join('\n') + '\n');
 // A map tool's export: docks and paths, but not in any graph layout that is read.
 write('archive/dock_map.json', JSON.stringify({
   nodes: Array.from({ length: 4 }, (_, i) => ({ dock: `D${i + 1}`, lat: 51.5 + i / 100, lon: -0.1 - i / 100 })),
@@ -193,6 +193,13 @@ write('hopscope.json', JSON.stringify({
     directed: false,
     selfLoops: 'forbidden',
   }],
+}, null, 2) + '\n');
+
+// The archive's own manifest, written for Hopscope 0.1.0: it still uses the old name of
+// "sendingRow", which is read for one more release with a `renamed-key` info.
+write('archive/hopscope.json', JSON.stringify({
+  $schema: '../../schemas/hopscope.schema.json',
+  flow: 'source-to-target',
 }, null, 2) + '\n');
 
 // A training script that names the files (hovers on these paths show their shapes in the editor).

@@ -134,6 +134,39 @@ describe('declarations through hopscope.json', () => {
     write('hopscope.json', '{ "graphs": [ { "features": "feats.npy" } ] }');
     expect(checkPaths([tmp]).manifestProblems[0]!.problem.message).toMatch(/needs "edges" or "adjacency"/);
   });
+  // The manifest format is our own (schemas/hopscope.schema.json); "flow" is its 0.1.0 name of
+  // "sendingRow", read for one more release.
+  it('"sendingRow" as a default or per graph; the old "flow" key is still read, with a renamed-key info', () => {
+    write('hopscope.json', JSON.stringify({ sendingRow: 1 }));
+    let r = checkPaths([tmp]);
+    expect(r.graphs.map((g) => g.check.options.sendingRow)).toEqual([1]);
+    expect(r.manifestProblems).toEqual([]);
+
+    write('hopscope.json', JSON.stringify({ flow: 'target-to-source', graphs: [{ edges: 'one_way.edges', flow: 'source-to-target' }] }));
+    r = checkPaths([tmp]);
+    expect(r.graphs.find((g) => g.name === 'graph 1')!.check.options.sendingRow).toBe(0);
+    const notes = r.manifestProblems.map((m) => m.problem);
+    expect(notes.map((p) => `${p.code}:${p.severity}`)).toEqual(['renamed-key:info', 'renamed-key:info']);
+    expect(notes[0]!.message).toBe('flow is the old name of "sendingRow": write "sendingRow": 1 instead of "flow": "target-to-source". The old key is still read in this release.');
+    expect(notes[1]!.message).toMatch(/^graphs\[0\]\.flow is the old name of "sendingRow": write "sendingRow": 0 instead/);
+
+    write('hopscope.json', JSON.stringify({ flow: 'target-to-source', severity: { 'renamed-key': 'off' } }));
+    r = checkPaths([tmp]);
+    expect(r.manifestProblems).toEqual([]);
+    expect(r.graphs.map((g) => g.check.options.sendingRow)).toEqual([1]);
+
+    const refused = (manifest: object) => {
+      write('hopscope.json', JSON.stringify(manifest));
+      const p = checkPaths([tmp]).manifestProblems[0]!.problem;
+      expect(p).toMatchObject({ code: 'unreadable', severity: 'error' });
+      return p.message;
+    };
+    expect(refused({ flow: 'target-to-source', sendingRow: 1 })).toMatch(/flow is the old name of sendingRow: keep only "sendingRow"/);
+    expect(refused({ sendingRow: 'row 1' })).toMatch(/sendingRow must be 0 \(row 0 of the edge index sends\) or 1/);
+    expect(refused({ graphs: [{ edges: 'one_way.edges', sendingRow: 2 }] })).toMatch(/graphs\[0\]\.sendingRow must be 0/);
+    expect(refused({ flow: 'sideways' })).toMatch(/flow must be "source-to-target" or "target-to-source"; better, write "sendingRow"/);
+    fs.rmSync(path.join(tmp, 'hopscope.json'));
+  });
 });
 
 describe('shape and index conventions (common practice: PyTorch Geometric-style 2 x E, 0-based ids)', () => {

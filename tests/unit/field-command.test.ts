@@ -5,7 +5,7 @@
  * - influence weights: rows of numpy.linalg.matrix_power of the dense GCN matrix
  *   D̃^-1/2 (A+I) D̃^-1/2 (Kipf & Welling 2017) and of D̃^-1 (A+I)
  *   (tests/fixtures/make_analysis_fixtures.py → tests/fixtures/analysis/expected.json);
- * - per-hop counts under each flow from networkx.single_source_shortest_path_length (same file);
+ * - per-hop counts for each sending row from networkx.single_source_shortest_path_length (same file);
  * - coverage curve from numpy.percentile over all 34 karate nodes (same file);
  * - the 1-based karate.mtx written by scipy.io.mmwrite (tests/fixtures/make_graph_fixtures.py).
  */
@@ -68,14 +68,40 @@ describe('hopscope field --json', () => {
     });
   });
 
-  it('directed multigraph: --flow and --symmetrise give the networkx counts for G.reverse(), G and the undirected graph', () => {
+  it('directed multigraph: --sending-row and --symmetrise give the networkx counts for G.reverse(), G and the undirected graph', () => {
     const e = analysisExpected.graphs.directed.perHop['0'];
     const L = 8;
     expect(runJson(['field', DIRECTED, '--node', '0', '--layers', String(L)]).perHop).toEqual(e.in);
-    expect(runJson(['field', DIRECTED, '--node', '0', '--layers', String(L), '--flow', 'source-to-target']).perHop).toEqual(e.in);
-    expect(runJson(['field', DIRECTED, '--node', '0', '--layers', String(L), '--flow=target-to-source']).perHop).toEqual(e.out);
+    expect(runJson(['field', DIRECTED, '--node', '0', '--layers', String(L), '--sending-row', '0']).perHop).toEqual(e.in);
+    expect(runJson(['field', DIRECTED, '--node', '0', '--layers', String(L), '--sending-row=1']).perHop).toEqual(e.out);
     expect(runJson(['field', DIRECTED, '--node', '0', '--layers', String(L), '--symmetrise']).perHop).toEqual(e.sym);
     expect(e.in).not.toEqual(e.out);
+  });
+
+  it('the old --flow flag still works as an undocumented alias of --sending-row', () => {
+    const e = analysisExpected.graphs.directed.perHop['0'];
+    expect(runJson(['field', DIRECTED, '--node', '0', '--layers', '8', '--flow', 'source-to-target']).perHop).toEqual(e.in);
+    expect(runJson(['field', DIRECTED, '--node', '0', '--layers', '8', '--flow=target-to-source']).perHop).toEqual(e.out);
+    expect(run(['field', '--help']).out).not.toMatch(/--flow|source-to-target/);
+    const both = run(['field', DIRECTED, '--node', '0', '--layers', '8', '--flow', 'source-to-target', '--sending-row', '0']);
+    expect(both.code).toBe(2);
+    expect(both.err).toMatch(/--flow is the old name of --sending-row/);
+  });
+
+  it('a manifest\'s "sendingRow" decides when the command line does not', () => {
+    const e = analysisExpected.graphs.directed.perHop['0'];
+    const dir = fs.mkdtempSync(path.join(os.tmpdir(), 'hopscope-row-'));
+    try {
+      fs.copyFileSync(DIRECTED, path.join(dir, 'edge_index.npy'));
+      fs.writeFileSync(path.join(dir, 'hopscope.json'), JSON.stringify({ sendingRow: 1 }));
+      const file = path.join(dir, 'edge_index.npy');
+      expect(runJson(['field', file, '--node', '0', '--layers', '8']).perHop).toEqual(e.out);
+      expect(runJson(['field', file, '--node', '0', '--layers', '8', '--sending-row', '0']).perHop).toEqual(e.in);
+      const table = run(['field', file, '--node', '0', '--layers', '1']);
+      expect(table.out).toMatch(/messages from row 1 to row 0\)/);
+    } finally {
+      fs.rmSync(dir, { recursive: true, force: true });
+    }
   });
 
   it('1-based karate.mtx (scipy.io.mmwrite): --node 1 is the first node, and ids come back 1-based', () => {
@@ -141,7 +167,8 @@ describe('hopscope field errors exit 2 with a clear message', () => {
     [[KARATE, '--node', '0', '--layers', 'two'], /--layers must be a non-negative whole number/],
     [[KARATE, '--node', '0', '--layers', '65'], /--layers must be at most 64/],
     [[KARATE, '--node', '0', '--layers', '2', '--top', 'x'], /--top must be/],
-    [[KARATE, '--node', '0', '--layers', '2', '--flow', 'sideways'], /--flow must be source-to-target or target-to-source/],
+    [[KARATE, '--node', '0', '--layers', '2', '--sending-row', '2'], /--sending-row must be 0 or 1, got "2"/],
+    [[KARATE, '--node', '0', '--layers', '2', '--sending-row', 'row0'], /--sending-row must be 0 or 1, got "row0"/],
     [[KARATE, '--layers', '2'], /--node is required/],
     [[KARATE, '--node', '0'], /--layers is required/],
     [['--node', '0', '--layers', '2'], /no FILE given/],

@@ -4,10 +4,10 @@
  *   computed with networkx.karate_club_graph 2.8.8; docs/references.md §2.1);
  * - Petersen graph 1, 4, 10 and the complete binary tree of depth 4 from the root 1, 3, 7, 15, 31
  *   (docs/references.md §4, receptive-field sizes);
- * - per-node hop distances for every fixture graph and flow from
+ * - per-node hop distances for every fixture graph and sending row from
  *   networkx.single_source_shortest_path_length (tests/fixtures/make_analysis_fixtures.py →
- *   tests/fixtures/analysis/expected.json), on G.reverse() for source-to-target, on G for
- *   target-to-source and on the undirected simple graph for symmetrise;
+ *   tests/fixtures/analysis/expected.json), on G.reverse() for sending row 0, on G for
+ *   sending row 1 and on the undirected simple graph for symmetrise;
  * - coverage-curve medians / 90th percentiles from numpy.percentile (linear) over all nodes, same file.
  */
 import { describe, expect, it } from 'vitest';
@@ -30,8 +30,8 @@ function fromEdgeIndexFile(file: string, n: number) {
 const cumulative = (perHop: number[]) => perHop.map((_, k) => perHop.slice(0, k + 1).reduce((a, b) => a + b, 0));
 
 const MODES: Record<string, FieldOptions> = {
-  in: { flow: 'source-to-target' },
-  out: { flow: 'target-to-source' },
+  in: { sendingRow: 0 },
+  out: { sendingRow: 1 },
   sym: { symmetrise: true },
 };
 
@@ -64,10 +64,10 @@ describe('receptive field: karate club (Zachary 1977; docs/references.md §2.1, 
     }
   });
 
-  it('undirected graph: every flow gives the same field', () => {
+  it('undirected graph: either sending row gives the same field', () => {
     for (const v of [0, 11, 16, 33]) {
-      const a = walker.field(v, 3, { flow: 'source-to-target' });
-      const b = walker.field(v, 3, { flow: 'target-to-source' });
+      const a = walker.field(v, 3, { sendingRow: 0 });
+      const b = walker.field(v, 3, { sendingRow: 1 });
       const c = walker.field(v, 3, { symmetrise: true });
       expect(b.perHop).toEqual(a.perHop);
       expect(c.perHop).toEqual(a.perHop);
@@ -88,15 +88,15 @@ describe('receptive field: docs/references.md §4 sizes', () => {
     expect(cumulative(receptiveField(g, 0, 4).perHop)).toEqual([1, 3, 7, 15, 31]);
   });
 
-  it('the same tree with edges parent → child only: flow decides what the root hears', () => {
+  it('the same tree with edges parent → child only: the sending row decides what the root hears', () => {
     const src: number[] = [], dst: number[] = [];
     for (let i = 0; 2 * i + 2 < 31; i++) { src.push(i, i); dst.push(2 * i + 1, 2 * i + 2); }
     const g = { n: 31, ...buildSortedPair(31, Int32Array.from(src), Int32Array.from(dst)) };
-    // source-to-target: the root receives from its in-neighbours, and it has none
+    // row 0 sends: the root receives from its in-neighbours, and it has none
     expect(receptiveField(g, 0, 4).perHop).toEqual([1, 0, 0, 0, 0]);
-    // target-to-source: messages run child → parent, so the root hears the whole tree
-    expect(receptiveField(g, 0, 4, { flow: 'target-to-source' }).perHop).toEqual([1, 2, 4, 8, 16]);
-    // a leaf (node 30) hears its ancestors under source-to-target: 14, 6, 2, 0
+    // row 1 sends: messages run child → parent, so the root hears the whole tree
+    expect(receptiveField(g, 0, 4, { sendingRow: 1 }).perHop).toEqual([1, 2, 4, 8, 16]);
+    // a leaf (node 30) hears its ancestors when row 0 sends: 14, 6, 2, 0
     const leaf = receptiveField(g, 30, 4);
     expect(leaf.perHop).toEqual([1, 1, 1, 1, 1]);
     expect(Array.from(leaf.nodes)).toEqual([30, 14, 6, 2, 0]);

@@ -39,7 +39,7 @@ function edgeList(file: string): { src: number[]; dst: number[] } {
   return { src: Array.from(t.data.subarray(0, e)), dst: Array.from(t.data.subarray(e, 2 * e)) };
 }
 
-/** Plain BFS over "v hears from u when the file has u → v" (source-to-target), or both ways. */
+/** Plain BFS over "v hears from u when the file has u → v" (row 0 sends), or both ways. */
 function plainBfs(file: string, v: number, layers: number, both = false): Map<number, number> {
   const { src, dst } = edgeList(file);
   const dist = new Map<number, number>([[v, 0]]);
@@ -187,14 +187,14 @@ describe('field payload: karate club', () => {
     f.coverageCurve.p90.forEach((x, i) => expect(x).toBeCloseTo(exp.p90[i], 12));
   });
 
-  it('flow follows the request on a directed graph (networkx hop counts)', () => {
+  it('the sending row follows the request on a directed graph (networkx hop counts)', () => {
     const file = path.join(ANALYSIS_DIR, 'directed/edge_index.npy');
     const exp = analysisExpected.graphs.directed.perHop['0'];
     const s = new AnalysisService();
-    expect(field(s, file, 0, 8, { flow: 'source-to-target' }).perHop).toEqual(exp.in);
-    expect(field(s, file, 0, 8, { flow: 'target-to-source' }).perHop).toEqual(exp.out);
+    expect(field(s, file, 0, 8, { sendingRow: 0 }).perHop).toEqual(exp.in);
+    expect(field(s, file, 0, 8, { sendingRow: 1 }).perHop).toEqual(exp.out);
     expect(field(s, file, 0, 8, { symmetrise: true }).perHop).toEqual(exp.sym);
-    const d = field(s, file, 0, 2, { flow: 'source-to-target' });
+    const d = field(s, file, 0, 2, { sendingRow: 0 });
     // One-way edges keep their message direction: a stored u → w has ids[a] = u sending when bit 1.
     const { src, dst } = edgeList(file);
     const stored = new Set(src.map((u, i) => `${u}>${dst[i]}`));

@@ -8,7 +8,7 @@ import '@vscode-elements/elements/dist/vscode-checkbox/index.js';
 import '@vscode-elements/elements/dist/vscode-radio/index.js';
 import '@vscode-elements/elements/dist/vscode-radio-group/index.js';
 import '@vscode-elements/elements/dist/vscode-textfield/index.js';
-import type { Flow, ViewMode } from '../../common/panel-messages';
+import type { SendingRow, ViewMode } from '../../common/panel-messages';
 import { custom, el } from './dom';
 import type { PanelModel } from './panel-model';
 import { plural } from './panel-numbers';
@@ -60,9 +60,9 @@ export function createControls(model: PanelModel, act: ControlActions): Controls
   const goButton = custom('vscode-button', { id: 'go', secondary: '' }, 'Show');
   const layersInput = el('input', { id: 'layers', type: 'range', min: '0', max: String(MAX_LAYERS), step: '1', value: '2', 'aria-describedby': 'layers-out' });
   const layersOut = el('output', { id: 'layers-out', for: 'layers' }, '2');
-  const flowGroup = custom('vscode-radio-group', { id: 'flow', 'aria-label': 'Message direction' },
-    custom('vscode-radio', { name: 'flow', value: 'source-to-target', label: 'row 0 sends' }, 'row 0 sends'),
-    custom('vscode-radio', { name: 'flow', value: 'target-to-source', label: 'row 1 sends' }, 'row 1 sends'));
+  const sendingRowGroup = custom('vscode-radio-group', { id: 'sending-row', 'aria-label': 'Message direction' },
+    custom('vscode-radio', { name: 'sendingRow', value: '0', label: 'row 0 sends' }, 'row 0 sends'),
+    custom('vscode-radio', { name: 'sendingRow', value: '1', label: 'row 1 sends' }, 'row 1 sends'));
   const selfLoopsBox = custom('vscode-checkbox', { id: 'self-loops', label: 'Add self-loops', checked: '' }, 'Add self-loops') as Checkable;
   const symmetriseBox = custom('vscode-checkbox', { id: 'symmetrise', label: 'Symmetrise' }, 'Symmetrise') as Checkable;
   const modeGroup = custom('vscode-radio-group', { id: 'mode', 'aria-label': 'Colour by' },
@@ -78,7 +78,7 @@ export function createControls(model: PanelModel, act: ControlActions): Controls
     el('div', { class: 'controls', role: 'toolbar', 'aria-label': 'Field options' },
       el('span', { class: 'group' }, el('label', { for: 'node-input' }, 'Node'), nodeInput, goButton),
       el('span', { class: 'group' }, el('label', { for: 'layers' }, 'Layers'), layersInput, layersOut),
-      el('span', { class: 'group', title: 'Which end of an edge sends the message' }, flowGroup),
+      el('span', { class: 'group', title: 'Which end of an edge sends the message' }, sendingRowGroup),
       el('span', { class: 'group' }, selfLoopsBox, symmetriseBox),
     ),
     el('div', { class: 'controls', role: 'toolbar', 'aria-label': 'Drawing' },
@@ -103,9 +103,10 @@ export function createControls(model: PanelModel, act: ControlActions): Controls
   goButton.addEventListener('click', () => act.centreOn(readNode(nodeInput.value)));
   layersInput.addEventListener('input', () => setLayers(Number(layersInput.value)));
   layersInput.addEventListener('change', () => setLayers(Number(layersInput.value), true));
-  flowGroup.addEventListener('change', () => {
-    const v = checkedValue(flowGroup);
-    if ((v === 'source-to-target' || v === 'target-to-source') && v !== (model.state.flow ?? model.view?.flow)) { model.save({ flow: v as Flow }); act.requestField(); }
+  sendingRowGroup.addEventListener('change', () => {
+    const v = checkedValue(sendingRowGroup);
+    const row: SendingRow | undefined = v === '0' ? 0 : v === '1' ? 1 : undefined;
+    if (row !== undefined && row !== (model.state.sendingRow ?? model.view?.sendingRow)) { model.save({ sendingRow: row }); act.requestField(); }
   });
   selfLoopsBox.addEventListener('change', () => { model.save({ selfLoops: selfLoopsBox.checked }); act.requestField(); });
   symmetriseBox.addEventListener('change', () => { model.save({ symmetrise: symmetriseBox.checked }); act.requestField(); });
@@ -131,8 +132,8 @@ export function createControls(model: PanelModel, act: ControlActions): Controls
       symmetriseBox.checked = state.symmetrise === true;
       const mode = state.mode ?? 'hops';
       for (const r of modeGroup.querySelectorAll('vscode-radio')) (r as Checkable).checked = r.getAttribute('value') === mode;
-      const flow = state.flow ?? model.view?.flow;
-      for (const r of flowGroup.querySelectorAll('vscode-radio')) (r as Checkable).checked = r.getAttribute('value') === flow;
+      const row = state.sendingRow ?? model.view?.sendingRow;
+      for (const r of sendingRowGroup.querySelectorAll('vscode-radio')) (r as Checkable).checked = r.getAttribute('value') === String(row);
     },
     showNode(node: number): void {
       nodeInput.value = String(node);

@@ -86,7 +86,7 @@ function query(): FieldQuery {
   return {
     node: state.node ?? 0,
     layers: state.layers ?? 2,
-    ...(state.flow ? { flow: state.flow } : {}),
+    ...(state.sendingRow !== undefined ? { sendingRow: state.sendingRow } : {}),
     symmetrise: state.symmetrise === true,
     selfLoops: state.selfLoops !== false,
   };
@@ -143,7 +143,7 @@ function drawSummary(): void {
   const v = model.view;
   if (!v) return;
   const L = plural(v.layers, 'layer');
-  const how = v.symmetrised ? 'messages both ways' : v.flow === 'source-to-target' ? 'row 0 sends to row 1' : 'row 1 sends to row 0';
+  const how = v.symmetrised ? 'messages both ways' : v.sendingRow === 0 ? 'row 0 sends to row 1' : 'row 1 sends to row 0';
   const rule = v.selfLoops ? 'every node within reach' : `only nodes with a walk of exactly ${L}`;
   let text = `Node ${v.node} hears from ${plural(v.total, 'node')} — ${pct(v.coverage)} of ${v.graphNodes.toLocaleString('en-US')} — after ${L} (${how}; ${rule}).`;
   if (!v.centreInField) text += ` Without self-loops its own state does not survive ${L}.`;
@@ -208,7 +208,7 @@ window.addEventListener('message', (e: MessageEvent<PanelMessage>) => {
       model.file = m.file;
       fileLabel.textContent = m.file.name;
       fileLabel.title = m.file.uri;
-      if (!sameFile) save({ uri: m.file.uri, name: m.file.name, zoom: undefined, selected: undefined, flow: undefined });
+      if (!sameFile) save({ uri: m.file.uri, name: m.file.name, zoom: undefined, selected: undefined, sendingRow: undefined });
       if (m.node !== undefined) { if (m.node !== model.state.node) save({ zoom: undefined }); save({ node: m.node }); }
       if (model.state.node === undefined) save({ node: 0 });
       stage.firstDrawing = true;
@@ -224,7 +224,7 @@ window.addEventListener('message', (e: MessageEvent<PanelMessage>) => {
       const keep = model.state.selected !== undefined ? view.ids.indexOf(model.state.selected) : -1;
       stage.selected = keep;
       stage.highlight = null;
-      if (!model.state.flow) controls.sync();
+      if (model.state.sendingRow === undefined) controls.sync();
       drawSummary();
       drawSide();
       ensureModeData();

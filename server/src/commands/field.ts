@@ -9,7 +9,8 @@ import { GRAPH_OPTIONS, graphOptions, guarded, oneOf, optionalWhole, parseComman
 import { styler } from './style';
 import { loadGraph } from '../node/graph-input';
 import type { CheckSetOptions } from '../core/checks/check-set';
-import { FieldWalker, coverageCurve, type Flow } from '../core/graph/propagation/field';
+import { FieldWalker, coverageCurve, type SendingRow } from '../core/graph/propagation/field';
+import { sendingRowOfLegacyFlow } from '../core/checks/manifest';
 import { influenceRow } from '../core/graph/propagation/influence';
 
 const MAX_LAYERS = 64;
@@ -26,10 +27,9 @@ merged; Kipf & Welling 2017).
 Options:
   --node V                    node id as written in the file (ids of a 1-based file stay 1-based)
   --layers L                  number of layers, 0..${MAX_LAYERS}
-  --flow source-to-target|target-to-source
-                              direction messages travel along an edge. Default: the manifest's
-                              "flow", else source-to-target (edge index row 0 / first column sends,
-                              so V hears from the nodes with edges into V)
+  --sending-row 0|1           which row of an edge index sends messages (0: row 0 / the first
+                              column of an edge list sends, so V hears from the nodes with edges
+                              into V; 1: row 1 sends). Default: the manifest's "sendingRow", else 0
   --symmetrise                messages travel both ways along every edge
   --top K                     influence entries to list (default ${DEFAULT_TOP}; ${DEFAULT_TOP_TABLE} in the table view)
   --random-walk               influence with D̃^-1 (A + I) instead of the GCN normalisation
@@ -41,7 +41,7 @@ Options:
   -h, --help                  show this help
 
 The influence weights ignore edge direction (the GCN normalisation needs a symmetric matrix);
-the hop counts follow --flow.
+the hop counts follow --sending-row.
 
 Exit codes: 0 = done; 2 = usage error, node out of range, or the file could not be read.`;
 
@@ -49,7 +49,7 @@ interface FieldArgs {
   file: string;
   node: number;
   layers: number;
-  flow?: Flow;
+  sendingRow?: SendingRow;
   symmetrise: boolean;
   top?: number;
   randomWalk: boolean;
@@ -63,6 +63,8 @@ const OPTIONS = {
   node: { type: 'string' },
   layers: { type: 'string' },
   top: { type: 'string' },
+  'sending-row': { type: 'string' },
+  /** The old name of --sending-row (0.1.0), with its old values; not in the usage. */
   flow: { type: 'string' },
   symmetrise: { type: 'boolean' },
   symmetrize: { type: 'boolean' },
@@ -81,12 +83,21 @@ function parseFieldArgs(argv: string[]): FieldArgs {
   const layers = optionalWhole('--layers', v.layers, 0, MAX_LAYERS);
   if (layers === undefined) throw new UsageError('--layers is required');
   const top = optionalWhole('--top', v.top);
-  const flow = v.flow === undefined ? undefined : oneOf('--flow', v.flow, ['source-to-target', 'target-to-source'] as const);
+  const sendingRow = sendingRowOption(v['sending-row'], v.flow);
   return {
     file: files[0]!, node, layers, options: graphOptions(v),
     symmetrise: v.symmetrise === true || v.symmetrize === true, randomWalk: v['random-walk'] === true, curve: v.curve === true, json: v.json === true,
-    ...(flow ? { flow } : {}), ...(top !== undefined ? { top } : {}),
+    ...(sendingRow !== undefined ? { sendingRow } : {}), ...(top !== undefined ? { top } : {}),
   };
+}
+
+function sendingRowOption(value: string | undefined, legacy: string | undefined): SendingRow | undefined {
+  if (value !== undefined && legacy !== undefined) throw new UsageError('--flow is the old name of --sending-row: give only --sending-row');
+  if (value !== undefined) return oneOf('--sending-row', value, ['0', '1'] as const) === '1' ? 1 : 0;
+  if (legacy === undefined) return undefined;
+  const row = sendingRowOfLegacyFlow(legacy);
+  if (row === undefined) throw new UsageError(`--flow is the old name of --sending-row, which takes 0 or 1; got "${legacy}"`);
+  return row;
 }
 
 function run(argv: string[], io: CliIo): number {
@@ -108,12 +119,12 @@ function fieldReport(argv: string[], io: CliIo): number {
     io.err(`hopscope field: note: ${args.file} has ${errors} error${errors === 1 ? '' : 's'} (see hopscope check); the analysis uses the edges that are in range\n`);
   }
 
-  const flow: Flow = args.flow ?? g.options.flow ?? 'source-to-target';
-  const field = new FieldWalker(g).field(v, args.layers, { flow, symmetrise: args.symmetrise });
+  const sendingRow: SendingRow = args.sendingRow ?? g.options.sendingRow ?? 0;
+  const field = new FieldWalker(g).field(v, args.layers, { sendingRow, symmetrise: args.symmetrise });
   const top = args.top ?? (args.json ? DEFAULT_TOP : DEFAULT_TOP_TABLE);
   const infl = influenceRow(g, v, args.layers, { top, norm: args.randomWalk ? 'random-walk' : 'gcn' });
   const influence = Array.from(infl.topNodes, (u, i) => ({ node: u + base, weight: infl.topWeights[i]! }));
-  const curve = args.curve ? coverageCurve(g, { flow, symmetrise: args.symmetrise }) : undefined;
+  const curve = args.curve ? coverageCurve(g, { sendingRow, symmetrise: args.symmetrise }) : undefined;
 
   if (args.json) {
     const out: Record<string, unknown> = {
@@ -127,7 +138,7 @@ function fieldReport(argv: string[], io: CliIo): number {
   const c = styler(io);
   const pct = (x: number) => `${(100 * x).toFixed(1)}%`;
   const lines: string[] = [];
-  const how = args.symmetrise ? 'both ways along every edge' : flow;
+  const how = args.symmetrise ? 'both ways along every edge' : `from row ${sendingRow} to row ${1 - sendingRow}`;
   lines.push(c('bold', `Node ${args.node}, ${args.layers} layer${args.layers === 1 ? '' : 's'}`) +
     c('dim', `  (${args.file}: ${g.n} nodes, messages ${how})`));
   lines.push('');

@@ -120,6 +120,13 @@ export function checkSet(files: LoadedFile[], manifests: LoadedManifest[], cli: 
       return m.manifest !== undefined;
     })
     .sort((a, b) => normalise(b.path).split('/').length - normalise(a.path).split('/').length);
+  for (const m of goodManifests) {
+    const sev = { ...m.manifest.severity, ...(cli.severity ?? {}) };
+    for (const message of m.manifest.renamed) {
+      const p = applySeverity({ code: 'renamed-key', severity: CODES['renamed-key'].severity, count: 1, message }, sev);
+      if (p) manifestProblems.push({ path: m.path, problem: p });
+    }
+  }
   const defaultsFor = (path: string): { options: GraphOptions; severity: SeverityOverrides } => {
     const options: GraphOptions = {};
     const severity: SeverityOverrides = {};
@@ -268,6 +275,6 @@ function definedOnly(o: CheckSetOptions): GraphOptions {
   if (o.nodes !== undefined) out.nodes = o.nodes;
   if (o.indexBase !== undefined) out.indexBase = o.indexBase;
   if (o.selfLoops !== undefined) out.selfLoops = o.selfLoops;
-  if (o.flow !== undefined) out.flow = o.flow;
+  if (o.sendingRow !== undefined) out.sendingRow = o.sendingRow;
   return out;
 }

@@ -11,13 +11,16 @@
  *     "features": "x.npy", "labels": "y.npy",
  *     "splits": { "train": "splits.npz#train", "val": "splits.npz#val", "test": "splits.npz#test" },
  *     "edgeWeights": "...", "edgeFeatures": "...",
- *     "nodes": 120, "indexBase": 0, "selfLoops": "forbidden", "flow": "source-to-target"
+ *     "nodes": 120, "indexBase": 0, "selfLoops": "forbidden", "sendingRow": 0
  *   } ]
  * }
+ *
+ * Keys renamed since a release are still read for one more, each use noted as a `renamed-key`
+ * info on the manifest (`LEGACY_FLOW`).
  */
 import type { ProblemCode, Role, Severity } from '../formats/types';
 import { ALL_CODES } from '../../../../common/problem-codes';
-import type { Flow, GraphOptions, SelfLoopPolicy } from './graph-check';
+import type { GraphOptions, SelfLoopPolicy, SendingRow } from './graph-check';
 import type { Split } from './roles';
 
 export type SeverityOverride = Severity | 'off';
@@ -41,16 +44,30 @@ export interface Manifest {
   defaults: GraphOptions;
   severity: SeverityOverrides;
   graphs: ManifestGraph[];
+  /** Keys read under an old name: what to write instead (reported as `renamed-key` infos). */
+  renamed: string[];
 }
 
 export class ManifestError extends Error {
   override readonly name = 'ManifestError';
 }
 
-const OPTION_KEYS = ['directed', 'nodes', 'indexBase', 'selfLoops', 'flow'] as const;
+const OPTION_KEYS = ['directed', 'nodes', 'indexBase', 'selfLoops', 'sendingRow'] as const;
+
+/**
+ * The old name of "sendingRow" (0.1.0), read until the next release: its two values and the
+ * sending row each one means.
+ */
+const LEGACY_FLOW = { key: 'flow', rows: { 'source-to-target': 0, 'target-to-source': 1 } } as const;
+
+/** The sending row an old-style direction value names (manifest "flow", the CLI's --flow alias), or undefined. */
+export function sendingRowOfLegacyFlow(value: unknown): SendingRow | undefined {
+  return typeof value === 'string' && Object.hasOwn(LEGACY_FLOW.rows, value) ? LEGACY_FLOW.rows[value as keyof typeof LEGACY_FLOW.rows] : undefined;
+}
+
 const GRAPH_KEYS = new Set<string>(['name', 'edges', 'adjacency', 'features', 'labels', 'splits',
-  'edgeWeights', 'edgeFeatures', ...OPTION_KEYS]);
-const TOP_KEYS = new Set<string>(['$schema', 'graphs', 'severity', ...OPTION_KEYS]);
+  'edgeWeights', 'edgeFeatures', ...OPTION_KEYS, LEGACY_FLOW.key]);
+const TOP_KEYS = new Set<string>(['$schema', 'graphs', 'severity', ...OPTION_KEYS, LEGACY_FLOW.key]);
 const PART_ROLES: ReadonlyArray<[string, Role]> = [
   ['edges', 'edge-index'], ['adjacency', 'adjacency'], ['features', 'features'], ['labels', 'labels'],
   ['edgeWeights', 'edge-weight'], ['edgeFeatures', 'edge-features'],
@@ -66,8 +83,9 @@ export function parseManifest(text: string): Manifest {
     throw new ManifestError(`hopscope.json is not valid JSON: ${(e as Error).message}`);
   }
   if (!isObject(raw)) throw new ManifestError('hopscope.json must hold a JSON object.');
-  for (const k of Object.keys(raw)) if (!TOP_KEYS.has(k)) throw new ManifestError(`unknown key "${k}" at the top level (expected one of ${[...TOP_KEYS].join(', ')}).`);
-  const defaults = parseOptions(raw, '');
+  for (const k of Object.keys(raw)) if (!TOP_KEYS.has(k)) throw new ManifestError(`unknown key "${k}" at the top level (expected one of ${[...TOP_KEYS].filter((t) => t !== LEGACY_FLOW.key).join(', ')}).`);
+  const renamed: string[] = [];
+  const defaults = parseOptions(raw, '', renamed);
   const severity: SeverityOverrides = {};
   if (raw.severity !== undefined) {
     if (!isObject(raw.severity)) throw new ManifestError('"severity" must map problem codes to "error", "warning", "info" or "off".');
@@ -80,12 +98,12 @@ export function parseManifest(text: string): Manifest {
   const graphs: ManifestGraph[] = [];
   if (raw.graphs !== undefined) {
     if (!Array.isArray(raw.graphs)) throw new ManifestError('"graphs" must be an array.');
-    raw.graphs.forEach((g, i) => graphs.push(parseGraph(g, i)));
+    raw.graphs.forEach((g, i) => graphs.push(parseGraph(g, i, renamed)));
   }
-  return { defaults, severity, graphs };
+  return { defaults, severity, graphs, renamed };
 }
 
-function parseGraph(g: unknown, i: number): ManifestGraph {
+function parseGraph(g: unknown, i: number, renamed: string[]): ManifestGraph {
   const at = `graphs[${i}]`;
   if (!isObject(g)) throw new ManifestError(`${at} must be an object.`);
   for (const k of Object.keys(g)) if (!GRAPH_KEYS.has(k)) throw new ManifestError(`${at}: unknown key "${k}".`);
@@ -105,7 +123,7 @@ function parseGraph(g: unknown, i: number): ManifestGraph {
   if (!parts.some((p) => p.role === 'edge-index' || p.role === 'adjacency')) {
     throw new ManifestError(`${at} needs "edges" or "adjacency".`);
   }
-  return { name, parts, options: parseOptions(g, `${at}.`) };
+  return { name, parts, options: parseOptions(g, `${at}.`, renamed) };
 }
 
 function parseRef(v: unknown, at: string): { file: string; tensor?: string } {
@@ -120,7 +138,7 @@ function parseRef(v: unknown, at: string): { file: string; tensor?: string } {
   throw new ManifestError(`${at} must be "path", "path#tensor" or { "file": ..., "tensor": ... }.`);
 }
 
-function parseOptions(o: Record<string, unknown>, at: string): GraphOptions {
+function parseOptions(o: Record<string, unknown>, at: string, renamed: string[]): GraphOptions {
   const opts: GraphOptions = {};
   if (o.directed !== undefined) {
     if (typeof o.directed !== 'boolean') throw new ManifestError(`${at}directed must be true or false.`);
@@ -138,9 +156,18 @@ function parseOptions(o: Record<string, unknown>, at: string): GraphOptions {
     if (o.selfLoops !== 'allowed' && o.selfLoops !== 'forbidden') throw new ManifestError(`${at}selfLoops must be "allowed" or "forbidden".`);
     opts.selfLoops = o.selfLoops as SelfLoopPolicy;
   }
-  if (o.flow !== undefined) {
-    if (o.flow !== 'source-to-target' && o.flow !== 'target-to-source') throw new ManifestError(`${at}flow must be "source-to-target" or "target-to-source".`);
-    opts.flow = o.flow as Flow;
+  if (o.sendingRow !== undefined) {
+    if (o.sendingRow !== 0 && o.sendingRow !== 1) throw new ManifestError(`${at}sendingRow must be 0 (row 0 of the edge index sends) or 1 (row 1 sends).`);
+    opts.sendingRow = o.sendingRow;
+  }
+  const old = o[LEGACY_FLOW.key];
+  if (old !== undefined) {
+    const key = `${at}${LEGACY_FLOW.key}`;
+    const row = sendingRowOfLegacyFlow(old);
+    if (row === undefined) throw new ManifestError(`${key} must be ${Object.keys(LEGACY_FLOW.rows).map((v) => `"${v}"`).join(' or ')}; better, write "sendingRow": 0 or 1 instead.`);
+    if (o.sendingRow !== undefined) throw new ManifestError(`${key} is the old name of ${at}sendingRow: keep only "sendingRow".`);
+    opts.sendingRow = row;
+    renamed.push(`${key} is the old name of "sendingRow": write "sendingRow": ${row} instead of "${LEGACY_FLOW.key}": "${old as string}". The old key is still read in this release.`);
   }
   return opts;
 }

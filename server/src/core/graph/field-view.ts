@@ -20,14 +20,15 @@
  * (seed, node id) decides. The same graph, node and options always give the same drawing.
  */
 import type { Csr } from './structure/csr';
-import { coverageCurve, FieldWalker, percentileSorted, sampleNodes, type FieldGraph, type Flow } from './propagation/field';
+import { coverageCurve, FieldWalker, percentileSorted, sampleNodes, type FieldGraph, type SendingRow } from './propagation/field';
 import { InfluencePropagator } from './propagation/influence';
 import { simpleUndirected, throwIfCancelled, type Cancel } from './structure/simple-undirected';
 import { featureMatrix, smoothingCurve, type FeatureMatrix, type SmoothingCurve } from './propagation/smoothing';
 import type { DenseTensor } from '../formats/types';
 
 export interface FieldViewOptions {
-  flow?: Flow;
+  /** Which row of the edge index sends (default 0). */
+  sendingRow?: SendingRow;
   symmetrise?: boolean;
   /** Whether every layer keeps the node's own state (default true); see the file comment. */
   selfLoops?: boolean;
@@ -43,7 +44,7 @@ export interface FieldViewOptions {
 export interface FieldView {
   node: number;
   layers: number;
-  flow: Flow;
+  sendingRow: SendingRow;
   symmetrised: boolean;
   selfLoops: boolean;
   n: number;
@@ -120,9 +121,9 @@ export class FieldAnalyzer {
   }
 
   /** Rows that list the senders of a node's messages: [first, second or null]. */
-  private senderRows(flow: Flow, symmetrise: boolean): [Csr, Csr | null] {
-    const first = flow === 'source-to-target' ? this.g.rev : this.g.fwd;
-    const second = symmetrise ? (flow === 'source-to-target' ? this.g.fwd : this.g.rev) : null;
+  private senderRows(sendingRow: SendingRow, symmetrise: boolean): [Csr, Csr | null] {
+    const first = sendingRow === 0 ? this.g.rev : this.g.fwd;
+    const second = symmetrise ? (sendingRow === 0 ? this.g.fwd : this.g.rev) : null;
     return [first, second];
   }
 
@@ -130,8 +131,8 @@ export class FieldAnalyzer {
    * Walk frontiers without self-loops: F_0 = {v}, F_k = senders of F_(k-1). Calls `each(k, size)`
    * after every step and returns F_layers (its members, in no particular order).
    */
-  walkFrontier(v: number, layers: number, flow: Flow, symmetrise: boolean, each?: (k: number, size: number) => boolean | void, cancel?: Cancel): Int32Array {
-    const [first, second] = this.senderRows(flow, symmetrise);
+  walkFrontier(v: number, layers: number, sendingRow: SendingRow, symmetrise: boolean, each?: (k: number, size: number) => boolean | void, cancel?: Cancel): Int32Array {
+    const [first, second] = this.senderRows(sendingRow, symmetrise);
     let cur = this.listA, next = this.listB;
     cur[0] = v;
     let curLen = 1;
@@ -172,7 +173,7 @@ export class FieldAnalyzer {
     const n = this.n;
     if (!Number.isInteger(v) || v < 0 || v >= n) throw new RangeError(`node ${v} is not in 0..${n - 1}`);
     if (!Number.isInteger(layers) || layers < 0) throw new RangeError(`layers must be a non-negative integer, got ${layers}`);
-    const flow = opts.flow ?? 'source-to-target';
+    const sendingRow = opts.sendingRow ?? 0;
     const symmetrise = opts.symmetrise === true;
     const selfLoops = opts.selfLoops !== false;
     const maxNodes = Math.max(1, Math.floor(opts.maxNodes ?? DEFAULT_MAX_DRAWN));
@@ -181,13 +182,13 @@ export class FieldAnalyzer {
     let members: Int32Array, memberHops: Int32Array;
     let centreInField = true;
     if (selfLoops) {
-      const ball = this.walker.field(v, layers, { flow, symmetrise, ...(opts.cancel ? { cancel: opts.cancel } : {}) });
+      const ball = this.walker.field(v, layers, { sendingRow, symmetrise, ...(opts.cancel ? { cancel: opts.cancel } : {}) });
       members = ball.nodes; memberHops = ball.hops;
     } else {
-      const last = this.walkFrontier(v, layers, flow, symmetrise, undefined, opts.cancel);
+      const last = this.walkFrontier(v, layers, sendingRow, symmetrise, undefined, opts.cancel);
       const ep = this.nextEpoch();
       for (let i = 0; i < last.length; i++) this.stamp[last[i]!] = ep;
-      const ball = this.walker.field(v, layers, { flow, symmetrise, ...(opts.cancel ? { cancel: opts.cancel } : {}) });
+      const ball = this.walker.field(v, layers, { sendingRow, symmetrise, ...(opts.cancel ? { cancel: opts.cancel } : {}) });
       let m = 0;
       for (let i = 0; i < ball.total; i++) if (this.stamp[ball.nodes[i]!] === ep) m++;
       members = new Int32Array(m); memberHops = new Int32Array(m);
@@ -206,10 +207,10 @@ export class FieldAnalyzer {
     for (let i = 0; i < ids.length; i++) if (i > 0 || centreInField) shownPerHop[hops[i]!]!++;
     const shown = ids.length - (centreInField ? 0 : 1);
     const maxEdges = Math.max(0, Math.floor(opts.maxEdges ?? DEFAULT_MAX_EDGES));
-    const { edgeEnds, edgeDirs, edgesTotal } = this.inducedEdges(ids, hops, flow, symmetrise, maxEdges);
+    const { edgeEnds, edgeDirs, edgesTotal } = this.inducedEdges(ids, hops, sendingRow, symmetrise, maxEdges);
     const weights = this.influenceOf(v, layers, selfLoops, ids, opts.cancel);
     return {
-      node: v, layers, flow, symmetrised: symmetrise, selfLoops, n,
+      node: v, layers, sendingRow, symmetrised: symmetrise, selfLoops, n,
       perHop, total, coverage: n ? total / n : 0, centreInField,
       ids, hops, weights, shown, shownPerHop, sampled: shown < total, edgeEnds, edgeDirs, edgesTotal,
     };
@@ -330,7 +331,7 @@ export class FieldAnalyzer {
    * Beyond `maxEdges` pairs, those nearest the centre are kept: by the hop of the farther end, then
    * of the nearer end, then by position.
    */
-  private inducedEdges(ids: Int32Array, hops: Int32Array, flow: Flow, symmetrise: boolean, maxEdges: number): { edgeEnds: Int32Array; edgeDirs: Uint8Array; edgesTotal: number } {
+  private inducedEdges(ids: Int32Array, hops: Int32Array, sendingRow: SendingRow, symmetrise: boolean, maxEdges: number): { edgeEnds: Int32Array; edgeDirs: Uint8Array; edgesTotal: number } {
     const pos = this.pos;
     const m = ids.length;
     for (let i = 0; i < m; i++) pos[ids[i]!] = i;
@@ -342,8 +343,8 @@ export class FieldAnalyzer {
       for (let p = fwd.indptr[u]!; p < end; p++) {
         const b = pos[fwd.indices[p]!]!;
         if (b < 0 || b === a) continue;
-        // Stored u → w; messages go u → w with source-to-target, w → u otherwise.
-        const forward = flow === 'source-to-target';
+        // Stored u → w; messages go u → w when row 0 sends, w → u otherwise.
+        const forward = sendingRow === 0;
         const lo = a < b ? a : b, hi = a < b ? b : a;
         const fromLo = (a === lo) === forward;
         const bit = symmetrise ? 3 : fromLo ? 1 : 2;
@@ -388,16 +389,16 @@ export class FieldAnalyzer {
    * same self-loop choice as `view`. The sample holds every node when the graph is small, and fewer
    * (at least 16) when a full search per node would exceed the edge-scan budget.
    */
-  coverage(opts: { flow?: Flow; symmetrise?: boolean; selfLoops?: boolean; maxLayers?: number; cancel?: Cancel } = {}): PanelCoverage {
+  coverage(opts: { sendingRow?: SendingRow; symmetrise?: boolean; selfLoops?: boolean; maxLayers?: number; cancel?: Cancel } = {}): PanelCoverage {
     const maxLayers = opts.maxLayers ?? 8;
-    const flow = opts.flow ?? 'source-to-target';
+    const sendingRow = opts.sendingRow ?? 0;
     const symmetrise = opts.symmetrise === true;
     const selfLoops = opts.selfLoops !== false;
     const entries = Math.max(1, this.g.fwd.indices.length * (symmetrise ? 2 : 1));
     const perNode = selfLoops ? entries : entries * maxLayers;
     const sampleSize = Math.max(16, Math.min(256, Math.floor(COVERAGE_BUDGET / perNode)));
     if (selfLoops) {
-      const c = coverageCurve(this.g, { flow, symmetrise, maxLayers, sampleSize, ...(opts.cancel ? { cancel: opts.cancel } : {}) });
+      const c = coverageCurve(this.g, { sendingRow, symmetrise, maxLayers, sampleSize, ...(opts.cancel ? { cancel: opts.cancel } : {}) });
       return { layers: c.layers, median: c.median, p90: c.p90, sampled: c.sample.length, allNodes: c.allNodes };
     }
     const n = this.n;
@@ -407,7 +408,7 @@ export class FieldAnalyzer {
     const cov = layers.map(() => new Float64Array(sample.length));
     for (let i = 0; i < sample.length; i++) {
       throwIfCancelled(opts.cancel);
-      this.walkFrontier(sample[i]!, maxLayers, flow, symmetrise, (k, size) => { cov[k - 1]![i] = size / n; }, opts.cancel);
+      this.walkFrontier(sample[i]!, maxLayers, sendingRow, symmetrise, (k, size) => { cov[k - 1]![i] = size / n; }, opts.cancel);
     }
     const median: number[] = [], p90: number[] = [];
     for (const c of cov) { c.sort(); median.push(percentileSorted(c, 50)); p90.push(percentileSorted(c, 90)); }

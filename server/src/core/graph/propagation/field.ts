@@ -3,10 +3,10 @@
  * what hop distance; plus the coverage curve (how much of the graph a typical node's field holds
  * at depth 1..8).
  *
- * Message flow follows the usual edge-index convention:
- * - `source-to-target` (default): src = sender, dst = receiver, so node v hears from its
- *   in-neighbours; the field is a breadth-first search over the reverse graph.
- * - `target-to-source`: messages travel dst → src, so the search runs over the forward graph.
+ * Which end of an edge sends (`sendingRow`, the edge index's row; an edge list's column):
+ * - 0 (default): src = sender, dst = receiver, so node v hears from its in-neighbours; the field
+ *   is a breadth-first search over the reverse graph.
+ * - 1: messages travel dst → src, so the search runs over the forward graph.
  * - `symmetrise`: every edge carries messages both ways (the search uses both).
  *
  * A `FieldWalker` keeps its buffers (queue, hop distance, visit stamp) between searches: a node
@@ -17,7 +17,8 @@ import type { Csr } from '../structure/csr';
 import { throwIfCancelled, type Cancel } from '../structure/simple-undirected';
 import { seededRandom } from '../../random';
 
-export type Flow = 'source-to-target' | 'target-to-source';
+export type { SendingRow } from '../../../../../common/report';
+import type { SendingRow } from '../../../../../common/report';
 
 /** The two sorted CSR views of one graph (as `loadGraph` / `buildSortedPair` return them). */
 export interface FieldGraph {
@@ -27,7 +28,8 @@ export interface FieldGraph {
 }
 
 export interface FieldOptions {
-  flow?: Flow;
+  /** Which row of the edge index sends (default 0). */
+  sendingRow?: SendingRow;
   symmetrise?: boolean;
   cancel?: Cancel;
 }
@@ -35,7 +37,7 @@ export interface FieldOptions {
 export interface ReceptiveField {
   node: number;
   layers: number;
-  flow: Flow;
+  sendingRow: SendingRow;
   symmetrised: boolean;
   /** perHop[k] = nodes at exactly k hops, k = 0..layers (perHop[0] = 1, the node itself). */
   perHop: number[];
@@ -75,10 +77,10 @@ export class FieldWalker {
     if (!Number.isInteger(v) || v < 0 || v >= n) throw new RangeError(`node ${v} is not in 0..${n - 1}`);
     if (!Number.isInteger(layers) || layers < 0) throw new RangeError(`layers must be a non-negative integer, got ${layers}`);
     const symmetrise = opts.symmetrise === true;
-    const flow = opts.flow ?? 'source-to-target';
+    const rowZeroSends = (opts.sendingRow ?? 0) === 0;
     // Which rows list the senders of a node's messages.
-    const first = flow === 'source-to-target' ? this.g.rev : this.g.fwd;
-    const second = symmetrise ? (flow === 'source-to-target' ? this.g.fwd : this.g.rev) : null;
+    const first = rowZeroSends ? this.g.rev : this.g.fwd;
+    const second = symmetrise ? (rowZeroSends ? this.g.fwd : this.g.rev) : null;
     const cancel = opts.cancel;
 
     if (this.epoch === 0x7fffffff) {
@@ -137,7 +139,7 @@ export class FieldWalker {
     const hops = new Int32Array(total);
     for (let i = 0; i < total; i++) hops[i] = this.dist[nodes[i]!]!;
     return {
-      node: v, layers, flow: opts.flow ?? 'source-to-target', symmetrised: opts.symmetrise === true,
+      node: v, layers, sendingRow: opts.sendingRow ?? 0, symmetrised: opts.symmetrise === true,
       perHop, total, coverage: total / this.n, nodes, hops,
     };
   }
