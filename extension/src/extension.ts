@@ -8,9 +8,9 @@ import { TensorViewerProvider, VIEW_TYPE } from './viewer';
 import { OPEN_FIELD_PANEL, registerPanel } from './panel';
 import { registerInspect } from './debug/inspect';
 import {
-  DEFAULT_SETTINGS, FixedCopyRequest, RecheckRequest, StatusNotification,
-  type FixedCopyResult, type ServerSettings, type StatusParams,
+  FixedCopyRequest, RecheckRequest, StatusNotification,
 } from '../../common/protocol';
+import { readServerSettings, type ServerSettings } from '../../common/settings';
 
 const GRAPH_GLOB = '**/*.{npy,npz,safetensors,pt,pth,mtx,edges,el,csv,tsv,txt,json,gz}';
 /** Documents the server looks at: text graph files (diagnostics, fixes) and code (path hovers). */
@@ -50,7 +50,7 @@ export async function activate(context: vscode.ExtensionContext): Promise<void> 
       if (uri) await vscode.commands.executeCommand('vscode.openWith', uri, VIEW_TYPE);
     }),
     vscode.commands.registerCommand('hopscope.recheckWorkspace', async () => {
-      await client?.sendRequest(RecheckRequest.method);
+      await client?.sendRequest(RecheckRequest.type);
     }),
     vscode.commands.registerCommand('hopscope.writeFixedCopy', async (arg?: vscode.Uri) => {
       const uri = arg ?? activeGraphUri();
@@ -68,13 +68,20 @@ export async function activate(context: vscode.ExtensionContext): Promise<void> 
   };
   const clientOptions: LanguageClientOptions = {
     documentSelector: DOCUMENTS,
-    synchronize: { fileEvents: vscode.workspace.createFileSystemWatcher(GRAPH_GLOB) },
+    synchronize: {
+      fileEvents: [
+        vscode.workspace.createFileSystemWatcher(GRAPH_GLOB),
+        // A renamed or deleted folder is reported as the folder alone, whatever its name: the
+        // server walks it (or forgets what was below it). Changes inside are the first watcher's.
+        vscode.workspace.createFileSystemWatcher('**/*', false, true, false),
+      ],
+    },
     outputChannel: output,
     initializationOptions: readSettings(),
     markdown: { isTrusted: { enabledCommands: ['hopscope.openViewer', OPEN_FIELD_PANEL] } },
   };
   client = new LanguageClient('hopscope', 'Hopscope', serverOptions, clientOptions);
-  context.subscriptions.push(client.onNotification(StatusNotification.method, (s: StatusParams) => {
+  context.subscriptions.push(client.onNotification(StatusNotification.type, (s) => {
     const icon = s.busy ? '$(sync~spin)' : s.errors ? '$(error)' : s.warnings ? '$(warning)' : '$(check)';
     status.text = `${icon} Hopscope ${s.errors}/${s.warnings}`;
     status.tooltip = `Hopscope: ${s.filesChecked} graph file${s.filesChecked === 1 ? '' : 's'} checked — ${s.errors} errors, ${s.warnings} warnings, ${s.infos} info${s.busy ? ' (checking…)' : ''}. Click for the Problems panel.`;
@@ -96,15 +103,10 @@ export async function deactivate(): Promise<void> {
   await client?.stop();
 }
 
+/** The settings the language server uses, read and checked against the one table (common/settings.ts). */
 function readSettings(): ServerSettings {
   const c = vscode.workspace.getConfiguration('hopscope');
-  return {
-    defaultDirectedness: c.get('defaultDirectedness', DEFAULT_SETTINGS.defaultDirectedness),
-    flow: c.get('flow', DEFAULT_SETTINGS.flow),
-    maxFileSizeMB: c.get('maxFileSizeMB', DEFAULT_SETTINGS.maxFileSizeMB),
-    exclude: c.get('exclude', DEFAULT_SETTINGS.exclude),
-    severity: c.get('severity', DEFAULT_SETTINGS.severity),
-  };
+  return readServerSettings((key) => c.get(key));
 }
 
 function activeGraphUri(): vscode.Uri | undefined {
@@ -123,14 +125,14 @@ async function pickGraphFile(): Promise<vscode.Uri | undefined> {
 /** Shows what a corrected copy would change, then writes it under a new name (never over the original). */
 async function fixedCopy(uri: vscode.Uri, output: vscode.LogOutputChannel): Promise<void> {
   if (!client) return;
-  const plan = await client.sendRequest<FixedCopyResult>(FixedCopyRequest.method, { uri: uri.toString() });
+  const plan = await client.sendRequest(FixedCopyRequest.type, { uri: uri.toString() });
   const target = vscode.Uri.file(plan.suggestedTarget);
   const detail = plan.changes.map((c) => `• ${c}`).join('\n');
   const go = await vscode.window.showInformationMessage(
     `Write a corrected copy as ${vscode.workspace.asRelativePath(target)}?`, { modal: true, detail: `${detail}\n\nThe original file is not changed.` }, 'Write Copy');
   if (go !== 'Write Copy') return;
   try {
-    const done = await client.sendRequest<FixedCopyResult>(FixedCopyRequest.method, { uri: uri.toString(), write: true, target: target.fsPath });
+    const done = await client.sendRequest(FixedCopyRequest.type, { uri: uri.toString(), write: true, target: target.fsPath });
     output.info(`wrote ${done.written}: ${done.changes.join('; ')}`);
     const open = await vscode.window.showInformationMessage(`Wrote ${vscode.workspace.asRelativePath(target)}.`, 'Open');
     if (open) await vscode.commands.executeCommand('vscode.openWith', target, VIEW_TYPE);

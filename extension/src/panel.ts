@@ -2,7 +2,9 @@
  * The receptive-field panel: a webview (webview/src/panel.ts) that shows what an L-layer
  * message-passing model lets one node of a graph file hear. This side opens and restores panels,
  * relays the webview's questions to the language server (protocol.ts: hopscope/field, wlClasses,
- * bottlenecks, smoothing) and saves exported drawings where the user says.
+ * bottlenecks, smoothing) and saves exported drawings where the user says. A newer question of the
+ * same kind (the slider moved again) cancels the one still being answered, and closing the panel
+ * cancels all of its questions: the server stops that work instead of finishing it for no one.
  *
  * Opened by the `hopscope.openFieldPanel` command (palette, explorer menu, the tensor viewer's
  * button, hover links); one panel per graph file. Panels come back after a reload through the
@@ -12,10 +14,10 @@ import * as vscode from 'vscode';
 import type { LanguageClient } from 'vscode-languageclient/node';
 import {
   BottlenecksRequest, FieldViewRequest, FileSummaryRequest, SmoothingRequest, WlClassesRequest,
-  type BottlenecksPayload, type FieldViewPayload, type FileSummary, type SmoothingPayload, type WlClassesPayload,
 } from '../../common/protocol';
 import { PANEL_VIEW_TYPE, type PanelMessage, type PanelRequest, type PanelState } from '../../common/panel-messages';
 import { makeNonce, panelHtml } from './panel-html';
+import { readSetting } from '../../common/settings';
 
 export const OPEN_FIELD_PANEL = 'hopscope.openFieldPanel';
 const GRAPH_FILES = '**/*.{npy,npz,safetensors,pt,pth,mtx,mtx.gz,edges,el,csv,tsv,txt,json}';
@@ -80,7 +82,7 @@ async function pickGraphFile(): Promise<vscode.Uri | undefined> {
 async function askNode(uri: vscode.Uri, client: LanguageClient | undefined): Promise<number | undefined> {
   let range: { lo: number; hi: number } | undefined;
   try {
-    const s = await client?.sendRequest<FileSummary>(FileSummaryRequest.method, { uri: uri.toString(), wait: false });
+    const s = await client?.sendRequest(FileSummaryRequest.type, { uri: uri.toString(), wait: false });
     const g = s?.report?.graph;
     if (g && g.nodes > 0) range = { lo: g.indexBase, hi: g.nodes - 1 + g.indexBase };
   } catch {
@@ -100,9 +102,21 @@ async function askNode(uri: vscode.Uri, client: LanguageClient | undefined): Pro
   return text === undefined ? undefined : Number(text.trim());
 }
 
+/** Which in-flight questions a new one makes stale: wl and bottlenecks answers belong to one field. */
+const SUPERSEDES: Record<'field' | 'wl' | 'bottlenecks' | 'smoothing', ReadonlyArray<'field' | 'wl' | 'bottlenecks' | 'smoothing'>> = {
+  field: ['field', 'wl', 'bottlenecks'],
+  wl: ['wl'],
+  bottlenecks: ['bottlenecks'],
+  smoothing: ['smoothing'],
+};
+type Question = keyof typeof SUPERSEDES;
+
 class FieldPanelHost {
   private readonly subs: vscode.Disposable[] = [];
   private pendingNode: number | undefined;
+  /** Questions sent to the server and not answered yet, by kind. */
+  private readonly inFlight = new Map<Question, vscode.CancellationTokenSource>();
+  private disposed = false;
 
   constructor(
     private readonly panel: vscode.WebviewPanel,
@@ -127,7 +141,28 @@ class FieldPanelHost {
     let timer: NodeJS.Timeout | undefined;
     const changed = () => { clearTimeout(timer); timer = setTimeout(() => this.post({ type: 'changed' }), 500); };
     this.subs.push(watcher, watcher.onDidChange(changed), watcher.onDidCreate(changed), watcher.onDidDelete(changed));
-    panel.onDidDispose(() => { clearTimeout(timer); this.subs.forEach((d) => d.dispose()); });
+    panel.onDidDispose(() => {
+      this.disposed = true;
+      clearTimeout(timer);
+      this.subs.forEach((d) => d.dispose());
+      for (const s of this.inFlight.values()) { s.cancel(); s.dispose(); }
+      this.inFlight.clear();
+    });
+  }
+
+  /** A token for a new question of `kind`; the questions it makes stale are cancelled. */
+  private begin(kind: Question): vscode.CancellationTokenSource {
+    for (const k of SUPERSEDES[kind]) {
+      const old = this.inFlight.get(k);
+      if (old) { old.cancel(); old.dispose(); this.inFlight.delete(k); }
+    }
+    const source = new vscode.CancellationTokenSource();
+    this.inFlight.set(kind, source);
+    return source;
+  }
+
+  private end(kind: Question, source: vscode.CancellationTokenSource): void {
+    if (this.inFlight.get(kind) === source) { this.inFlight.delete(kind); source.dispose(); }
   }
 
   /** Brings the panel forward, centred on `node`. */
@@ -167,35 +202,46 @@ class FieldPanelHost {
           return;
       }
       if (!client) { this.post({ type: 'error', ...(seq !== undefined ? { seq } : {}), message: 'The Hopscope language server is not running (see Hopscope: Show Log).' }); return; }
+    } catch (e) {
+      this.post({ type: 'error', ...(seq !== undefined ? { seq } : {}), message: (e as Error).message });
+      return;
+    }
+    const source = this.begin(m.type);
+    const token = source.token;
+    try {
       switch (m.type) {
         case 'field': {
-          const view = await client.sendRequest<FieldViewPayload>(FieldViewRequest.method, { uri, ...m.query, maxNodes: maxDrawn(this.uri) });
+          const view = await client.sendRequest(FieldViewRequest.type, { uri, ...m.query, maxNodes: maxDrawn(this.uri) }, token);
+          if (token.isCancellationRequested) return;
           this.panel.title = panelTitle(this.uri, view.node);
           this.post({ type: 'field', seq: m.seq, view });
           break;
         }
         case 'wl': {
-          const data = await client.sendRequest<WlClassesPayload>(WlClassesRequest.method, { uri, nodes: m.nodes });
-          this.post({ type: 'wl', seq: m.seq, data });
+          const data = await client.sendRequest(WlClassesRequest.type, { uri, nodes: m.nodes }, token);
+          if (!token.isCancellationRequested) this.post({ type: 'wl', seq: m.seq, data });
           break;
         }
         case 'bottlenecks': {
-          const data = await client.sendRequest<BottlenecksPayload>(BottlenecksRequest.method, { uri, edges: m.edges });
-          this.post({ type: 'bottlenecks', seq: m.seq, data });
+          const data = await client.sendRequest(BottlenecksRequest.type, { uri, edges: m.edges }, token);
+          if (!token.isCancellationRequested) this.post({ type: 'bottlenecks', seq: m.seq, data });
           break;
         }
         case 'smoothing': {
           try {
-            const data = await client.sendRequest<SmoothingPayload | null>(SmoothingRequest.method, { uri, steps: 8 });
-            this.post({ type: 'smoothing', data });
+            const data = await client.sendRequest(SmoothingRequest.type, { uri, steps: 8 }, token);
+            if (!token.isCancellationRequested) this.post({ type: 'smoothing', data });
           } catch (e) {
-            this.post({ type: 'smoothing', data: null, note: (e as Error).message });
+            if (!token.isCancellationRequested) this.post({ type: 'smoothing', data: null, note: (e as Error).message });
           }
           break;
         }
       }
     } catch (e) {
-      this.post({ type: 'error', ...(seq !== undefined ? { seq } : {}), message: (e as Error).message });
+      // A cancelled question was replaced by a newer one (or the panel closed): nothing to show.
+      if (!token.isCancellationRequested && !this.disposed) this.post({ type: 'error', ...(seq !== undefined ? { seq } : {}), message: (e as Error).message });
+    } finally {
+      this.end(m.type, source);
     }
   }
 
@@ -212,7 +258,7 @@ class FieldPanelHost {
 }
 
 function maxDrawn(uri: vscode.Uri): number {
-  return vscode.workspace.getConfiguration('hopscope', uri).get<number>('panel.maxDrawnNodes', 2000);
+  return readSetting('panel.maxDrawnNodes', vscode.workspace.getConfiguration('hopscope', uri).get('panel.maxDrawnNodes'));
 }
 
 /** Bytes posted by the webview arrive as a Uint8Array, or as a plain array / object of numbers from older hosts. */

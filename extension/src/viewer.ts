@@ -1,13 +1,10 @@
 /**
  * The tensor viewer: a read-only custom editor for binary graph files. The webview only draws;
- * every figure comes from the language server through the requests in server/src/protocol.ts.
+ * every figure comes from the language server through the requests in common/protocol.ts.
  */
 import * as vscode from 'vscode';
 import type { LanguageClient } from 'vscode-languageclient/node';
-import {
-  FileSummaryRequest, TensorPageRequest, TensorStatsRequest,
-  type FileSummary, type TensorPage, type TensorStats,
-} from '../../common/protocol';
+import { FileSummaryRequest, TensorPageRequest, TensorStatsRequest } from '../../common/protocol';
 import type { ViewerMessage, ViewerRequest } from '../../common/viewer-messages';
 import { makeNonce, webviewPage } from './webview-page';
 
@@ -39,7 +36,7 @@ export class TensorViewerProvider implements vscode.CustomReadonlyEditorProvider
       const c = this.client();
       if (!c) { send({ type: 'error', message: 'The Hopscope language server is not running.' }); return; }
       try {
-        const summary = await c.sendRequest<FileSummary>(FileSummaryRequest.method, { uri: document.uri.toString(), wait: true });
+        const summary = await c.sendRequest(FileSummaryRequest.type, { uri: document.uri.toString(), wait: true });
         send({ type: 'summary', summary, fileName });
       } catch (e) {
         send({ type: 'error', message: `Could not read ${fileName}: ${(e as Error).message}` });
@@ -55,12 +52,12 @@ export class TensorViewerProvider implements vscode.CustomReadonlyEditorProvider
             await sendSummary();
             break;
           case 'page': {
-            const page = await c?.sendRequest<TensorPage | null>(TensorPageRequest.method, { uri: document.uri.toString(), tensor: m.tensor, rowStart: m.rowStart, rowCount: m.rowCount });
+            const page = await c?.sendRequest(TensorPageRequest.type, { uri: document.uri.toString(), tensor: m.tensor, rowStart: m.rowStart, rowCount: m.rowCount });
             if (page) send({ type: 'page', page });
             break;
           }
           case 'stats': {
-            const stats = await c?.sendRequest<TensorStats | null>(TensorStatsRequest.method, { uri: document.uri.toString(), tensor: m.tensor });
+            const stats = await c?.sendRequest(TensorStatsRequest.type, { uri: document.uri.toString(), tensor: m.tensor });
             if (stats) send({ type: 'stats', stats });
             break;
           }

@@ -7,7 +7,12 @@ import { spawn, type ChildProcess } from 'node:child_process';
 import * as fs from 'node:fs';
 import * as path from 'node:path';
 import { createMessageConnection, StreamMessageReader, StreamMessageWriter, type MessageConnection } from 'vscode-jsonrpc/node';
+import {
+  ConfigurationRequest, InitializedNotification, InitializeRequest, PublishDiagnosticsNotification, RegistrationRequest,
+  ShutdownRequest, WorkDoneProgressCreateRequest,
+} from 'vscode-languageserver-protocol';
 import { URI } from 'vscode-uri';
+import { StatusNotification } from '../../common/protocol';
 
 export const ROOT = path.join(__dirname, '../..');
 
@@ -28,25 +33,25 @@ export async function startServer(workspace: string, name: string, listen: (conn
   const child = spawn(process.execPath, [server, '--stdio'], { stdio: ['pipe', 'pipe', 'inherit'] });
   child.stdin!.on('error', () => { /* the server may exit before the last write */ });
   const conn = createMessageConnection(new StreamMessageReader(child.stdout!), new StreamMessageWriter(child.stdin!));
-  conn.onNotification('textDocument/publishDiagnostics', () => {});
-  conn.onNotification('hopscope/status', () => {});
+  conn.onNotification(PublishDiagnosticsNotification.type, () => {});
+  conn.onNotification(StatusNotification.type, () => {});
   listen(conn);
-  conn.onRequest('workspace/configuration', () => [null, null]);
-  conn.onRequest('client/registerCapability', () => null);
-  conn.onRequest('window/workDoneProgress/create', () => null);
+  conn.onRequest(ConfigurationRequest.type, () => [null, null]);
+  conn.onRequest(RegistrationRequest.type, () => undefined);
+  conn.onRequest(WorkDoneProgressCreateRequest.type, () => undefined);
   conn.listen();
-  await conn.sendRequest('initialize', {
+  await conn.sendRequest(InitializeRequest.type, {
     processId: process.pid, rootUri: URI.file(workspace).toString(), workspaceFolders: [{ uri: URI.file(workspace).toString(), name }],
     capabilities: { workspace: { configuration: true }, window: { workDoneProgress: true }, ...capabilities },
   });
-  await conn.sendNotification('initialized', {});
+  await conn.sendNotification(InitializedNotification.type, {});
   return { child, conn };
 }
 
 /** Shuts the server down (politely, then by signal) and removes the workspace folder. */
 export async function stopServer(s: ServerSession | undefined, workspace: string | undefined): Promise<void> {
   if (s) {
-    try { await s.conn.sendRequest('shutdown'); } catch { /* already gone */ }
+    try { await s.conn.sendRequest(ShutdownRequest.type); } catch { /* already gone */ }
     s.child.kill();
     s.conn.dispose();
   }

@@ -9,14 +9,19 @@ import * as os from 'node:os';
 import * as path from 'node:path';
 import { spawnSync } from 'node:child_process';
 import type { MessageConnection } from 'vscode-jsonrpc/node';
+import {
+  CodeActionRequest, DidChangeWatchedFilesNotification, DidOpenTextDocumentNotification, FileChangeType, HoverRequest,
+  PublishDiagnosticsNotification, type CodeAction, type Diagnostic, type Hover,
+} from 'vscode-languageserver-protocol';
 import { URI } from 'vscode-uri';
+import { FileSummaryRequest, StatusNotification, TensorPageRequest, TensorStatsRequest } from '../../common/protocol';
 
 import { ROOT as root, startServer, stopServer, type ServerSession } from './lsp-client';
 
 let ws: string;
 let session: ServerSession | undefined;
 let conn: MessageConnection;
-const diagnostics = new Map<string, Array<{ code: string; severity: number; range: { start: { line: number; character: number }; end: { line: number; character: number } }; message: string; codeDescription?: { href: string }; relatedInformation?: unknown[] }>>();
+const diagnostics = new Map<string, Diagnostic[]>();
 const waiters: Array<() => void> = [];
 const statuses: Array<{ filesChecked: number; busy: boolean; errors: number }> = [];
 
@@ -28,6 +33,8 @@ function waitFor(pred: () => boolean, ms = 30_000): Promise<void> {
   });
 }
 const uri = (rel: string) => URI.file(path.join(ws, rel)).toString();
+/** The Markdown of a hover (the server always answers with one MarkupContent). */
+const hoverText = (h: Hover | null) => ({ contents: { value: (h?.contents as { value: string } | undefined)?.value ?? '' } });
 const diags = (rel: string) => diagnostics.get(uri(rel)) ?? [];
 
 beforeAll(async () => {
@@ -37,11 +44,11 @@ beforeAll(async () => {
   // numpy.savetxt metrics table): never a diagnostic.
   for (const f of ['README.txt', 'metrics.csv']) fs.copyFileSync(path.join(root, 'tests/fixtures/textfiles', f), path.join(ws, 'lanes', f));
   session = await startServer(ws, 'demo', (c) => {
-    c.onNotification('textDocument/publishDiagnostics', (p: { uri: string; diagnostics: never[] }) => {
+    c.onNotification(PublishDiagnosticsNotification.type, (p) => {
       diagnostics.set(p.uri, p.diagnostics);
       waiters.forEach((w) => w());
     });
-    c.onNotification('hopscope/status', (s: { filesChecked: number; busy: boolean; errors: number }) => { statuses.push(s); waiters.forEach((w) => w()); });
+    c.onNotification(StatusNotification.type, (s) => { statuses.push(s); waiters.forEach((w) => w()); });
   }, { textDocument: { publishDiagnostics: { relatedInformation: true } } });
   conn = session.conn;
   await waitFor(() => statuses.some((s) => !s.busy && s.filesChecked >= 17), 60_000);
@@ -73,11 +80,11 @@ describe('language server over stdio', () => {
   it('hover on a path string in a Python file shows shapes and roles', async () => {
     const file = path.join(ws, 'train_docks.py');
     const text = fs.readFileSync(file, 'utf8');
-    await conn.sendNotification('textDocument/didOpen', { textDocument: { uri: uri('train_docks.py'), languageId: 'python', version: 1, text } });
+    await conn.sendNotification(DidOpenTextDocumentNotification.type, { textDocument: { uri: uri('train_docks.py'), languageId: 'python', version: 1, text } });
     const lines = text.split('\n');
     const line = lines.findIndex((l) => l.includes('lanes/dock_features.npy'));
     const character = lines[line]!.indexOf('dock_features') + 3;
-    const h = await conn.sendRequest('textDocument/hover', { textDocument: { uri: uri('train_docks.py') }, position: { line, character } }) as { contents: { value: string } };
+    const h = hoverText(await conn.sendRequest(HoverRequest.type, { textDocument: { uri: uri('train_docks.py') }, position: { line, character } }));
     expect(h.contents.value).toContain('[48, 6]');
     expect(h.contents.value).toContain('features');
     expect(h.contents.value).toMatch(/non-finite-features/);
@@ -91,15 +98,15 @@ describe('language server over stdio', () => {
     const lines = text.split('\n');
     const line = lines.findIndex((l) => l.includes('checkpoints/dock_graph.pt'));
     const character = lines[line]!.indexOf('dock_graph') + 2;
-    const h = await conn.sendRequest('textDocument/hover', { textDocument: { uri: uri('train_docks.py') }, position: { line, character } }) as { contents: { value: string } };
+    const h = hoverText(await conn.sendRequest(HoverRequest.type, { textDocument: { uri: uri('train_docks.py') }, position: { line, character } }));
     expect(h.contents.value).toMatch(/— pt/);
     expect(h.contents.value).toContain('| edge\\_index | int64 | [2, 112] | edge-index |');
   });
 
   it('hover on a node id in an edge list shows its degree and neighbours', async () => {
     const text = fs.readFileSync(path.join(ws, 'lanes/lanes.csv'), 'utf8');
-    await conn.sendNotification('textDocument/didOpen', { textDocument: { uri: uri('lanes/lanes.csv'), languageId: 'csv', version: 1, text } });
-    const h = await conn.sendRequest('textDocument/hover', { textDocument: { uri: uri('lanes/lanes.csv') }, position: { line: 2, character: 0 } }) as { contents: { value: string } };
+    await conn.sendNotification(DidOpenTextDocumentNotification.type, { textDocument: { uri: uri('lanes/lanes.csv'), languageId: 'csv', version: 1, text } });
+    const h = hoverText(await conn.sendRequest(HoverRequest.type, { textDocument: { uri: uri('lanes/lanes.csv') }, position: { line: 2, character: 0 } }));
     // line 3 is "0,25,92": node 0. Its out-neighbours, read here with a plain split of the lines:
     const out = [...new Set(text.split('\n').filter((l) => /^0,\d+,/.test(l)).map((l) => Number(l.split(',')[1])))].sort((a, b) => a - b);
     expect(out.length).toBeGreaterThan(1);
@@ -109,13 +116,13 @@ describe('language server over stdio', () => {
 
   it('quick fixes on the edge list are workspace edits', async () => {
     const d = diags('lanes/lanes.csv').filter((x) => x.code === 'self-loops' || x.code === 'asymmetric-adjacency');
-    const actions = await conn.sendRequest('textDocument/codeAction', {
+    const actions = await conn.sendRequest(CodeActionRequest.type, {
       textDocument: { uri: uri('lanes/lanes.csv') }, range: d[0]!.range, context: { diagnostics: d },
-    }) as Array<{ title: string; edit: { changes: Record<string, Array<{ range: unknown; newText: string }>> } }>;
+    }) as CodeAction[];
     const titles = actions.map((a) => a.title);
     expect(titles).toEqual(expect.arrayContaining(['Remove 1 self-loop line', 'Add 1 missing reverse edge']));
     const add = actions.find((a) => a.title.startsWith('Add'))!;
-    expect(add.edit.changes[uri('lanes/lanes.csv')]![0]!.newText).toBe('1,37,137\n');
+    expect(add.edit!.changes![uri('lanes/lanes.csv')]![0]!.newText).toBe('1,37,137\n');
   });
 
   it('a list with each lane written once gets an info, and the same quick fix adds the reverse lines', async () => {
@@ -124,12 +131,12 @@ describe('language server over stdio', () => {
     expect(d).toHaveLength(1);
     expect(d[0]!.severity).toBe(3); // Information
     const text = fs.readFileSync(path.join(ws, 'archive/lanes_2018.el'), 'utf8');
-    await conn.sendNotification('textDocument/didOpen', { textDocument: { uri: uri('archive/lanes_2018.el'), languageId: 'plaintext', version: 1, text } });
-    const actions = await conn.sendRequest('textDocument/codeAction', {
+    await conn.sendNotification(DidOpenTextDocumentNotification.type, { textDocument: { uri: uri('archive/lanes_2018.el'), languageId: 'plaintext', version: 1, text } });
+    const actions = await conn.sendRequest(CodeActionRequest.type, {
       textDocument: { uri: uri('archive/lanes_2018.el') }, range: d[0]!.range, context: { diagnostics: d },
-    }) as Array<{ title: string; edit: { changes: Record<string, Array<{ newText: string }>> } }>;
+    }) as CodeAction[];
     expect(actions.map((a) => a.title)).toEqual(['Add 25 missing reverse edges']);
-    const added = actions[0]!.edit.changes[uri('archive/lanes_2018.el')]![0]!.newText.trim().split('\n');
+    const added = actions[0]!.edit!.changes![uri('archive/lanes_2018.el')]![0]!.newText.trim().split('\n');
     expect(added).toHaveLength(25);
     expect(added[0]).toBe('1 0'); // the reverse of the first lane, "0 1"
   });
@@ -139,22 +146,22 @@ describe('language server over stdio', () => {
     // regression into a failure, and stopping the server ends it.
     const fifo = path.join(ws, 'archive', 'pipe.npy');
     if (spawnSync('mkfifo', [fifo]).status !== 0) return; // no mkfifo here
-    const s = await conn.sendRequest('hopscope/fileSummary', { uri: URI.file(fifo).toString() }) as { status: string };
+    const s = await conn.sendRequest(FileSummaryRequest.type, { uri: URI.file(fifo).toString() });
     expect(s.status).toBe('unsupported');
     const text = 'x = np.load("archive/pipe.npy")\n';
-    await conn.sendNotification('textDocument/didOpen', { textDocument: { uri: uri('pipe_user.py'), languageId: 'python', version: 1, text } });
-    const h = await conn.sendRequest('textDocument/hover', { textDocument: { uri: uri('pipe_user.py') }, position: { line: 0, character: 20 } });
+    await conn.sendNotification(DidOpenTextDocumentNotification.type, { textDocument: { uri: uri('pipe_user.py'), languageId: 'python', version: 1, text } });
+    const h = await conn.sendRequest(HoverRequest.type, { textDocument: { uri: uri('pipe_user.py') }, position: { line: 0, character: 20 } });
     expect(h).toBeNull();
   }, 15_000);
 
   it('custom requests: summary, tensor page, statistics', async () => {
-    const s = await conn.sendRequest('hopscope/fileSummary', { uri: uri('lanes/dock_features.npy') }) as { status: string; report: { tensors: Array<{ shape: number[] }> } };
+    const s = await conn.sendRequest(FileSummaryRequest.type, { uri: uri('lanes/dock_features.npy') });
     expect(s.status).toBe('ok');
-    expect(s.report.tensors[0]!.shape).toEqual([48, 6]);
-    const page = await conn.sendRequest('hopscope/tensorPage', { uri: uri('lanes/dock_features.npy'), tensor: 'dock_features', rowStart: 7, rowCount: 2 }) as { rows: unknown[][]; totalRows: number };
+    expect(s.report!.tensors[0]!.shape).toEqual([48, 6]);
+    const page = (await conn.sendRequest(TensorPageRequest.type, { uri: uri('lanes/dock_features.npy'), tensor: 'dock_features', rowStart: 7, rowCount: 2 }))!;
     expect(page.totalRows).toBe(48);
     expect(page.rows[0]![1]).toBe('NaN'); // dock 7's elevation (planted in scripts/make-demo.mjs)
-    const stats = await conn.sendRequest('hopscope/tensorStats', { uri: uri('lanes/dock_features.npy'), tensor: 'dock_features' }) as { columns: Array<{ nan: number; inf: number }> };
+    const stats = (await conn.sendRequest(TensorStatsRequest.type, { uri: uri('lanes/dock_features.npy'), tensor: 'dock_features' }))!;
     expect(stats.columns[1]!.nan).toBe(1);
     expect(stats.columns[2]!.inf).toBe(1);
   });
@@ -162,12 +169,12 @@ describe('language server over stdio', () => {
   it('publishes nothing for text that is not an edge list, and clears an edge list that becomes prose', async () => {
     expect(diagnostics.has(uri('lanes/README.txt'))).toBe(false);
     expect(diagnostics.has(uri('lanes/metrics.csv'))).toBe(false);
-    const s = await conn.sendRequest('hopscope/fileSummary', { uri: uri('lanes/metrics.csv') }) as { status: string };
+    const s = await conn.sendRequest(FileSummaryRequest.type, { uri: uri('lanes/metrics.csv') });
     expect(s.status).toBe('unsupported');
     // An edge list with problems (closed_docks.el warns: empty graph) rewritten as notes.
     await waitFor(() => diags('archive/closed_docks.el').length > 0);
     fs.writeFileSync(path.join(ws, 'archive/closed_docks.el'), 'Docks closed in 2024:\nthe north square dock\nthe harbour dock\n');
-    await conn.sendNotification('workspace/didChangeWatchedFiles', { changes: [{ uri: uri('archive/closed_docks.el'), type: 2 }] });
+    await conn.sendNotification(DidChangeWatchedFilesNotification.type, { changes: [{ uri: uri('archive/closed_docks.el'), type: FileChangeType.Changed }] });
     await waitFor(() => diags('archive/closed_docks.el').length === 0);
     expect(diagnostics.has(uri('lanes/README.txt'))).toBe(false);
   });
@@ -175,7 +182,7 @@ describe('language server over stdio', () => {
   it('re-checks a file changed on disk', async () => {
     const file = path.join(ws, 'weekend/riders.edges');
     fs.writeFileSync(file, '0 1\n1 0\n');
-    await conn.sendNotification('workspace/didChangeWatchedFiles', { changes: [{ uri: uri('weekend/riders.edges'), type: 2 }] });
+    await conn.sendNotification(DidChangeWatchedFilesNotification.type, { changes: [{ uri: uri('weekend/riders.edges'), type: FileChangeType.Changed }] });
     await waitFor(() => diags('weekend/riders.edges').length === 0);
   });
 });

@@ -14,7 +14,8 @@ import * as os from 'node:os';
 import * as path from 'node:path';
 import * as vscode from 'vscode';
 import type { LanguageClient } from 'vscode-languageclient/node';
-import { FileSummaryRequest, type FileSummary } from '../../../common/protocol';
+import { FileSummaryRequest } from '../../../common/protocol';
+import { readSetting } from '../../../common/settings';
 import { VIEW_TYPE } from '../viewer';
 import { labelFor, languageOfSession, type TensorInfo } from './snippets';
 import { fetchFromJavaScript, fetchFromPython, type Evaluate, type Fetched, type Refused } from './transfer';
@@ -70,8 +71,8 @@ async function inspect(arg: unknown, temps: TempFiles, getClient: () => Language
   const label = labelFor(expression);
   const cfg = vscode.workspace.getConfiguration('hopscope');
   const limits = {
-    inline: Math.max(1, cfg.get<number>('debug.maxInlineMB', 64)) * 1024 * 1024,
-    file: Math.max(1, cfg.get<number>('maxFileSizeMB', 1024)) * 1024 * 1024,
+    inline: readSetting('debug.maxInlineMB', cfg.get('debug.maxInlineMB')) * 1024 * 1024,
+    file: readSetting('maxFileSizeMB', cfg.get('maxFileSizeMB')) * 1024 * 1024,
   };
 
   const evaluate: Evaluate = async (expr, ctx) => {
@@ -198,7 +199,7 @@ function writeTemp(label: string, bytes: Uint8Array): string {
 async function problemCodes(client: LanguageClient | undefined, uri: vscode.Uri, expression: string): Promise<string[] | undefined> {
   if (!client) return undefined;
   try {
-    const s = await client.sendRequest<FileSummary>(FileSummaryRequest.method, { uri: uri.toString(), wait: true });
+    const s = await client.sendRequest(FileSummaryRequest.type, { uri: uri.toString(), wait: true });
     const problems = s.report?.problems ?? [];
     const count = (sev: string) => problems.filter((q) => q.severity === sev).length;
     const [errors, warnings] = [count('error'), count('warning')];

@@ -1,28 +1,31 @@
 /**
- * The receptive-field panel's requests (protocol.ts: hopscope/field, hopscope/wlClasses,
- * hopscope/bottlenecks, hopscope/smoothing). The work runs in the graph worker; a message for the
+ * The receptive-field panel's requests (common/protocol.ts: FieldViewRequest, WlClassesRequest,
+ * BottlenecksRequest, SmoothingRequest). The work runs in the graph worker; a message for the
  * user (unknown node, unreadable file) comes back as a RequestFailed error carrying that message.
+ *
+ * Each request's cancellation token goes to the worker, so `$/cancelRequest` (the panel moved its
+ * slider again, or closed) stops the analysis between chunks of work; the request then fails
+ * with RequestCancelled. A newer request of the same kind for the same file also supersedes the
+ * older one in the worker, for clients that do not cancel.
  */
-import { LSPErrorCodes, ResponseError, type Connection } from 'vscode-languageserver/node';
+import { LSPErrorCodes, ResponseError, type CancellationToken, type Connection } from 'vscode-languageserver/node';
 import { URI } from 'vscode-uri';
 import {
   BottlenecksRequest, FieldViewRequest, SmoothingRequest, WlClassesRequest,
-  type BottlenecksPayload, type FieldViewPayload, type SmoothingPayload, type WlClassesPayload,
 } from '../../../common/protocol';
-import type { AnalysisError } from '../node/analysis-service';
-
-/** The worker calls these requests need (WorkerService.api has them). */
-export interface AnalysisApi {
-  fieldView(file: string, p: Omit<FieldViewRequest.Params, 'uri'>): Promise<FieldViewPayload | AnalysisError>;
-  wlClasses(file: string, nodes: number[]): Promise<WlClassesPayload | AnalysisError>;
-  bottlenecks(file: string, edges: number[]): Promise<BottlenecksPayload | AnalysisError>;
-  smoothing(file: string, steps?: number): Promise<SmoothingPayload | AnalysisError | null>;
-}
+import { WorkerCancelled, type AnalysisError, type CallOptions, type WorkerApi } from '../node/worker-methods';
 
 /** Longest id list a request may carry (the panel draws at most 20,000 nodes). */
 const MAX_IDS = 200_000;
 
-function unwrap<T>(r: T | AnalysisError): T {
+async function unwrap<T>(work: Promise<T | AnalysisError>): Promise<T> {
+  let r: T | AnalysisError;
+  try {
+    r = await work;
+  } catch (e) {
+    if (e instanceof WorkerCancelled) throw new ResponseError(LSPErrorCodes.RequestCancelled, e.message);
+    throw e;
+  }
   if (r && typeof r === 'object' && 'error' in r) throw new ResponseError(LSPErrorCodes.RequestFailed, r.error);
   return r as T;
 }
@@ -34,16 +37,25 @@ function ids(xs: unknown, what: string): number[] {
   return xs as number[];
 }
 
-export function registerAnalysisRequests(connection: Connection, api: AnalysisApi): void {
+export function registerAnalysisRequests(connection: Connection, api: Pick<WorkerApi, 'fieldView' | 'wlClasses' | 'bottlenecks' | 'smoothing'>): void {
   const file = (uri: string) => URI.parse(uri).fsPath;
-  connection.onRequest(FieldViewRequest.method, async (p: FieldViewRequest.Params) => {
+  /** The token, ahead of queued workspace checks, superseding the last request of this kind for the file. */
+  const options = (kind: string, path: string, token: CancellationToken): CallOptions => ({ token, priority: 'high', supersedeKey: `${kind}:${path}` });
+  connection.onRequest(FieldViewRequest.type, (p, token) => {
     const { uri, ...rest } = p;
-    return unwrap(await api.fieldView(file(uri), rest));
+    const path = file(uri);
+    return unwrap(api.fieldView({ path, ...rest }, options('field', path, token)));
   });
-  connection.onRequest(WlClassesRequest.method, async (p: WlClassesRequest.Params) =>
-    unwrap(await api.wlClasses(file(p.uri), ids(p.nodes, 'nodes'))));
-  connection.onRequest(BottlenecksRequest.method, async (p: BottlenecksRequest.Params) =>
-    unwrap(await api.bottlenecks(file(p.uri), ids(p.edges, 'edges'))));
-  connection.onRequest(SmoothingRequest.method, async (p: SmoothingRequest.Params) =>
-    unwrap(await api.smoothing(file(p.uri), p.steps)));
+  connection.onRequest(WlClassesRequest.type, (p, token) => {
+    const path = file(p.uri);
+    return unwrap(api.wlClasses({ path, nodes: ids(p.nodes, 'nodes') }, options('wl', path, token)));
+  });
+  connection.onRequest(BottlenecksRequest.type, (p, token) => {
+    const path = file(p.uri);
+    return unwrap(api.bottlenecks({ path, edges: ids(p.edges, 'edges') }, options('bottlenecks', path, token)));
+  });
+  connection.onRequest(SmoothingRequest.type, (p, token) => {
+    const path = file(p.uri);
+    return unwrap(api.smoothing({ path, ...(p.steps !== undefined ? { steps: p.steps } : {}) }, options('smoothing', path, token)));
+  });
 }

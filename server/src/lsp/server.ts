@@ -1,32 +1,36 @@
 /**
- * Hopscope language server: the only place LSP types appear. Reading and checking happen in a
- * worker thread (node/worker.ts); this file scans the workspace, keeps diagnostics up to date,
- * answers hovers, code actions and the custom requests of protocol.ts.
+ * Hopscope language server: the only place LSP types appear. It speaks LSP and nothing else:
+ * reading, checking, the workspace walk and the analyses happen in the graph worker
+ * (node/worker.ts, through the typed table of node/worker-methods.ts); workspace.ts decides what
+ * to check when. This file answers hovers, code actions and the custom requests of
+ * common/protocol.ts (each handled by its RequestType object), and passes every request's
+ * cancellation token on to the worker.
  */
 import {
-  CodeActionKind, createConnection, DiagnosticSeverity, DidChangeConfigurationNotification,
-  ProposedFeatures, TextDocuments, TextDocumentSyncKind,
-  type CodeAction, type Connection, type Diagnostic, type DiagnosticRelatedInformation, type Hover,
+  CodeActionKind, createConnection, DidChangeConfigurationNotification, LSPErrorCodes,
+  ProposedFeatures, ResponseError, TextDocuments, TextDocumentSyncKind,
+  type CancellationToken, type CodeAction, type Connection, type Diagnostic, type Hover,
   type InitializeParams, type TextEdit, type WorkspaceFolder,
 } from 'vscode-languageserver/node';
 import { TextDocument } from 'vscode-languageserver-textdocument';
 import { URI } from 'vscode-uri';
 import * as fs from 'node:fs';
 import * as path from 'node:path';
-import { isSupportedFile, MANIFEST_NAME, readerFor } from '../core/formats';
+import { isSupportedFile, readerFor } from '../core/formats';
 import type { Problem, ProblemCode } from '../core/formats/types';
-import type { CheckSetOptions, FileReport } from '../core/checks/check-set';
+import type { CheckSetOptions } from '../core/checks/check-set';
 import { edgeListFixes, type FixKind } from '../core/fixes/edgelist-fixes';
-import { collect } from '../node/load';
-import { globMatcher } from '../node/glob';
 import { WorkerService } from '../node/worker-client';
-import type { CheckOutcome } from '../node/service';
+import { WorkerCancelled, type CallOptions } from '../node/worker-methods';
+import { nodeInfoOf } from '../node/shared-structure';
 import {
   DEFAULT_SETTINGS, FileSummaryRequest, FixedCopyRequest, NodeInfoRequest, RecheckRequest, StatusNotification,
-  TensorPageRequest, TensorStatsRequest, type FileSummary, type ServerSettings, type StatusParams,
+  TensorPageRequest, TensorStatsRequest, type FileSummary, type NodeInfo, type ServerSettings, type StatusParams,
 } from '../../../common/protocol';
-import { writeFixedCopy, describeFixedCopy } from '../node/fixed-copy';
 import { registerAnalysisRequests } from './analysis';
+import { inSection, readServerSettings } from '../../../common/settings';
+import { DiagnosticsPublisher, toDiagnostic } from './diagnostics';
+import { GraphWorkspace } from './workspace';
 import {
   codeExplanationMarkdown, fileSummaryMarkdown, integerAt, nodeInfoMarkdown, pathLiteralAt,
 } from './hover-text';
@@ -39,8 +43,16 @@ const EDGE_LIST_FIX_FOR: Partial<Record<ProblemCode, FixKind>> = {
   'duplicate-edges': 'remove-duplicates',
   'one-based-index': 'to-zero-based',
 };
-/** Files at most this large are checked on demand for a hover; larger ones answer "checking…". */
-const HOVER_WAIT_BYTES = 64 * 1024 ** 2;
+
+/** A worker call cancelled by the client's token (or superseded) answers the LSP way. */
+async function cancellable<T>(work: Promise<T>): Promise<T> {
+  try {
+    return await work;
+  } catch (e) {
+    if (e instanceof WorkerCancelled) throw new ResponseError(LSPErrorCodes.RequestCancelled, e.message);
+    throw e;
+  }
+}
 
 export function startServer(connection: Connection, workerScript: string): void {
   const documents = new TextDocuments(TextDocument);
@@ -53,16 +65,16 @@ export function startServer(connection: Connection, workerScript: string): void 
   let configurable = false;
   let progressSupported = false;
   let folderEvents = false;
-  /** Last published problems per file (absolute path), for status counts and hovers. */
-  const published = new Map<string, FileReport>();
-  const manifestPublished = new Map<string, Problem[]>();
-  /** Text files found to be something else than edge lists (README.txt, metrics.csv): never published. */
-  const notGraphFiles = new Set<string>();
-  /** Graph membership from the last checks: file → files of its graph. */
-  const graphOf = new Map<string, string[]>();
-  const pending = new Map<string, NodeJS.Timeout>();
-  let scanning = false;
-  let scanToken = 0;
+
+  const publisher = new DiagnosticsPublisher(connection);
+  const workspace = new GraphWorkspace(service, {
+    publish: (file, problems) => publisher.publish(file, problems.map((p) => toDiagnostic(p, file, DOCS_URL, relatedInfo))),
+    status: () => sendStatus(),
+    log: (s) => connection.console.warn(s),
+  });
+  const roots = () => folders.map((f) => URI.parse(f.uri).fsPath);
+  /** Calls made for a request: its token, ahead of the queued workspace checks. */
+  const forRequest = (token: CancellationToken | undefined, extra: CallOptions = {}): CallOptions => ({ priority: 'high', ...(token ? { token } : {}), ...extra });
 
   connection.onInitialize((params: InitializeParams) => {
     folders = params.workspaceFolders ?? (params.rootUri ? [{ uri: params.rootUri, name: 'root' }] : []);
@@ -71,8 +83,7 @@ export function startServer(connection: Connection, workerScript: string): void 
     configurable = caps.workspace?.configuration === true;
     progressSupported = caps.window?.workDoneProgress === true;
     folderEvents = caps.workspace?.workspaceFolders === true;
-    const init = params.initializationOptions as Partial<ServerSettings> | undefined;
-    if (init) settings = { ...settings, ...init };
+    if (params.initializationOptions) settings = readServerSettings(inSection(params.initializationOptions));
     return {
       capabilities: {
         textDocumentSync: { openClose: true, change: TextDocumentSyncKind.Incremental, save: { includeText: false } },
@@ -91,7 +102,7 @@ export function startServer(connection: Connection, workerScript: string): void 
     if (folderEvents) {
       connection.workspace.onDidChangeWorkspaceFolders((e) => {
         folders = folders.filter((f) => !e.removed.some((r) => r.uri === f.uri)).concat(e.added);
-        void scanWorkspace();
+        void loadSettings().then(() => scanWorkspace());
       });
     }
     await loadSettings();
@@ -103,184 +114,71 @@ export function startServer(connection: Connection, workerScript: string): void 
     void scanWorkspace();
   });
 
-
   async function loadSettings(): Promise<void> {
     if (configurable) {
-      const [h, files] = await connection.workspace.getConfiguration([{ section: 'hopscope' }, { section: 'files' }]) as [Partial<ServerSettings> | null, { exclude?: Record<string, boolean> } | null];
-      settings = { ...DEFAULT_SETTINGS, ...(h ?? {}) };
+      const [h, files] = await connection.workspace.getConfiguration([{ section: 'hopscope' }, { section: 'files' }]) as [unknown, { exclude?: Record<string, boolean> } | null];
+      settings = readServerSettings(inSection(h));
       filesExclude = Object.entries(files?.exclude ?? {}).filter(([, on]) => on).map(([g]) => g);
     }
-    excludeMatch = globMatcher([...filesExclude, ...(settings.exclude ?? [])]);
     const opts: CheckSetOptions = { severity: settings.severity ?? {} };
     if (settings.defaultDirectedness !== 'auto') opts.defaults = { directed: settings.defaultDirectedness === 'directed' };
-    opts.defaults = { ...(opts.defaults ?? {}), flow: settings.flow };
-    await service.configure(opts, { maxFileBytes: Math.max(1, settings.maxFileSizeMB) * 1024 ** 2 });
+    opts.defaults = { ...(opts.defaults ?? {}), sendingRow: settings.sendingRow };
+    workspace.setRoots(roots());
+    // The worker applies the size limit and the exclusions to every path it walks, reads or analyses.
+    await service.configure({
+      options: opts, maxFileBytes: Math.max(1, settings.maxFileSizeMB) * 1024 ** 2,
+      roots: roots(), exclude: [...filesExclude, ...(settings.exclude ?? [])],
+    });
   }
 
-  // Rebuilt only when the settings change: `excluded` runs for every entry of a workspace walk.
-  let excludeMatch = globMatcher([]);
-  function excluded(abs: string): boolean {
-    const match = excludeMatch;
-    for (const f of folders) {
-      const root = URI.parse(f.uri).fsPath;
-      const rel = path.relative(root, abs);
-      if (!rel.startsWith('..') && !path.isAbsolute(rel)) return match(rel);
-    }
-    return false;
-  }
-
-  // ---- checking and publishing ----------------------------------------------------------------
+  // ---- the workspace check and status ----------------------------------------------------------
 
   async function scanWorkspace(): Promise<void> {
-    const token = ++scanToken;
-    scanning = true;
-    sendStatus();
-    const roots = folders.map((f) => URI.parse(f.uri).fsPath);
     const progress = progressSupported ? await connection.window.createWorkDoneProgress() : undefined;
-    let cancelled = false;
-    progress?.token.onCancellationRequested(() => { cancelled = true; });
+    progress?.begin('Hopscope: checking graph files', 0, 'finding files…', true);
     try {
-      progress?.begin('Hopscope: checking graph files', 0, 'finding files…', true);
-      const found = collect(roots, { exclude: excluded });
-      // Batches by folder: a folder's files are checked together (sibling bundles).
-      const byDir = new Map<string, string[]>();
-      for (const f of found.files) {
-        const d = path.dirname(path.resolve(f));
-        if (!byDir.has(d)) byDir.set(d, []);
-        byDir.get(d)!.push(path.resolve(f));
-      }
-      const stale = new Set(published.keys());
-      let done = 0;
-      const total = found.files.length;
-      for (const [dir, files] of byDir) {
-        if (cancelled || token !== scanToken) break;
-        progress?.report(total ? Math.round((done / total) * 100) : 100, `${path.basename(dir)} (${done}/${total} files)`);
-        const outcome = await service.check(files);
-        for (const f of outcome.files) stale.delete(f.path);
-        publishOutcome(outcome);
-        done += files.length;
-      }
-      // Manifests with problems of their own (or none: clear them).
-      for (const m of found.manifests) {
-        const outcome = await service.check([path.resolve(m)]);
-        publishOutcome(outcome, [path.resolve(m)]);
-      }
-      if (!cancelled && token === scanToken) {
-        for (const gone of stale) { published.delete(gone); void connection.sendDiagnostics({ uri: URI.file(gone).toString(), diagnostics: [] }); }
-      }
+      await workspace.scan(progress ? {
+        token: progress.token,
+        report: (done, total, folder) => progress.report(total ? Math.round((done / total) * 100) : 100, `${folder} (${done}/${total} files)`),
+      } : undefined);
     } catch (e) {
       connection.console.error(`workspace check failed: ${(e as Error).message}`);
     } finally {
       progress?.done();
-      if (token === scanToken) { scanning = false; sendStatus(); }
     }
   }
 
-  function publishOutcome(outcome: CheckOutcome, manifests: string[] = []): void {
-    for (const s of outcome.skipped) {
-      notGraphFiles.add(s);
-      // It may have had problems while it looked like an edge list: clear them.
-      if (published.delete(s)) void connection.sendDiagnostics({ uri: URI.file(s).toString(), diagnostics: [] });
-    }
-    for (const f of outcome.files) {
-      notGraphFiles.delete(f.path);
-      published.set(f.path, f);
-      void connection.sendDiagnostics({ uri: URI.file(f.path).toString(), diagnostics: f.problems.map((p) => toDiagnostic(p, f.path)) });
-    }
-    const byManifest = new Map<string, Problem[]>(manifests.map((m) => [m, []]));
-    for (const m of outcome.manifestProblems) {
-      if (!byManifest.has(m.path)) byManifest.set(m.path, []);
-      byManifest.get(m.path)!.push(m.problem);
-    }
-    for (const [m, problems] of byManifest) {
-      manifestPublished.set(m, problems);
-      void connection.sendDiagnostics({ uri: URI.file(m).toString(), diagnostics: problems.map((p) => toDiagnostic(p, m)) });
-    }
-    for (const g of outcome.graphs) for (const f of g.files) graphOf.set(f, g.files);
-    sendStatus();
-  }
-
+  let statusTimer: NodeJS.Timeout | undefined;
+  /** The status bar figures, sent at most every 50 ms (always the latest state). */
   function sendStatus(): void {
-    const s: StatusParams = { filesChecked: published.size, errors: 0, warnings: 0, infos: 0, busy: scanning || pending.size > 0 };
-    for (const r of [...published.values()]) for (const p of r.problems) count(s, p);
-    for (const ps of manifestPublished.values()) for (const p of ps) count(s, p);
-    void connection.sendNotification(StatusNotification.method, s);
+    if (statusTimer) return;
+    statusTimer = setTimeout(() => {
+      statusTimer = undefined;
+      const s: StatusParams = { filesChecked: workspace.reports.size, errors: 0, warnings: 0, infos: 0, busy: workspace.busy };
+      for (const r of workspace.reports.values()) for (const p of r.problems) count(s, p);
+      for (const ps of workspace.manifestProblemLists()) for (const p of ps) count(s, p);
+      void connection.sendNotification(StatusNotification.type, s);
+    }, 50);
   }
   const count = (s: StatusParams, p: Problem) => { if (p.severity === 'error') s.errors++; else if (p.severity === 'warning') s.warnings++; else s.infos++; };
 
-  /** Re-checks a changed file with its folder and its graph, after a short quiet period. */
-  function schedule(abs: string): void {
-    const old = pending.get(abs);
-    if (old) clearTimeout(old);
-    pending.set(abs, setTimeout(() => { pending.delete(abs); void recheck(abs); }, 250));
-    sendStatus();
-  }
-
-  async function recheck(abs: string): Promise<void> {
-    try {
-      if (path.basename(abs) === MANIFEST_NAME) {
-        // A manifest change re-checks everything below its folder.
-        const found = collect([path.dirname(abs)], { exclude: excluded });
-        publishOutcome(await service.check([...found.files.map((f) => path.resolve(f)), abs]), [abs]);
-        return;
-      }
-      const dir = path.dirname(abs);
-      const siblings = collect([dir], { exclude: excluded }).files.map((f) => path.resolve(f)).filter((f) => path.dirname(f) === dir);
-      const files = new Set([...siblings, ...(graphOf.get(abs) ?? [])]);
-      if (!fs.existsSync(abs)) {
-        files.delete(abs);
-        published.delete(abs);
-        void connection.sendDiagnostics({ uri: URI.file(abs).toString(), diagnostics: [] });
-      }
-      if (files.size) publishOutcome(await service.check([...files]));
-    } catch (e) {
-      connection.console.error(`check of ${abs} failed: ${(e as Error).message}`);
-    } finally {
-      sendStatus();
-    }
-  }
-
-  const relevant = (abs: string) => (isSupportedFile(abs) || path.basename(abs) === MANIFEST_NAME) && !excluded(abs);
-
-  documents.onDidSave((e) => { const f = URI.parse(e.document.uri).fsPath; if (relevant(f)) schedule(f); });
-  connection.onDidChangeWatchedFiles((e) => {
-    for (const c of e.changes) {
-      const f = URI.parse(c.uri).fsPath;
-      if (relevant(f)) schedule(f);
-    }
-  });
-
-  function toDiagnostic(p: Problem, file: string): Diagnostic {
-    const line = Math.max(0, (p.line ?? 1) - 1);
-    const col = Math.max(0, (p.column ?? 1) - 1);
-    const len = p.line !== undefined ? Math.max(1, p.locations?.[0]?.length ?? 1) : 0;
-    const d: Diagnostic = {
-      range: { start: { line, character: col }, end: { line, character: col + len } },
-      severity: p.severity === 'error' ? DiagnosticSeverity.Error : p.severity === 'warning' ? DiagnosticSeverity.Warning : DiagnosticSeverity.Information,
-      code: p.code,
-      codeDescription: { href: DOCS_URL + p.code },
-      source: 'hopscope',
-      message: p.message,
-      data: { count: p.count },
-    };
-    if (relatedInfo && p.locations && p.locations.length > 1 && p.line !== undefined) {
-      const related: DiagnosticRelatedInformation[] = [];
-      for (const l of p.locations.slice(1, 50)) {
-        if (l.line === undefined) continue;
-        const c0 = (l.column ?? 1) - 1;
-        related.push({
-          location: { uri: URI.file(file).toString(), range: { start: { line: l.line - 1, character: c0 }, end: { line: l.line - 1, character: c0 + (l.length ?? 1) } } },
-          message: l.detail ?? `also here`,
-        });
-      }
-      if (related.length) d.relatedInformation = related;
-    }
-    return d;
-  }
+  // Saved documents and the editor's file watcher: paths of files or folders, created, changed or
+  // deleted. The workspace walks them in the worker and re-checks what they can affect.
+  documents.onDidSave((e) => workspace.fileEvents([URI.parse(e.document.uri).fsPath]));
+  connection.onDidChangeWatchedFiles((e) => workspace.fileEvents(e.changes.map((c) => URI.parse(c.uri).fsPath)));
 
   // ---- hovers ----------------------------------------------------------------------------------
 
-  connection.onHover(async (params): Promise<Hover | null> => {
+  /** A node's degree and neighbours: from the shared structure views, else (rarely) from the worker. */
+  async function nodeInfo(file: string, node: number, maxNeighbours: number | undefined, token?: CancellationToken): Promise<NodeInfo | null> {
+    const view = workspace.views.get(file);
+    if (view) return nodeInfoOf(view, node, maxNeighbours);
+    // Checked, but its view is not here (the bound on views dropped it): ask the worker.
+    if (workspace.reports.get(file)?.graph) return cancellable(service.nodeInfo({ path: file, node, ...(maxNeighbours !== undefined ? { maxNeighbours } : {}) }, forRequest(token)));
+    return null;
+  }
+
+  connection.onHover(async (params, token): Promise<Hover | null> => {
     const doc = documents.get(params.textDocument.uri);
     if (!doc) return null;
     const docPath = URI.parse(doc.uri).fsPath;
@@ -291,7 +189,7 @@ export function startServer(connection: Connection, workerScript: string): void 
     const reader = readerFor(docPath);
     if (reader?.format === 'edgelist') {
       const parts: string[] = [];
-      const report = published.get(docPath);
+      const report = workspace.reports.get(docPath);
       for (const p of report?.problems ?? []) {
         for (const l of p.locations ?? []) {
           if (l.line === params.position.line + 1 && l.column !== undefined && ch >= l.column - 1 && ch <= l.column - 1 + (l.length ?? 1)) {
@@ -302,8 +200,14 @@ export function startServer(connection: Connection, workerScript: string): void 
       }
       const tok = integerAt(lineText, ch);
       if (tok && !/^\s*[#%]/.test(lineText)) {
-        const info = await service.nodeInfo(docPath, Number(tok.text));
-        if (info) parts.unshift(nodeInfoMarkdown(info));
+        if (!report && !workspace.notGraph.has(docPath)) {
+          // Not checked yet: say so now, and make sure one check of it is queued.
+          void workspace.ensureChecked(docPath);
+          parts.unshift(`**node ${tok.text}** — checking ${path.basename(docPath)}…`);
+        } else {
+          const info = await nodeInfo(docPath, Number(tok.text), undefined, token).catch(() => null);
+          if (info) parts.unshift(nodeInfoMarkdown(info));
+        }
       }
       if (!parts.length) return null;
       return { contents: { kind: 'markdown', value: [...new Set(parts)].join('\n\n---\n\n') } };
@@ -312,9 +216,10 @@ export function startServer(connection: Connection, workerScript: string): void 
     // Anywhere else: a string that names a graph file.
     const lit = pathLiteralAt(lineText, ch);
     if (!lit) return null;
-    const target = resolveTarget(lit.text, docPath);
+    const target = await resolveTarget(lit.text, docPath);
     if (!target) return null;
-    const summary = await summarise(target, true);
+    const summary = await summarise(target, false);
+    if (summary.status === 'unsupported' || summary.status === 'missing') return null;
     const range = { start: { line: params.position.line, character: lit.start }, end: { line: params.position.line, character: lit.end } };
     if (summary.status === 'checking' || !summary.report) {
       return { contents: { kind: 'markdown', value: `**${path.basename(target)}** — checking…` }, range };
@@ -327,32 +232,41 @@ export function startServer(connection: Connection, workerScript: string): void 
     };
   });
 
-  function resolveTarget(text: string, fromDoc: string): string | undefined {
+  /** The file a path string names: beside the document, else in a workspace folder (a stat, never a read). */
+  async function resolveTarget(text: string, fromDoc: string): Promise<string | undefined> {
     const candidates = path.isAbsolute(text)
       ? [text]
-      : [path.resolve(path.dirname(fromDoc), text), ...folders.map((f) => path.resolve(URI.parse(f.uri).fsPath, text))];
-    return candidates.find((c) => { try { return fs.statSync(c).isFile(); } catch { return false; } });
+      : [path.resolve(path.dirname(fromDoc), text), ...roots().map((r) => path.resolve(r, text))];
+    for (const c of candidates) {
+      // Any path that exists: summarise() says what a pipe or a folder of that name is.
+      try { await fs.promises.stat(c); return c; } catch { /* next */ }
+    }
+    return undefined;
   }
 
+  /**
+   * What is known about a file. Not checked yet: with `wait`, after the one check queued for it
+   * (a check already queued or running counts); without, at once with status 'checking'.
+   */
   async function summarise(abs: string, wait: boolean): Promise<FileSummary> {
     const uri = URI.file(abs).toString();
-    if (!isSupportedFile(abs) || (notGraphFiles.has(abs) && !published.has(abs))) return { uri, status: 'unsupported' };
-    let size: number;
+    if (!isSupportedFile(abs)) return { uri, status: 'unsupported' };
     let st: fs.Stats;
-    try { st = fs.statSync(abs); } catch { return { uri, status: 'missing' }; }
+    try { st = await fs.promises.stat(abs); } catch { return { uri, status: 'missing' }; }
     // A named pipe or a device is never read (opening a pipe blocks until a writer comes).
     if (!st.isFile()) return { uri, status: 'unsupported' };
-    size = st.size;
-    let report = published.get(abs);
+    const size = st.size;
+    let report = workspace.reports.get(abs);
+    if (!report && workspace.notGraph.has(abs)) return { uri, status: 'unsupported' };
     if (!report) {
-      if (!wait || size > HOVER_WAIT_BYTES) {
-        schedule(abs);
-        return { uri, status: 'checking', size };
-      }
-      await recheck(abs);
-      report = published.get(abs);
+      const checked = workspace.ensureChecked(abs);
+      if (!wait) return { uri, status: 'checking', size };
+      await checked;
+      report = workspace.reports.get(abs);
+      if (!report && workspace.notGraph.has(abs)) return { uri, status: 'unsupported' };
     }
-    return report ? { uri, status: 'ok', report, size, ...(graphOf.get(abs) ? { graphFiles: graphOf.get(abs)! } : {}) } : { uri, status: 'checking', size };
+    const graphFiles = workspace.graphFiles(abs);
+    return report ? { uri, status: 'ok', report, size, ...(graphFiles ? { graphFiles } : {}) } : { uri, status: 'checking', size };
   }
 
   // ---- code actions ----------------------------------------------------------------------------
@@ -369,7 +283,7 @@ export function startServer(connection: Connection, workerScript: string): void 
       if (kind && !wanted.has(kind)) wanted.set(kind, d);
     }
     if (!wanted.size) return [];
-    const report = published.get(file);
+    const report = workspace.reports.get(file);
     // With sparse ids the node count is the number of distinct ids, not a bound on them.
     const sparse = report?.problems.some((p) => p.code === 'sparse-ids');
     const nodes = report?.graph && report.graph.indexBase === 0 && !sparse ? report.graph.nodes : undefined;
@@ -383,25 +297,32 @@ export function startServer(connection: Connection, workerScript: string): void 
     }));
   });
 
-  // ---- custom requests -------------------------------------------------------------------------
+  // ---- custom requests (common/protocol.ts), each by its type object -----------------------------
 
-  connection.onRequest(FileSummaryRequest.method, async (p: FileSummaryRequest.Params) => summarise(URI.parse(p.uri).fsPath, p.wait !== false));
-  connection.onRequest(TensorPageRequest.method, async (p: TensorPageRequest.Params) =>
-    (await service.tensorPage(URI.parse(p.uri).fsPath, p.tensor, p.rowStart, p.rowCount, p.maxCols)) ?? null);
-  connection.onRequest(TensorStatsRequest.method, async (p: TensorStatsRequest.Params) =>
-    (await service.tensorStats(URI.parse(p.uri).fsPath, p.tensor, p.maxCols)) ?? null);
-  connection.onRequest(NodeInfoRequest.method, async (p: NodeInfoRequest.Params) =>
-    (await service.nodeInfo(URI.parse(p.uri).fsPath, p.node, p.maxNeighbours)) ?? null);
-  connection.onRequest(FixedCopyRequest.method, async (p: FixedCopyRequest.Params) => {
-    const file = URI.parse(p.uri).fsPath;
-    const report = published.get(file) ?? (await summarise(file, true)).report;
-    if (p.write) return writeFixedCopy(file, p.target, report);
-    return describeFixedCopy(file, report);
+  const fsPath = (uri: string) => URI.parse(uri).fsPath;
+  connection.onRequest(FileSummaryRequest.type, (p) => summarise(fsPath(p.uri), p.wait !== false));
+  connection.onRequest(TensorPageRequest.type, (p, token) => cancellable(service.tensorPage(
+    { path: fsPath(p.uri), tensor: p.tensor, rowStart: p.rowStart, rowCount: p.rowCount, ...(p.maxCols !== undefined ? { maxCols: p.maxCols } : {}) }, forRequest(token))));
+  connection.onRequest(TensorStatsRequest.type, (p, token) => cancellable(service.tensorStats(
+    { path: fsPath(p.uri), tensor: p.tensor, ...(p.maxCols !== undefined ? { maxCols: p.maxCols } : {}) }, forRequest(token))));
+  connection.onRequest(NodeInfoRequest.type, async (p, token) => {
+    const file = fsPath(p.uri);
+    if (!workspace.views.get(file) && !workspace.reports.has(file)) await workspace.ensureChecked(file);
+    return nodeInfo(file, p.node, p.maxNeighbours, token);
   });
-  connection.onRequest(RecheckRequest.method, async () => { await scanWorkspace(); return null; });
+  connection.onRequest(FixedCopyRequest.type, (p) => {
+    const file = fsPath(p.uri);
+    return p.write
+      ? service.writeFixedCopy({ path: file, ...(p.target !== undefined ? { target: p.target } : {}) }, { priority: 'high' })
+      : service.fixedCopyPlan({ path: file }, { priority: 'high' });
+  });
+  connection.onRequest(RecheckRequest.type, async () => { await scanWorkspace(); return null; });
   registerAnalysisRequests(connection, service);
 
-  connection.onShutdown(async () => { await worker.dispose(); });
+  connection.onShutdown(async () => {
+    workspace.dispose();
+    await worker.dispose();
+  });
 
   documents.listen(connection);
   connection.listen();

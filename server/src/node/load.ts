@@ -68,15 +68,23 @@ export interface Collected {
   unsupported: string[];
 }
 
-/** Expands inputs (files or folders) into supported files and manifests, recursively. */
+/**
+ * Expands inputs (files or folders) into supported files and manifests, recursively. Symbolic
+ * links are followed (a linked file is listed under the link's path); a folder reached twice —
+ * a link back to a parent, or a second link to one folder — is walked once, by its real path.
+ */
 export function collect(inputs: string[], opts: LoadOptions = {}): Collected {
   const skip = opts.skipDirs ?? DEFAULT_SKIP;
   const out: Collected = { files: [], manifests: [], missing: [], unsupported: [] };
   const seen = new Set<string>();
+  const walked = new Set<string>();
   const add = (p: string, list: string[]) => { if (!seen.has(p)) { seen.add(p); list.push(p); } };
   const walk = (dir: string) => {
     let entries: fs.Dirent[];
     try {
+      const real = fs.realpathSync(dir);
+      if (walked.has(real)) return;
+      walked.add(real);
       entries = fs.readdirSync(dir, { withFileTypes: true });
     } catch {
       return;
@@ -86,9 +94,19 @@ export function collect(inputs: string[], opts: LoadOptions = {}): Collected {
     for (const e of entries) {
       const p = path.join(dir, e.name);
       if (opts.exclude?.(path.resolve(p))) continue;
-      if (e.isDirectory()) {
+      let isDir = e.isDirectory(), isFile = e.isFile();
+      if (e.isSymbolicLink()) {
+        try {
+          const target = fs.statSync(p);
+          isDir = target.isDirectory();
+          isFile = target.isFile();
+        } catch {
+          continue; // a dangling link
+        }
+      }
+      if (isDir) {
         if (!skip.has(e.name) && !e.name.startsWith('.')) walk(p);
-      } else if (e.isFile()) {
+      } else if (isFile) {
         if (e.name === MANIFEST_NAME) add(p, out.manifests);
         else if (readerFor(e.name)) add(p, out.files);
       }
