@@ -166,12 +166,12 @@ describe('paths that are not regular files', () => {
   });
 
   it.runIf(made)('the node layer (language server checks and hovers) refuses it too', async () => {
-    const { GraphService } = await import('../../server/src/node/service');
+    const { GraphStore } = await import('../../server/src/node/graph-store');
     // Guard: should the read block, this writer opens the pipe after 3 s and lets it end.
     const guard = spawn('timeout', ['8', 'sh', '-c', 'sleep 3; : > "$1"', 'sh', fifo], { stdio: 'ignore' });
     try {
       const t0 = Date.now();
-      const out = new GraphService().check([fifo]);
+      const out = new GraphStore().check({ paths: [fifo] });
       expect(Date.now() - t0).toBeLessThan(2_500);
       expect(out.files[0]!.problems[0]).toMatchObject({ code: 'unreadable' });
       expect(out.files[0]!.problems[0]!.message).toMatch(/named pipe/);
@@ -335,20 +335,20 @@ describe('hovers and the viewer on graphs checked on their distinct ids (node la
   const sexp = JSON.parse(fs.readFileSync(path.join(sdir, 'expected.json'), 'utf8'));
 
   it('node info maps ids as written; the degree histogram counts every node', async () => {
-    const { GraphService } = await import('../../server/src/node/service');
-    const s = new GraphService();
+    const { GraphStore } = await import('../../server/src/node/graph-store');
+    const s = new GraphStore();
     // billion.txt (numpy.savetxt): 0 → 10^9 and back.
     const txt = path.join(sdir, 'billion.txt');
-    s.check([txt]);
-    expect(s.nodeInfo(txt, 1_000_000_000)).toMatchObject({ nodes: 2, outDegree: 1, inDegree: 1, outNeighbours: [0], inNeighbours: [0] });
-    expect(s.nodeInfo(txt, 5)).toBeUndefined(); // not one of the 2 distinct ids
+    s.check({ paths: [txt] });
+    expect(s.nodeInfo({ path: txt, node: 1_000_000_000 })).toMatchObject({ nodes: 2, outDegree: 1, inDegree: 1, outNeighbours: [0], inNeighbours: [0] });
+    expect(s.nodeInfo({ path: txt, node: 5 })).toBeNull(); // not one of the 2 distinct ids
     // billion.mtx (scipy.io.mmwrite): 10^9 declared nodes, entries (1, 2) and (2, 1), 1-based.
     const mtx = path.join(sdir, 'billion.mtx');
-    s.check([mtx]);
-    expect(s.nodeInfo(mtx, 2)).toMatchObject({ nodes: 1_000_000_000, outDegree: 1, inDegree: 1, outNeighbours: [1] });
-    expect(s.nodeInfo(mtx, 999_999_999)).toMatchObject({ outDegree: 0, inDegree: 0, outNeighbours: [] });
-    expect(s.nodeInfo(mtx, 1_000_000_001)).toBeUndefined();
-    const stats = await s.tensorStats(mtx, 'adjacency');
+    s.check({ paths: [mtx] });
+    expect(s.nodeInfo({ path: mtx, node: 2 })).toMatchObject({ nodes: 1_000_000_000, outDegree: 1, inDegree: 1, outNeighbours: [1] });
+    expect(s.nodeInfo({ path: mtx, node: 999_999_999 })).toMatchObject({ outDegree: 0, inDegree: 0, outNeighbours: [] });
+    expect(s.nodeInfo({ path: mtx, node: 1_000_000_001 })).toBeNull();
+    const stats = s.tensorStats({ path: mtx, tensor: 'adjacency' });
     const e = sexp['billion.mtx'];
     expect(stats!.degreeHistogram).toEqual([{ degree: 0, count: e.isolatedNodes }, { degree: 2, count: e.nodes - e.isolatedNodes }]);
   });

@@ -13,7 +13,7 @@ import * as os from 'node:os';
 import * as path from 'node:path';
 import { chromium, type Browser, type Page } from 'playwright-core';
 import { webviewPage } from '../../extension/src/webview-page';
-import { GraphService } from '../../server/src/node/service';
+import { GraphStore } from '../../server/src/node/graph-store';
 import type { ViewerMessage, ViewerRequest } from '../../common/viewer-messages';
 import type { FileSummary } from '../../common/protocol';
 
@@ -38,17 +38,17 @@ async function openViewer(file: string): Promise<{ page: Page; problems: string[
     return route.fulfill({ contentType: local.endsWith('.css') ? 'text/css' : 'text/javascript', body: fs.readFileSync(local) });
   });
   await page.route(/^(?!https:\/\/hopscope\.test\/).*/, (route) => route.abort());
-  const svc = new GraphService();
-  svc.check([path.dirname(file)]);
+  const svc = new GraphStore();
+  svc.check({ paths: [path.dirname(file)] });
   await page.exposeFunction('__viewerHost', (m: ViewerRequest): ViewerMessage | null => {
     switch (m.type) {
       case 'ready': {
-        const report = svc.report(file)!;
+        const report = svc.report({ path: file })!;
         const summary: FileSummary = { uri: `file://${file}`, status: 'ok', report, size: fs.statSync(file).size };
         return { type: 'summary', summary, fileName: path.basename(file) };
       }
-      case 'page': { const page = svc.tensorPage(file, m.tensor, m.rowStart, m.rowCount); return page ? { type: 'page', page } : null; }
-      case 'stats': { const stats = svc.tensorStats(file, m.tensor); return stats ? { type: 'stats', stats } : null; }
+      case 'page': { const page = svc.tensorPage({ path: file, tensor: m.tensor, rowStart: m.rowStart, rowCount: m.rowCount }); return page ? { type: 'page', page } : null; }
+      case 'stats': { const stats = svc.tensorStats({ path: file, tensor: m.tensor }); return stats ? { type: 'stats', stats } : null; }
       default: return null;
     }
   });

@@ -5,6 +5,10 @@
  *
  * Answers are the JSON payloads of protocol.ts, or `{ error }` with a sentence for the user when
  * the file or the node cannot be used (the LSP layer turns that into a request error).
+ *
+ * In the worker, the graph store (graph-store.ts) gives it a loader that reads through the store's
+ * cache, size limit and exclusions; every analysis takes the request's `Cancel` and throws
+ * `AnalysisCancelled` when it is set.
  */
 import * as fs from 'node:fs';
 import * as path from 'node:path';
@@ -13,23 +17,31 @@ import type { DenseTensor } from '../core/formats/types';
 import { FieldAnalyzer, smoothingSummary } from '../core/graph/field-view';
 import { StructureAnalyzer } from '../core/graph/structure-view';
 import { labelVector } from '../core/graph/propagation/homophily';
+import type { Cancel } from '../core/cancel';
 import { GraphLoadError, loadGraph, type LoadedGraph } from './graph-input';
 import { manifestsAbove } from './load';
 import type {
   BottlenecksPayload, FieldViewPayload, FieldViewRequest, SmoothingPayload, WlClassesPayload,
 } from '../../../common/protocol';
+import type { AnalysisError } from './worker-methods';
+import { SETTINGS } from '../../../common/settings';
 
-export interface AnalysisError { error: string }
+export type { AnalysisError } from './worker-methods';
 
-/** Limits on what a request may ask for. */
-export const PANEL_LIMITS = { minDrawn: 10, maxDrawn: 20_000, defaultDrawn: 2000, maxLayers: 64, maxSteps: 64 } as const;
+/** Reads one graph for the analyses (graph-input.ts `loadGraph`, or the store's cached reading). */
+export type GraphLoader = (file: string, options: CheckSetOptions, cancel: Cancel | undefined) => LoadedGraph;
+const uncached: GraphLoader = (file, options, cancel) => loadGraph(file, options, cancel ? { cancel } : {});
+
+const DRAWN = SETTINGS['panel.maxDrawnNodes'];
+/** Limits on what a request may ask for; the drawn-node range and default are the setting's. */
+export const PANEL_LIMITS = { minDrawn: DRAWN.minimum!, maxDrawn: DRAWN.maximum!, defaultDrawn: DRAWN.default, maxLayers: 64, maxSteps: 64 } as const;
 
 interface Entry {
   stamp: string;
   graph: LoadedGraph;
   field: FieldAnalyzer;
   structure: StructureAnalyzer;
-  /** Coverage curves per (flow, symmetrise, selfLoops). */
+  /** Coverage curves per (sendingRow, symmetrise, selfLoops). */
   coverage: Map<string, FieldViewPayload['coverageCurve']>;
   smoothing: Map<number, SmoothingPayload | AnalysisError>;
   lastUse: number;
@@ -39,19 +51,32 @@ export class AnalysisService {
   private readonly cache = new Map<string, Entry>();
   private clock = 0;
 
-  constructor(private options: CheckSetOptions = {}, private readonly keep = 2) {}
+  constructor(private options: CheckSetOptions = {}, private readonly keep = 2, private readonly load: GraphLoader = uncached) {}
 
   configure(options: CheckSetOptions): void {
     this.options = options;
     this.cache.clear();
   }
 
+  /** Drops every graph that was read from `file` (as its structure file, a sibling or a manifest part). */
   forget(file: string): void {
-    this.cache.delete(path.resolve(file));
+    const abs = path.resolve(file);
+    for (const [key, e] of [...this.cache]) {
+      if (key === abs || e.graph.files.includes(abs)) this.cache.delete(key);
+    }
   }
 
-  field(file: string, p: Omit<FieldViewRequest.Params, 'uri'>): FieldViewPayload | AnalysisError {
-    const e = this.entry(file);
+  /** Graphs kept (at most `keep`) and the bytes of their arrays (edges, CSR pair). */
+  usage(): { graphs: number; bytes: number } {
+    let bytes = 0;
+    for (const { graph: g } of this.cache.values()) {
+      bytes += g.src.byteLength + g.dst.byteLength + g.fwd.indptr.byteLength + g.fwd.indices.byteLength + g.rev.indptr.byteLength + g.rev.indices.byteLength;
+    }
+    return { graphs: this.cache.size, bytes };
+  }
+
+  field(file: string, p: Omit<FieldViewRequest.Params, 'uri'>, cancel?: Cancel): FieldViewPayload | AnalysisError {
+    const e = this.entry(file, cancel);
     if ('error' in e) return e;
     const g = e.graph;
     const base = g.figures.indexBase;
@@ -60,21 +85,21 @@ export class AnalysisService {
     if (!Number.isInteger(p.layers) || p.layers < 0 || p.layers > PANEL_LIMITS.maxLayers) {
       return { error: `The layer count must be a whole number from 0 to ${PANEL_LIMITS.maxLayers}, got ${p.layers}.` };
     }
-    const flow = p.flow ?? g.options.flow ?? 'source-to-target';
+    const sendingRow = p.sendingRow ?? g.options.sendingRow ?? 0;
     const symmetrise = p.symmetrise === true;
     const selfLoops = p.selfLoops !== false;
     const maxNodes = clamp(p.maxNodes ?? PANEL_LIMITS.defaultDrawn, PANEL_LIMITS.minDrawn, PANEL_LIMITS.maxDrawn);
-    const view = e.field.view(v, p.layers, { flow, symmetrise, selfLoops, maxNodes });
-    const key = `${flow}|${symmetrise}|${selfLoops}`;
+    const view = e.field.view(v, p.layers, { sendingRow, symmetrise, selfLoops, maxNodes, ...(cancel ? { cancel } : {}) });
+    const key = `${sendingRow}|${symmetrise}|${selfLoops}`;
     let coverageCurve = e.coverage.get(key);
     if (!coverageCurve) {
-      coverageCurve = e.field.coverage({ flow, symmetrise, selfLoops, maxLayers: 8 });
+      coverageCurve = e.field.coverage({ sendingRow, symmetrise, selfLoops, maxLayers: 8, ...(cancel ? { cancel } : {}) });
       e.coverage.set(key, coverageCurve);
     }
     const ids = Array.from(view.ids, (u) => u + base);
     const labels = g.labels ? labelTexts(g.labels, view.ids, g.n) : undefined;
     return {
-      file: g.file, node: p.node, layers: p.layers, flow, symmetrised: symmetrise, selfLoops,
+      file: g.file, node: p.node, layers: p.layers, sendingRow, symmetrised: symmetrise, selfLoops,
       graphNodes: g.n, indexBase: base,
       perHop: view.perHop, total: view.total, coverage: view.coverage, centreInField: view.centreInField,
       ids, hops: Array.from(view.hops), weights: Array.from(view.weights),
@@ -86,11 +111,11 @@ export class AnalysisService {
     };
   }
 
-  wlClasses(file: string, nodes: number[]): WlClassesPayload | AnalysisError {
-    const e = this.entry(file);
+  wlClasses(file: string, nodes: number[], cancel?: Cancel): WlClassesPayload | AnalysisError {
+    const e = this.entry(file, cancel);
     if ('error' in e) return e;
     const base = e.graph.figures.indexBase;
-    const r = e.structure.wlFor(nodes.map((u) => u - base));
+    const r = e.structure.wlFor(nodes.map((u) => u - base), cancel);
     return {
       classesPerRound: r.classesPerRound, stableAfter: r.stableAfter,
       colours: Array.from(r.colours), classSizes: Array.from(r.classSizes),
@@ -99,24 +124,24 @@ export class AnalysisService {
     };
   }
 
-  bottlenecks(file: string, edges: number[]): BottlenecksPayload | AnalysisError {
-    const e = this.entry(file);
+  bottlenecks(file: string, edges: number[], cancel?: Cancel): BottlenecksPayload | AnalysisError {
+    const e = this.entry(file, cancel);
     if ('error' in e) return e;
     const base = e.graph.figures.indexBase;
-    const c = e.structure.curvatureFor(edges.map((u) => u - base));
+    const c = e.structure.curvatureFor(edges.map((u) => u - base), cancel);
     const num = (a: Float64Array) => Array.from(a, (x) => (Number.isFinite(x) ? x : null));
     const und = e.structure.undirected();
     return {
       forman: num(c.forman), formanTriangles: num(c.formanTriangles), balancedForman: num(c.balancedForman),
       triangles: Array.from(c.triangles), bridge: Array.from(c.bridge, (b) => b === 1),
       balancedComputed: c.balancedComputed,
-      bridgesInGraph: e.structure.bridges().count,
+      bridgesInGraph: e.structure.bridges(cancel).count,
       undirectedEdges: und.indptr[und.n]! / 2,
     };
   }
 
-  smoothing(file: string, steps = 8): SmoothingPayload | AnalysisError | null {
-    const e = this.entry(file);
+  smoothing(file: string, steps = 8, cancel?: Cancel): SmoothingPayload | AnalysisError | null {
+    const e = this.entry(file, cancel);
     if ('error' in e) return e;
     const g = e.graph;
     if (!g.features) return null;
@@ -124,7 +149,7 @@ export class AnalysisService {
     let out = e.smoothing.get(k);
     if (!out) {
       const features = g.features;
-      const s = smoothingSummary(e.field.symmetrised(), features, k);
+      const s = smoothingSummary(e.field.symmetrised(cancel), features, k, cancel);
       out = 'error' in s ? s : {
         caiWang: Array.from(s.caiWang), unnormalised: Array.from(s.unnormalised), steps: s.steps,
         featureTensor: features.name, cols: s.cols, colsUsed: s.colsUsed, nonFinite: s.nonFinite,
@@ -145,7 +170,7 @@ export class AnalysisService {
     return v;
   }
 
-  private entry(file: string): Entry | AnalysisError {
+  private entry(file: string, cancel?: Cancel): Entry | AnalysisError {
     const abs = path.resolve(file);
     const old = this.cache.get(abs);
     if (old && old.stamp === stampOf(old.graph.files, abs)) {
@@ -155,7 +180,7 @@ export class AnalysisService {
     this.cache.delete(abs);
     let graph: LoadedGraph;
     try {
-      graph = loadGraph(abs, this.options);
+      graph = this.load(abs, this.options, cancel);
     } catch (e) {
       if (e instanceof GraphLoadError) return { error: e.message };
       throw e;

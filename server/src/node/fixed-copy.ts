@@ -20,7 +20,7 @@ import { openZip } from '../core/formats/zip';
 import { crc32 } from '../core/formats/crc32';
 import { encodeZip, replaceSafetensor, type ZipMember } from '../core/formats/write';
 import { encodeNpyInt64 } from '../core/formats/npy-write';
-import { checkPaths } from './load';
+import { checkPaths, type LoadOptions } from './load';
 import type { FixedCopyResult } from '../../../common/protocol';
 
 export function suggestedTarget(file: string): string {
@@ -42,10 +42,12 @@ interface Plan {
   e: number;
 }
 
-function plan(file: string, report: FileReport | undefined): Plan | { changes: string[]; unsupported: string } {
+function plan(file: string, report: FileReport | undefined, load: LoadOptions): Plan | { changes: string[]; unsupported: string } {
   const codes = new Set(report?.problems.map((p) => p.code) ?? []);
   const oneBased = codes.has('one-based-index');
-  const r = checkPaths([file], oneBased ? { indexBase: 1 } : {});
+  const r = checkPaths([file], oneBased ? { indexBase: 1 } : {}, load);
+  const unreadable = r.files[0]?.problems.find((p) => p.code === 'unreadable');
+  if (unreadable) return { changes: [], unsupported: unreadable.message };
   const abs = path.resolve(file);
   const g = r.graphs.find((x) => x.check.structureFile && path.resolve(x.check.structureFile) === abs);
   const s = g?.check.structure;
@@ -100,14 +102,15 @@ function plan(file: string, report: FileReport | undefined): Plan | { changes: s
   return { changes, tensor: t.name, values: out, e: src.length };
 }
 
-export function describeFixedCopy(file: string, report: FileReport | undefined): FixedCopyResult {
-  const p = plan(file, report);
+/** `load`: the graph store's cache, size limit and exclusions (the worker); the command line and tests pass nothing. */
+export function describeFixedCopy(file: string, report: FileReport | undefined, load: LoadOptions = {}): FixedCopyResult {
+  const p = plan(file, report, load);
   if ('unsupported' in p) return { changes: [p.unsupported], suggestedTarget: suggestedTarget(file) };
   return { changes: p.changes.length ? p.changes : ['nothing to change'], suggestedTarget: suggestedTarget(file) };
 }
 
-export function writeFixedCopy(file: string, target: string | undefined, report: FileReport | undefined): FixedCopyResult {
-  const p = plan(file, report);
+export function writeFixedCopy(file: string, target: string | undefined, report: FileReport | undefined, load: LoadOptions = {}): FixedCopyResult {
+  const p = plan(file, report, load);
   const out = target ?? suggestedTarget(file);
   if ('unsupported' in p) throw new Error(p.unsupported);
   if (path.resolve(out) === path.resolve(file)) throw new Error('refusing to overwrite the original file');

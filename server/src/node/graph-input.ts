@@ -8,7 +8,7 @@ import type { Csr } from '../core/graph/structure/csr';
 import type { DenseTensor, Problem } from '../core/formats/types';
 import type { CheckSetOptions } from '../core/checks/check-set';
 import type { GraphFigures, GraphOptions } from '../core/checks/graph-check';
-import { checkPaths } from './load';
+import { checkPaths, type LoadOptions } from './load';
 
 export interface LoadedGraph {
   file: string;
@@ -34,9 +34,16 @@ export class GraphLoadError extends Error {
   override readonly name = 'GraphLoadError';
 }
 
-export function loadGraph(file: string, options: CheckSetOptions = {}): LoadedGraph {
+/**
+ * `load` carries the graph store's cache, size limit, exclusions and cancellation (the worker);
+ * the command line passes nothing.
+ */
+export function loadGraph(file: string, options: CheckSetOptions = {}, load: LoadOptions = {}): LoadedGraph {
+  if (load.exclude?.(path.resolve(file))) {
+    throw new GraphLoadError(`${file} is left out by the files.exclude or hopscope.exclude setting, so Hopscope does not read it. Remove the pattern that matches it to analyse it.`);
+  }
   // A text file that is not an edge list is one clear `unreadable` ("not an edge list: …").
-  const r = checkPaths([file], options, { refuseNamedText: true });
+  const r = checkPaths([file], options, { ...load, refuseNamedText: true });
   if (r.missing.length) throw new GraphLoadError(`${file}: no such file`);
   if (r.unsupported.length) throw new GraphLoadError(`${file}: not a supported graph file`);
   const report = r.files[0];

@@ -54,6 +54,12 @@ export interface LoadOptions {
    * file of a folder (package.json, tsconfig.json) by name.
    */
   explainNamedJson?: boolean;
+  /**
+   * Absolute paths a re-check is about (an editor's changed files): every input is still read, so
+   * files group as in a check of them all, but only the graphs holding one of these are checked,
+   * and only these and the other files of those graphs are reported.
+   */
+  focus?: readonly string[];
 }
 
 export const DEFAULT_MAX_FILE_BYTES = 2 * 1024 ** 3;
@@ -132,6 +138,15 @@ export function collect(inputs: string[], opts: LoadOptions = {}): Collected {
 /** A loaded file; `notEdgeList` is set when a text file was not read because it is not an edge list. */
 export interface LoadedText extends LoadedFile {
   notEdgeList?: string;
+  /** On a refusal kept in a FileCache: whether the file was read as an edge list (the refusal depends on it). */
+  readAsEdgeList?: boolean;
+}
+
+/** Whether a cached outcome answers a read with this `asEdgeList`. */
+function cacheFits(c: LoadedText, asEdgeList: boolean): boolean {
+  // A text file read as an edge list only because a manifest said so is not one otherwise.
+  if (c.result) return asEdgeList || !(c.result as EdgeListReadResult).notEdgeList;
+  return c.readAsEdgeList === asEdgeList;
 }
 
 /**
@@ -142,19 +157,29 @@ export function loadFile(p: string, opts: LoadOptions = {}, asEdgeList = false):
   const reader = readerFor(p);
   if (!reader) return { path: p, format: 'json', error: { message: 'not a supported graph file type' } };
   const max = opts.maxFileBytes ?? DEFAULT_MAX_FILE_BYTES;
+  // Set once the file is about to be read: a refusal of these bytes is kept in the cache too, so
+  // an unreadable 1 GiB file is not read again for every request while it is unchanged.
+  let stamp: { abs: string; mtimeMs: number; size: number } | undefined;
+  const remember = (f: LoadedText): LoadedText => {
+    if (stamp) opts.cache?.set(stamp.abs, stamp.mtimeMs, stamp.size, { ...f, readAsEdgeList: asEdgeList } as LoadedText);
+    return f;
+  };
   try {
     const st = fs.statSync(p);
     // A named pipe would block the read until something writes to it; devices never end.
     if (!st.isFile()) return { path: p, format: reader.format, error: { message: notRegularFile(st) } };
     const size = st.size;
     const abs = path.resolve(p);
-    const cached = opts.cache?.get(abs, st.mtimeMs, size);
-    // A text file read as an edge list only because a manifest said so is not one otherwise.
-    if (cached && (asEdgeList || !(cached.result as EdgeListReadResult | undefined)?.notEdgeList)) return { ...cached, path: p };
+    const cached = opts.cache?.get(abs, st.mtimeMs, size) as LoadedText | undefined;
+    if (cached && cacheFits(cached, asEdgeList)) {
+      const { readAsEdgeList: _how, ...kept } = cached;
+      return { ...kept, path: p };
+    }
     if (size > max) {
       return { path: p, format: reader.format, error: { message: `the file is ${(size / 1024 ** 2).toFixed(0)} MiB, above the ${(max / 1024 ** 2).toFixed(0)} MiB limit for checking` } };
     }
     const limits = opts.limits ?? DEFAULT_LIMITS;
+    stamp = { abs, mtimeMs: st.mtimeMs, size };
     opts.onRead?.(abs);
     probeText(p, reader.format, size, asEdgeList);
     const result = timed('read', () => readLarge(p, reader.format, size, limits, asEdgeList))
@@ -166,16 +191,16 @@ export function loadFile(p: string, opts: LoadOptions = {}, asEdgeList = false):
     return loaded;
   } catch (e) {
     if (e instanceof NotEdgeListError) {
-      return { path: p, format: reader.format, error: { message: e.message }, notEdgeList: e.reason };
+      return remember({ path: p, format: reader.format, error: { message: e.message }, notEdgeList: e.reason });
     }
     if (e instanceof UnreadableError && reader.format === 'edgelist' && !asEdgeList && binaryGenericText(p, e)) {
       // A .txt/.csv/.tsv holding binary data is some other program's file, not a broken graph: folder
       // checks skip it like other text that is not an edge list (a named file still says why).
       const reason = `it holds binary data, not text (${e.message}); only .el and .edges files are taken for edge lists whatever they hold`;
-      return { path: p, format: reader.format, error: { message: `not an edge list: ${reason}` }, notEdgeList: reason };
+      return remember({ path: p, format: reader.format, error: { message: `not an edge list: ${reason}` }, notEdgeList: reason });
     }
     if (e instanceof UnreadableError) {
-      return { path: p, format: reader.format, error: { message: e.message, ...(e.line !== undefined ? { line: e.line } : {}), ...(e.offset !== undefined ? { offset: e.offset } : {}) } };
+      return remember({ path: p, format: reader.format, error: { message: e.message, ...(e.line !== undefined ? { line: e.line } : {}), ...(e.offset !== undefined ? { offset: e.offset } : {}) } });
     }
     const err = e as NodeJS.ErrnoException;
     if (err && typeof err.code === 'string') {
@@ -372,7 +397,9 @@ export function checkPaths(inputs: string[], options: CheckSetOptions = {}, load
   // The raw file bytes are garbage now; a 10M-edge .npy is 160 MB of them. Return them before the
   // graph is built, so peak memory is the tensors plus the graph, not plus the file as well.
   if (loaded.reduce((s, f) => s + tensorBytes(f), 0) > 64 * 1024 ** 2) collectGarbage();
-  const result = checkSet(loaded, manifests, { ...options, maxFileBytes: load.maxFileBytes ?? DEFAULT_MAX_FILE_BYTES });
+  const focus = load.focus ? new Set(load.focus.map((f) => path.resolve(f))) : undefined;
+  const result = checkSet(loaded, manifests, { ...options, maxFileBytes: load.maxFileBytes ?? DEFAULT_MAX_FILE_BYTES },
+    focus ? (p) => focus.has(path.resolve(p)) : undefined);
   const shown = result.files.filter((f) => requested.has(path.resolve(f.path)));
   if (load.explainNamedJson) {
     for (const f of shown) {

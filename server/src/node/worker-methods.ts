@@ -14,6 +14,7 @@
  * Plain types only: no LSP or VS Code types cross this seam.
  */
 import type { CheckSetOptions, FileReport } from '../core/checks/check-set';
+import type { Csr } from '../core/graph/structure/csr';
 import type {
   BottlenecksPayload, FieldViewPayload, FieldViewRequest, FixedCopyResult, NodeInfo,
   SmoothingPayload, TensorPage, TensorStats, WlClassesPayload,
@@ -46,6 +47,20 @@ export interface WalkResult {
   unsupported: string[];
 }
 
+/**
+ * A checked graph's degree and neighbour structure, its arrays over SharedArrayBuffers
+ * (shared-structure.ts): a check's outcome carries it to the language-server thread without a
+ * copy, and node-id hovers are answered there at once (`nodeInfoOf`).
+ */
+export interface CheckedStructure {
+  n: number;
+  indexBase: 0 | 1;
+  fwd: Csr;
+  rev: Csr;
+  /** Present when the graph was checked on its touched ids: CSR node c is the 0-based id ids[c]. */
+  ids?: Float64Array;
+}
+
 export interface CheckOutcome {
   files: FileReport[];
   manifestProblems: Array<{ path: string; problem: FileReport['problems'][number] }>;
@@ -53,6 +68,8 @@ export interface CheckOutcome {
   graphs: Array<{ name: string; files: string[]; structureFile: string | null }>;
   /** Text files that are not edge lists (absolute): no report, and no diagnostics in the editor. */
   skipped: string[];
+  /** The structure of every graph this check built, by its structure file (absolute). */
+  structures: Array<{ file: string; structure: CheckedStructure }>;
 }
 
 /** Every path is absolute (or resolved against the worker's cwd). */
@@ -60,7 +77,8 @@ export interface PathParams { path: string }
 
 /**
  * One entry of the table. `P` and `R` exist only as types (phantom fields); `cancellable` is the
- * one runtime fact: only cancellable requests get a cancel slot and may be superseded.
+ * one runtime fact: only cancellable requests honour a token or a supersede key (dropped while
+ * queued, stopped while running). The others (settings, forgetting, writing a file) always run.
  */
 export interface MethodSpec<P, R> {
   readonly cancellable: boolean;
@@ -77,15 +95,20 @@ export const WORKER_METHODS = {
   configure: method<ConfigureParams, void>(false),
   /** The workspace walk: supported files and manifests under `paths`, exclusions applied. */
   walk: method<{ paths: string[] }, WalkResult>(true),
-  /** Checks files/folders; reports, graph structures and read files are kept in the store. */
-  check: method<{ paths: string[] }, CheckOutcome>(true),
+  /**
+   * Checks files/folders; reports, graph structures and read files are kept in the store. With
+   * `focus` (changed files), all `paths` are read so files group as usual, but only the graphs
+   * holding a focus file are checked and reported (load.ts `LoadOptions.focus`).
+   */
+  check: method<{ paths: string[]; focus?: string[] }, CheckOutcome>(true),
   /** The last report of a file, if it was checked. */
   report: method<PathParams, FileReport | null>(false),
   /** Drops everything kept for a path (deleted file): read bytes, report, structure, analyses. */
   forget: method<PathParams, void>(false),
   /** Degree and neighbours of one node (hovers); checks the file first when it was not checked. */
-  nodeInfo: method<PathParams & { node: number; maxNeighbours?: number }, NodeInfo | null>(false),
-  tensorPage: method<PathParams & { tensor: string; rowStart: number; rowCount: number; maxCols?: number }, TensorPage | null>(false),
+  nodeInfo: method<PathParams & { node: number; maxNeighbours?: number }, NodeInfo | null>(true),
+  /** Rows of one tensor (the viewer's table); reads the file again when it changed or was dropped. */
+  tensorPage: method<PathParams & { tensor: string; rowStart: number; rowCount: number; maxCols?: number }, TensorPage | null>(true),
   tensorStats: method<PathParams & { tensor: string; maxCols?: number }, TensorStats | null>(true),
   /** The receptive-field panel's analyses. */
   fieldView: method<PathParams & Omit<FieldViewRequest.Params, 'uri'>, FieldViewPayload | AnalysisError>(true),
@@ -93,7 +116,7 @@ export const WORKER_METHODS = {
   bottlenecks: method<PathParams & { edges: number[] }, BottlenecksPayload | AnalysisError>(true),
   smoothing: method<PathParams & { steps?: number }, SmoothingPayload | AnalysisError | null>(true),
   /** What a corrected copy would change (nothing written). */
-  fixedCopyPlan: method<PathParams, FixedCopyResult>(false),
+  fixedCopyPlan: method<PathParams, FixedCopyResult>(true),
   /** Writes the corrected copy to `target` (or the suggested name); never over an existing file. */
   writeFixedCopy: method<PathParams & { target?: string }, FixedCopyResult>(false),
 } as const;

@@ -30,6 +30,11 @@ export type Role =
 /** Maps a flat element index of a tensor back to where its text sits in the file (1-based). */
 export interface TextLocator {
   locate(flatIndex: number): TextSpan | undefined;
+  /**
+   * What the locator keeps alive to answer (the file's text, line offsets), for the graph store's
+   * memory bound. Locators sharing one text return the same `holder`, so it is counted once.
+   */
+  kept?(): { holder: object; bytes: number };
 }
 
 export interface TextSpan {

@@ -64,14 +64,14 @@ export class StructureAnalyzer {
 
   get n(): number { return this.g.n; }
 
-  undirected(): UndirectedGraph {
-    return (this.und ??= undirectedView(this.g.fwd, this.g.rev));
+  undirected(cancel?: Cancel): UndirectedGraph {
+    return (this.und ??= undirectedView(this.g.fwd, this.g.rev, cancel));
   }
 
   /** 1-WL refinement of the whole graph (computed once). */
   wl(cancel?: Cancel): WlResult {
     if (!this.wlResult) {
-      this.wlResult = refineWl(this.undirected(), cancel ? { cancel } : {});
+      this.wlResult = refineWl(this.undirected(cancel), cancel ? { cancel } : {});
       const c = this.wlResult.colours;
       let k = 0;
       for (let v = 0; v < c.length; v++) if (c[v]! + 1 > k) k = c[v]! + 1;
@@ -117,7 +117,7 @@ export class StructureAnalyzer {
   /** Bridges of the whole graph (computed once). */
   bridges(cancel?: Cancel): Bridges {
     if (!this.bridgeList) {
-      this.bridgeList = findBridges(this.undirected(), cancel ? { cancel } : {});
+      this.bridgeList = findBridges(this.undirected(cancel), cancel ? { cancel } : {});
       const keys = new Set<number>();
       for (let i = 0; i < this.bridgeList.count; i++) keys.add(this.bridgeList.u[i]! * this.n + this.bridgeList.v[i]!);
       this.bridgeKeys = keys;
@@ -127,7 +127,7 @@ export class StructureAnalyzer {
 
   /** Curvature and bridge flag of each pair (pairs[2k], pairs[2k+1]), node ids 0..n-1. */
   curvatureFor(pairs: ArrayLike<number>, cancel?: Cancel): CurvatureForEdges {
-    const g = this.undirected();
+    const g = this.undirected(cancel);
     const n = g.n;
     this.bridges(cancel);
     const m = Math.floor(pairs.length / 2);

@@ -65,6 +65,8 @@ class ClassTable {
     out: Int32Array,
     /** When `cmp` orders first by primary[x] (dense ids below primaryCount), then by hash[x] unsigned. */
     primary?: { keys: Int32Array; count: number },
+    /** Looked at every 65,536 items. */
+    cancel?: Cancel,
   ): number {
     let size = 16;
     while (size < 2 * n) size *= 2;
@@ -74,6 +76,7 @@ class ClassTable {
     const mask = size - 1;
     let k = 0;
     for (let v = 0; v < n; v++) {
+      if ((v & 0xffff) === 0) throwIfCancelled(cancel);
       const h = hash[v]!;
       let pos = h & mask;
       for (;;) {
@@ -196,7 +199,8 @@ class Refiner {
   private readonly hash: Int32Array;
   private readonly table: ClassTable;
 
-  constructor(readonly g: UndirectedGraph) {
+  /** `cancel` is looked at every 16,384 nodes of each pass of a round (a round of 20M entries takes seconds). */
+  constructor(readonly g: UndirectedGraph, private readonly cancel?: Cancel) {
     const n = g.n;
     this.nb = new Int32Array(g.indptr[n]!);
     this.hash = new Int32Array(n);
@@ -212,13 +216,16 @@ class Refiner {
     const { nb, hash } = this;
     // Each node's neighbour colours, gathered row by row (sequential writes, one read of `cur`
     // per entry) and sorted in place.
+    const cancel = this.cancel;
     for (let v = 0; v < n; v++) {
+      if ((v & 0x3fff) === 0) throwIfCancelled(cancel);
       const lo = indptr[v]!, hi = indptr[v + 1]!;
       for (let p = lo; p < hi; p++) nb[p] = cur[indices[p]!]!;
       sortRange(nb, lo, hi);
     }
     // Hash the signatures.
     for (let v = 0; v < n; v++) {
+      if ((v & 0x3fff) === 0) throwIfCancelled(cancel);
       const end = indptr[v + 1]!;
       let h = mixWord(0x1b873593 ^ cur[v]!, end - indptr[v]!);
       for (let p = indptr[v]!; p < end; p++) h = mixWord(h, nb[p]!);
@@ -243,7 +250,7 @@ class Refiner {
       for (let i = 0; i < dx; i++, px++, py++) if (nb[px] !== nb[py]) return nb[px]! - nb[py]!;
       return 0;
     };
-    return this.table.classify(n, hash, same, cmp, next, { keys: cur, count: k });
+    return this.table.classify(n, hash, same, cmp, next, { keys: cur, count: k }, cancel);
   }
 }
 
@@ -298,7 +305,7 @@ export function refineWl(g: UndirectedGraph, options: WlOptions = {}): WlResult 
   const maxRounds = options.maxRounds ?? Number.MAX_SAFE_INTEGER;
   let { colours: cur, classes: k } = startColours(n, options.initial);
   const classesPerRound = [k];
-  const ref = new Refiner(g);
+  const ref = new Refiner(g, options.cancel);
   let next: Int32Array = new Int32Array(n);
   let round = 0;
   for (;;) {
@@ -399,7 +406,7 @@ export function compareWl(a: UndirectedGraph, b: UndirectedGraph, options: WlOpt
   const jointClassesPerRound = [k];
   let diff = new Int32Array(Math.max(k, 1));
   if (histogramsDiffer(cur, k, a.n, diff)) return { distinguishable: true, roundsUsed: 0, jointClassesPerRound, complete: true };
-  const ref = new Refiner(u);
+  const ref = new Refiner(u, options.cancel);
   let next: Int32Array = new Int32Array(n);
   let round = 0;
   for (;;) {
@@ -442,7 +449,7 @@ export function isomorphic(a: UndirectedGraph, b: UndirectedGraph, options: Isom
   if (na === 0) return true;
   const u = disjointUnion(a, b);
   const n = u.n;
-  const ref = new Refiner(u);
+  const ref = new Refiner(u, options.cancel);
   let diff = new Int32Array(n + 1);
   let spare = new Int32Array(n);
 

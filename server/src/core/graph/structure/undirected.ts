@@ -12,6 +12,7 @@
  * Built in O(N + E) by merging the sorted forward and reverse rows; typed arrays only.
  */
 import { buildSortedPair, type Csr } from './csr';
+import { throwIfCancelled, type Cancel } from '../../cancel';
 
 export { AnalysisCancelled, throwIfCancelled, type Cancel } from '../../cancel';
 
@@ -25,14 +26,15 @@ export interface UndirectedGraph extends Csr {
 
 /**
  * The undirected view from the sorted forward and reverse CSR of a graph (as returned by
- * `buildSortedPair` or `loadGraph`).
+ * `buildSortedPair` or `loadGraph`). `cancel` is looked at every 8,192 rows of each pass.
  */
-export function undirectedView(fwd: Csr, rev: Csr): UndirectedGraph {
+export function undirectedView(fwd: Csr, rev: Csr, cancel?: Cancel): UndirectedGraph {
   const n = fwd.n;
   const fp = fwd.indptr, fi = fwd.indices, rp = rev.indptr, ri = rev.indices;
   // Pass 1: row lengths of the merged, de-duplicated rows.
   const indptr = new Int32Array(n + 1);
   for (let u = 0; u < n; u++) {
+    if ((u & 0x1fff) === 0) throwIfCancelled(cancel);
     let a = fp[u]!, b = rp[u]!;
     const ae = fp[u + 1]!, be = rp[u + 1]!;
     let count = 0, last = -1;
@@ -48,6 +50,7 @@ export function undirectedView(fwd: Csr, rev: Csr): UndirectedGraph {
   const indices = new Int32Array(m2);
   const mult = new Int32Array(m2);
   for (let u = 0; u < n; u++) {
+    if ((u & 0x1fff) === 0) throwIfCancelled(cancel);
     let a = fp[u]!, b = rp[u]!;
     const ae = fp[u + 1]!, be = rp[u + 1]!;
     let w = indptr[u]!;
