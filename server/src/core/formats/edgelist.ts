@@ -916,6 +916,11 @@ class EdgeText {
     this.sp = new FieldSplitter(delim);
   }
 
+  /** Bytes kept to answer: the whole buffer under the text, and the edge offsets. */
+  keptBytes(): number {
+    return this.b.buffer.byteLength + this.offsets.byteLength;
+  }
+
   fieldSpan(edge: number, field: number): TextSpan | undefined {
     if (edge < 0 || edge >= this.offsets.length) return undefined;
     const b = this.b;
@@ -941,6 +946,10 @@ class EdgeLocator implements TextLocator {
     private readonly edges: number,
     private readonly width: number,
   ) {}
+
+  kept(): { holder: object; bytes: number } {
+    return { holder: this.text, bytes: this.text.keptBytes() };
+  }
 
   locate(flatIndex: number): TextSpan | undefined {
     if (!Number.isInteger(flatIndex) || flatIndex < 0) return undefined;

@@ -640,6 +640,11 @@ class MtxLocator implements TextLocator {
     private readonly wholeLine: boolean,
   ) {}
 
+  /** The whole buffer under the file's text and the entries' offsets. */
+  kept(): { holder: object; bytes: number } {
+    return { holder: this.b.buffer, bytes: this.b.buffer.byteLength + this.offsets.byteLength };
+  }
+
   locate(flatIndex: number): TextSpan | undefined {
     if (!Number.isInteger(flatIndex) || flatIndex < 0 || flatIndex >= this.offsets.length) return undefined;
     const b = this.b;

@@ -52,6 +52,7 @@ export function readNodeLink(root: Record<string, unknown>, text: string, lines:
     target: (k) => links[k]!['target'],
     weight: (k) => links[k]!['weight'],
     name: (k, side) => `${linksKey}[${k}].${side}`,
+    keptBytes: keptByFind(text),
     find: finder && ((k, side) => {
       const at = finder.element(k);
       const v = at === undefined ? undefined : valueOfKey(text, at, side);
@@ -92,6 +93,7 @@ export function readAdjacencyData(root: Record<string, unknown>, text: string, l
     target: (e) => rows[rowOf[e]!]![posOf[e]!]!['id'],
     weight: (e) => rows[rowOf[e]!]![posOf[e]!]!['weight'],
     name: (e, side) => side === 'source' ? `nodes[${rowOf[e]}].id` : `adjacency[${rowOf[e]}][${posOf[e]}].id`,
+    keptBytes: keptByFind(text) + rowOf.byteLength + posOf.byteLength,
     find: outer && ((e) => {
       // Both ends are located at the entry's "id": the entry sits in its source's row.
       const i = rowOf[e]!;
@@ -139,6 +141,7 @@ export function readCytoscapeData(root: Record<string, unknown>, text: string, l
     target: (k) => edges[k]!['target'],
     weight: (k) => edges[k]!['weight'],
     name: (k, side) => `elements.edges[${k}].data.${side}`,
+    keptBytes: keptByFind(text),
     find: finder && ((k, side) => {
       const at = finder.element(k);
       const data = at === undefined ? undefined : valueOfKey(text, at, 'data');
@@ -159,6 +162,17 @@ interface LinkList {
   /** Where an end is in the document's own terms, for messages. */
   name(k: number, side: 'source' | 'target'): string;
   find?: (k: number, side: 'source' | 'target') => TextSpan | undefined;
+  /** Bytes `find` keeps alive (see keptByFind). */
+  keptBytes?: number;
+}
+
+/**
+ * What a `find` closure keeps alive: the document text (one byte a character for ASCII) and, through
+ * the scope it shares with the other accessors, the parsed document, counted as twice the text (an
+ * estimate, not a measurement).
+ */
+function keptByFind(text: string): number {
+  return 3 * text.length;
 }
 
 /**
@@ -213,12 +227,14 @@ function buildGraph(nodes: Record<string, unknown>[], ids: unknown[][], links: L
   const find = links.find;
   if (find) {
     const lo = Int32Array.from(linkOf), rv = Uint8Array.from(reversed);
+    const keptBytes = (links.keptBytes ?? 0) + lo.byteLength + rv.byteLength;
     edgeIndex.locator = {
       locate(flat: number): TextSpan | undefined {
         if (!Number.isInteger(flat) || flat < 0 || flat >= 2 * e) return undefined;
         const row = flat >= e ? 1 : 0, col = flat - row * e;
         return find(lo[col]!, (row ^ rv[col]!) === 0 ? 'source' : 'target');
       },
+      kept: () => ({ holder: find, bytes: keptBytes }),
     } satisfies TextLocator;
   }
   const tensors: DenseTensor[] = [edgeIndex];
