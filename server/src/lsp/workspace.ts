@@ -23,6 +23,10 @@ import type { FileReport } from '../core/checks/check-set';
 import type { Problem } from '../core/formats/types';
 import { WorkerCancelled, type CheckOutcome, type WorkerApi } from '../node/worker-methods';
 import { structureBytes, type SharedStructure } from '../node/shared-structure';
+import { collectGarbage } from '../node/collect-garbage';
+
+/** Views dropped beyond this many bytes are collected at once: their shared memory is freed only then. */
+const RELEASE_BYTES = 8 * 1024 ** 2;
 
 export interface WorkspaceHost {
   /** The problems of a file (an empty list clears it). */
@@ -52,6 +56,8 @@ interface Job {
 export class StructureViews {
   private readonly map = new Map<string, SharedStructure>();
   private bytes = 0;
+  /** Bytes of views dropped since the last collection (see GraphWorkspace.release). */
+  released = 0;
 
   constructor(private readonly budget: number) {}
 
@@ -69,6 +75,7 @@ export class StructureViews {
       if (this.bytes <= this.budget || this.map.size <= 1) break;
       this.map.delete(f);
       this.bytes -= structureBytes(old);
+      this.released += structureBytes(old);
     }
   }
 
@@ -77,9 +84,11 @@ export class StructureViews {
     if (!s) return;
     this.map.delete(file);
     this.bytes -= structureBytes(s);
+    this.released += structureBytes(s);
   }
 
   clear(): void {
+    this.released += this.bytes;
     this.map.clear();
     this.bytes = 0;
   }
@@ -479,6 +488,7 @@ export class GraphWorkspace {
             this.waiters.delete(f);
           }
           job.done?.();
+          this.release();
           this.host.status();
         }
       }
@@ -486,6 +496,17 @@ export class GraphWorkspace {
       this.pumping = false;
       this.host.status();
     }
+  }
+
+  /**
+   * Shared memory is freed when no thread holds a view of it any more; the worker drops its own
+   * when it forgets a file, but this thread's dropped views wait for a garbage collection that a
+   * thread allocating little may not run for a long time. After dropping large views, run one.
+   */
+  private release(): void {
+    if (this.views.released < RELEASE_BYTES) return;
+    this.views.released = 0;
+    collectGarbage();
   }
 
   /** Stops the workspace check and drops queued jobs (shutdown). */

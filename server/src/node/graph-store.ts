@@ -28,6 +28,7 @@ import { AnalysisService } from './analysis-service';
 import { describeFixedCopy, writeFixedCopy } from './fixed-copy';
 import { globMatcher } from './glob';
 import { nodeInfoOf, shareStructure, type SharedStructure } from './shared-structure';
+import { collectGarbage } from './collect-garbage';
 import type { NodeInfo, TensorPage, TensorStats } from '../../../common/protocol';
 import type {
   CheckOutcome, ConfigureParams, MethodHandlers, ParamsOf, ResultOf, WalkResult,
@@ -154,6 +155,9 @@ export class GraphStore implements MethodHandlers {
     if (e) {
       this.total -= entryBytes(e);
       this.entries.delete(abs);
+      // A large file's bytes and structure are garbage now (shared memory too, once the language
+      // server's thread drops its views): collect them rather than wait for the next allocation.
+      if (entryBytes(e) >= 8 * 1024 ** 2) collectGarbage();
     }
     this.analysis.forget(abs);
   }

@@ -4,8 +4,6 @@
  */
 import * as fs from 'node:fs';
 import * as path from 'node:path';
-import * as v8 from 'node:v8';
-import * as vm from 'node:vm';
 import { MANIFEST_NAME, readerFor } from '../core/formats';
 import { DEFAULT_LIMITS, UnreadableError, type Problem, type ProblemCode, type ReadLimits, type ReadResult } from '../core/formats/types';
 import { withoutGraphTensors } from '../core/formats/json';
@@ -14,6 +12,7 @@ import { ManifestError, parseManifest } from '../core/checks/manifest';
 import { roleFromName } from '../core/checks/roles';
 import { timed } from '../core/timing';
 import { readNpyStreaming } from './npy-stream';
+import { collectGarbage } from './collect-garbage';
 import { readArriving } from './file-stream';
 import { NotEdgeListError, notEdgeListReason, readEdgeList, type EdgeListReadResult } from '../core/formats/edgelist';
 import { assertText, wideEncoding } from '../core/formats/text/encoding';
@@ -476,20 +475,6 @@ function tensorBytes(f: LoadedFile): number {
   let b = 0;
   for (const t of f.result?.tensors ?? []) b += t.kind === 'dense' ? t.data.byteLength : t.row.byteLength * 2;
   return b;
-}
-
-let gc: (() => void) | null | undefined;
-/** Runs a full garbage collection when the runtime allows exposing it; otherwise does nothing. */
-function collectGarbage(): void {
-  if (gc === undefined) {
-    try {
-      v8.setFlagsFromString('--expose-gc');
-      gc = vm.runInNewContext('gc') as () => void;
-    } catch {
-      gc = null;
-    }
-  }
-  gc?.();
 }
 
 function siblings(dir: string): string[] {

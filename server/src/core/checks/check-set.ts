@@ -83,7 +83,15 @@ function stemPrefix(file: string, tensorName: string): string {
   return stem.endsWith(seg) ? stem.slice(0, stem.length - seg.length) : '';
 }
 
-export function checkSet(files: LoadedFile[], manifests: LoadedManifest[], cli: CheckSetOptions = {}): CheckSetResult {
+/**
+ * `focus`, when given, narrows the work to what a change can affect: files still group as they
+ * would without it (every file is looked at), but only the graphs holding a file it accepts are
+ * checked, and only those graphs' files and the accepted ones are reported. An editor re-checking
+ * one changed file passes its folder's files and focuses on the change.
+ */
+export function checkSet(files: LoadedFile[], manifests: LoadedManifest[], cli: CheckSetOptions = {}, focus?: (path: string) => boolean): CheckSetResult {
+  /** With a focus: the files of the graphs that were checked (normalised). */
+  const inChecked = new Set<string>();
   const byPath = new Map(files.map((f) => [normalise(f.path), f]));
   const reports = new Map<string, FileReport>();
   const guesses = new Map<Tensor, RoleGuess>();
@@ -140,6 +148,10 @@ export function checkSet(files: LoadedFile[], manifests: LoadedManifest[], cli: 
   };
 
   const run = (name: string, parts: GraphPart[], options: GraphOptions, severity: SeverityOverrides) => {
+    if (focus) {
+      if (!parts.some((p) => focus(p.file))) return;
+      for (const p of parts) inChecked.add(normalise(p.file));
+    }
     const merged: GraphOptions = { ...definedOnly(cli.defaults ?? {}), ...options, ...definedOnly(cli) };
     const check = timed('checks', () => checkGraph(parts, merged, cli.maxFileBytes !== undefined ? { maxFileBytes: cli.maxFileBytes } : {}));
     const fileSet = [...new Set(parts.map((p) => p.file))];
@@ -238,7 +250,8 @@ export function checkSet(files: LoadedFile[], manifests: LoadedManifest[], cli: 
   }
 
   // 3. Tensor tables.
-  for (const f of files) {
+  const reported = focus ? files.filter((f) => focus(f.path) || inChecked.has(normalise(f.path))) : files;
+  for (const f of reported) {
     const r = reports.get(normalise(f.path))!;
     for (const t of f.result?.tensors ?? []) {
       const g = roleOverride.get(t) ?? guess(t);
@@ -253,7 +266,7 @@ export function checkSet(files: LoadedFile[], manifests: LoadedManifest[], cli: 
     r.problems.sort(byImportance);
   }
 
-  return { files: files.map((f) => reports.get(normalise(f.path))!), graphs, manifestProblems };
+  return { files: reported.map((f) => reports.get(normalise(f.path))!), graphs, manifestProblems };
 }
 
 function applySeverity(p: Problem, overrides: SeverityOverrides): Problem | undefined {
