@@ -3,6 +3,7 @@
  * per-column figures for the tensor tables. A tensor summarised while it was read (`summary`, its
  * values not kept) gives the same figures from its summary.
  */
+import type { ColumnStats } from '../../../../common/protocol';
 import type { DenseTensor, Tensor } from '../formats/types';
 
 export interface TensorStats {
@@ -59,15 +60,8 @@ function int32Stats(d: Int32Array): TensorStats {
   return { min, max, sum, nonFinite: 0 };
 }
 
-/** One column of a matrix view ([N] is one column, [N, F, ...] has F·... columns). */
-export interface ColumnFigures {
-  min: number | null;
-  max: number | null;
-  mean: number | null;
-  std: number | null;
-  nan: number;
-  inf: number;
-}
+/** One column of a matrix view ([N] is one column, [N, F, ...] has F·... columns): the viewer's ColumnStats. */
+export type ColumnFigures = ColumnStats;
 
 /**
  * Figures of the first `shown` columns of a numeric dense tensor seen as `rows` x `cols`. For a

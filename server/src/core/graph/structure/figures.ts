@@ -4,24 +4,15 @@
  */
 import { buildSortedPair, lowerBound, type Csr } from './csr';
 import { timed } from '../../timing';
+import type { GraphFigures } from '../../../../../common/report';
 
-export interface StructureFigures {
-  nodes: number;
-  /** Stored directed entries (duplicates and self-loops included). */
-  edges: number;
-  /** False iff every (u, v) with u ≠ v has (v, u). */
-  directed: boolean;
-  selfLoops: number;
-  /** Entries minus distinct (u, v) pairs. */
-  duplicateEdges: number;
-  /** Distinct (u, v), u ≠ v, whose reverse (v, u) is absent. */
-  asymmetricPairs: number;
+/**
+ * The report's graph figures (common/report.ts) as computed here, without the index base (the
+ * checks know it) and with the count of distinct non-loop pairs the symmetry rule needs.
+ */
+export interface StructureFigures extends Omit<GraphFigures, 'indexBase'> {
   /** Distinct (u, v), u ≠ v (so reciprocity = 1 − asymmetricPairs / distinctNonLoopPairs). */
   distinctNonLoopPairs: number;
-  /** Nodes with no incident edge other than self-loops. */
-  isolatedNodes: number;
-  /** Weakly connected components over all nodes. */
-  components: number;
 }
 
 export interface Structure {
