@@ -196,8 +196,10 @@ export class GraphWorkspace {
         for (const r of this.scanDone.splice(0)) r();
         this.host.status();
       };
+      let queuedFolders = false;
       this.push({
-        files: [], scan: gen, done: () => { if (source.token.isCancellationRequested) finish(); },
+        // Stopped before the folders were queued (cancelled, or the walk failed): the check is over.
+        files: [], scan: gen, done: () => { if (!queuedFolders) finish(); },
         run: async () => {
           const walk = await this.worker.walk({ paths: this.roots }, { token: source.token });
           if (gen !== this.scanGen) return;
@@ -224,6 +226,7 @@ export class GraphWorkspace {
             done += files.length;
           }
           const manifests = [...this.manifests].sort();
+          queuedFolders = true;
           this.push({
             files: manifests, scan: gen, done: finish,
             run: async () => {
