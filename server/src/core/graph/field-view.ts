@@ -374,7 +374,7 @@ export class FieldAnalyzer {
   private influenceOf(v: number, layers: number, selfLoops: boolean, ids: Int32Array, cancel?: Cancel): Float64Array {
     let row: Float64Array;
     if (selfLoops) {
-      this.propagator ??= new InfluencePropagator(this.symmetrised(cancel));
+      this.propagator ??= new InfluencePropagator(this.symmetrised(cancel), cancel);
       row = this.propagator.row(v, layers, { top: 0, fullRow: true, ...(cancel ? { cancel } : {}) }).row!;
     } else {
       row = plainPropagationRow(this.symmetrised(cancel), v, layers, cancel);
@@ -433,6 +433,7 @@ export function plainPropagationRow(sym: Csr, v: number, layers: number, cancel?
   const { indptr, indices } = sym;
   const inv = new Float64Array(n);
   for (let u = 0; u < n; u++) {
+    if ((u & 0xffff) === 0) throwIfCancelled(cancel);
     const d = indptr[u + 1]! - indptr[u]!;
     inv[u] = d > 0 ? 1 / Math.sqrt(d) : 0;
   }
@@ -445,6 +446,7 @@ export function plainPropagationRow(sym: Csr, v: number, layers: number, cancel?
     throwIfCancelled(cancel);
     let nextLen = 0;
     for (let t = 0; t < curLen; t++) {
+      if ((t & 0x3fff) === 0x3fff) throwIfCancelled(cancel);
       const j = curList[t]!;
       const c = cur[j]! * inv[j]!;
       cur[j] = 0;

@@ -57,12 +57,13 @@ export class InfluencePropagator {
   /** 1 when the node is in nextList. */
   private readonly inNext: Uint8Array;
 
-  /** `sym` must be a simple undirected graph (see `simpleUndirected`). */
-  constructor(private readonly sym: Csr) {
+  /** `sym` must be a simple undirected graph (see `simpleUndirected`); `cancel` is looked at every 65,536 nodes. */
+  constructor(private readonly sym: Csr, cancel?: Cancel) {
     const n = (this.n = sym.n);
     this.invSqrt = new Float64Array(n);
     this.invDeg = new Float64Array(n);
     for (let u = 0; u < n; u++) {
+      if ((u & 0xffff) === 0) throwIfCancelled(cancel);
       const dt = 1 + sym.indptr[u + 1]! - sym.indptr[u]!;
       this.invSqrt[u] = 1 / Math.sqrt(dt);
       this.invDeg[u] = 1 / dt;
@@ -76,7 +77,7 @@ export class InfluencePropagator {
 
   /** From the two sorted CSR views of a graph (symmetrises it first). */
   static fromGraph(g: { fwd: Csr; rev: Csr }, cancel?: Cancel): InfluencePropagator {
-    return new InfluencePropagator(simpleUndirected(g.fwd, g.rev, cancel));
+    return new InfluencePropagator(simpleUndirected(g.fwd, g.rev, cancel), cancel);
   }
 
   row(v: number, layers: number, opts: InfluenceOptions = {}): InfluenceRow {

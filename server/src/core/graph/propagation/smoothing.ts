@@ -70,10 +70,11 @@ export function inverseSqrtDegrees(sym: Csr): Float64Array {
 }
 
 /** Both Dirichlet energies of X (row-major n x cols) on the simple undirected graph `sym`. */
-export function dirichletEnergies(sym: Csr, x: Float64Array, cols: number, invSqrt = inverseSqrtDegrees(sym)): { caiWang: number; unnormalised: number } {
+export function dirichletEnergies(sym: Csr, x: Float64Array, cols: number, invSqrt = inverseSqrtDegrees(sym), cancel?: Cancel): { caiWang: number; unnormalised: number } {
   const { n, indptr, indices } = sym;
   let cw = 0, un = 0;
   for (let i = 0; i < n; i++) {
+    if ((i & (ROW_CHUNK - 1)) === 0) throwIfCancelled(cancel);
     const si = invSqrt[i]!;
     const end = indptr[i + 1]!;
     const bi = i * cols;
@@ -143,7 +144,7 @@ export function smoothingCurve(sym: Csr, features: FeatureMatrix, steps: number,
     const t = x; x = y; y = t;
   }
   throwIfCancelled(cancel);
-  const e = dirichletEnergies(sym, x, cols, invSqrt);
+  const e = dirichletEnergies(sym, x, cols, invSqrt, cancel);
   caiWang[steps] = e.caiWang;
   unnormalised[steps] = e.unnormalised;
   return { caiWang, unnormalised, steps, cols, nonFinite: features.nonFinite };

@@ -31,6 +31,7 @@ export function findBridges(g: UndirectedGraph, options: { cancel?: Cancel } = {
   const found: number[] = [];
   let time = 0;
   let steps = 0;
+  throwIfCancelled(options.cancel);
   for (let root = 0; root < n; root++) {
     if (disc[root]! >= 0) continue;
     let sp = 0;
@@ -39,7 +40,7 @@ export function findBridges(g: UndirectedGraph, options: { cancel?: Cancel } = {
     parent[root] = -1;
     next[root] = indptr[root]!;
     while (sp > 0) {
-      if ((++steps & 0xffff) === 0) throwIfCancelled(options.cancel);
+      if ((++steps & 0x3fff) === 0) throwIfCancelled(options.cancel);
       const v = stack[sp - 1]!;
       if (next[v]! < indptr[v + 1]!) {
         const p = next[v]!++;
