@@ -23,6 +23,7 @@ const dup: Problem = { code: 'duplicate-edges', severity: 'warning', count: 1, m
 class FakeWorker {
   disk = new Map<string, Problem[]>();
   checks: Array<{ paths: string[]; focus?: string[] }> = [];
+  walks: string[][] = [];
   forgotten: string[] = [];
   /** Resolves the next check only when released (to hold a check "running"). */
   hold: Promise<void> | undefined;
@@ -32,6 +33,7 @@ class FakeWorker {
     const partial: Partial<WorkerApi> = {
       async configure() {},
       async walk(p: { paths: string[] }): Promise<WalkResult> {
+        self.walks.push(p.paths);
         const files = [...self.disk.keys()].filter((k) => p.paths.some((q) => k === q || k.startsWith(q + path.sep))).sort();
         return { files, manifests: [], missing: [], unsupported: [] };
       },
@@ -102,6 +104,17 @@ describe('GraphWorkspace', () => {
     expect(worker.checks[0]!.paths).toHaveLength(20);
     expect(worker.checks[0]!.focus).toEqual([f('flat/g7.edges')]);
     expect(published).toEqual([{ file: f('flat/g7.edges'), codes: ['duplicate-edges'] }]);
+  });
+
+  it('ignores events where the workspace walk never goes (a package installed into .venv, node_modules)', async () => {
+    const { worker, ws } = setup({ 'a.edges': [] });
+    await ws.scan();
+    worker.walks = [];
+    ws.fileEvents([f('.venv/lib/python3.11/site-packages/scipy/io/tests/data/a.mtx'), f('node_modules'), f('.git/index')]);
+    expect(ws.busy).toBe(false);
+    ws.fileEvents([f('data/new.npy'), f('renamed_folder')]);
+    await settle(ws);
+    expect(worker.walks).toEqual([[f('data/new.npy'), f('renamed_folder')]]);
   });
 
   it('a deleted file is cleared and forgotten; a deleted folder clears every file below it', async () => {

@@ -16,7 +16,7 @@ import { TextDocument } from 'vscode-languageserver-textdocument';
 import { URI } from 'vscode-uri';
 import * as fs from 'node:fs';
 import * as path from 'node:path';
-import { isSupportedFile, readerFor } from '../core/formats';
+import { isSupportedFile, MANIFEST_NAME, readerFor } from '../core/formats';
 import type { Problem, ProblemCode } from '../core/formats/types';
 import type { CheckSetOptions } from '../core/checks/check-set';
 import { edgeListFixes, type FixKind } from '../core/fixes/edgelist-fixes';
@@ -164,7 +164,10 @@ export function startServer(connection: Connection, workerScript: string): void 
 
   // Saved documents and the editor's file watcher: paths of files or folders, created, changed or
   // deleted. The workspace walks them in the worker and re-checks what they can affect.
-  documents.onDidSave((e) => workspace.fileEvents([URI.parse(e.document.uri).fsPath]));
+  documents.onDidSave((e) => {
+    const file = URI.parse(e.document.uri).fsPath;
+    if (isSupportedFile(file) || path.basename(file) === MANIFEST_NAME) workspace.fileEvents([file]);
+  });
   connection.onDidChangeWatchedFiles((e) => workspace.fileEvents(e.changes.map((c) => URI.parse(c.uri).fsPath)));
 
   // ---- hovers ----------------------------------------------------------------------------------

@@ -18,12 +18,13 @@
  */
 import * as path from 'node:path';
 import { CancellationTokenSource, type CancellationToken } from 'vscode-languageserver/node';
-import { MANIFEST_NAME } from '../core/formats';
+import { isSupportedFile, MANIFEST_NAME } from '../core/formats';
 import type { FileReport } from '../core/checks/check-set';
 import type { Problem } from '../core/formats/types';
 import { WorkerCancelled, type CheckOutcome, type WorkerApi } from '../node/worker-methods';
 import { structureBytes, type SharedStructure } from '../node/shared-structure';
 import { collectGarbage } from '../node/collect-garbage';
+import { walkedDir } from '../node/skipped-dirs';
 
 /** Views dropped beyond this many bytes are collected at once: their shared memory is freed only then. */
 const RELEASE_BYTES = 8 * 1024 ** 2;
@@ -246,7 +247,9 @@ export class GraphWorkspace {
 
   /** Paths the editor reported created, changed or deleted (files or folders). */
   fileEvents(paths: string[]): void {
-    for (const p of paths) this.events.add(path.resolve(p));
+    const kept = paths.map((p) => path.resolve(p)).filter((p) => !this.unwalked(p));
+    if (!kept.length) return;
+    for (const p of kept) this.events.add(p);
     if (this.eventTimer) clearTimeout(this.eventTimer);
     this.eventTimer = setTimeout(() => {
       this.eventTimer = undefined;
@@ -429,6 +432,21 @@ export class GraphWorkspace {
     }
     this.host.publish(file, []);
     this.worker.forget({ path: file }).catch((e: unknown) => this.host.log(`forget ${file}: ${(e as Error).message}`));
+  }
+
+  /**
+   * Whether a path lies where the workspace walk never goes (node_modules, .venv, .git, a dot
+   * folder… below a workspace folder): events there are ignored, so installing a package into the
+   * workspace does not check the data files it ships. The path itself is judged as a folder only
+   * when it cannot be a graph file or manifest.
+   */
+  private unwalked(p: string): boolean {
+    const root = this.roots.find((r) => under(p, r) && p !== r);
+    if (!root) return false;
+    const parts = path.relative(root, p).split(path.sep);
+    const last = parts.pop()!;
+    if (parts.some((d) => !walkedDir(d))) return true;
+    return !isSupportedFile(last) && !isManifest(last) && !walkedDir(last);
   }
 
   private index(file: string): void {

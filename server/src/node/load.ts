@@ -13,6 +13,7 @@ import { roleFromName } from '../core/checks/roles';
 import { timed } from '../core/timing';
 import { readNpyStreaming } from './npy-stream';
 import { collectGarbage } from './collect-garbage';
+import { SKIPPED_DIRS, walkedDir } from './skipped-dirs';
 import { readArriving } from './file-stream';
 import { NotEdgeListError, notEdgeListReason, readEdgeList, type EdgeListReadResult } from '../core/formats/edgelist';
 import { assertText, wideEncoding } from '../core/formats/text/encoding';
@@ -62,7 +63,6 @@ export interface LoadOptions {
 }
 
 export const DEFAULT_MAX_FILE_BYTES = 2 * 1024 ** 3;
-const DEFAULT_SKIP = new Set(['node_modules', '.git', '.hg', '.svn', '__pycache__', '.venv', 'venv', '.cache', '.mypy_cache']);
 
 export interface Collected {
   files: string[];
@@ -79,7 +79,7 @@ export interface Collected {
  * a link back to a parent, or a second link to one folder — is walked once, by its real path.
  */
 export function collect(inputs: string[], opts: LoadOptions = {}): Collected {
-  const skip = opts.skipDirs ?? DEFAULT_SKIP;
+  const skip = opts.skipDirs ?? SKIPPED_DIRS;
   const out: Collected = { files: [], manifests: [], missing: [], unsupported: [] };
   const seen = new Set<string>();
   const walked = new Set<string>();
@@ -110,7 +110,7 @@ export function collect(inputs: string[], opts: LoadOptions = {}): Collected {
         }
       }
       if (isDir) {
-        if (!skip.has(e.name) && !e.name.startsWith('.')) walk(p);
+        if (walkedDir(e.name, skip)) walk(p);
       } else if (isFile) {
         if (e.name === MANIFEST_NAME) add(p, out.manifests);
         else if (readerFor(e.name)) add(p, out.files);
