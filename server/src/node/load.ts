@@ -175,7 +175,7 @@ export function loadFile(p: string, opts: LoadOptions = {}, asEdgeList = false):
       return { ...kept, path: p };
     }
     if (size > max) {
-      return { path: p, format: reader.format, error: { message: `the file is ${(size / 1024 ** 2).toFixed(0)} MiB, above the ${(max / 1024 ** 2).toFixed(0)} MiB limit for checking` } };
+      return { path: p, format: reader.format, error: { message: `the file is ${mib(size)} MiB, above the ${mib(max)} MiB limit for checking` } };
     }
     const limits = opts.limits ?? DEFAULT_LIMITS;
     stamp = { abs, mtimeMs: st.mtimeMs, size };
@@ -281,6 +281,12 @@ function readWhole(p: string, size: number): Uint8Array {
   } finally {
     fs.closeSync(fd);
   }
+}
+
+/** Mebibytes with one decimal below 10 (1.4 MiB is not "1 MiB, above the 1 MiB limit"). */
+function mib(bytes: number): string {
+  const m = bytes / 1024 ** 2;
+  return m < 10 ? (Math.floor(m * 10) / 10).toString() : Math.floor(m).toString();
 }
 
 /** Why a path that exists is not read: it is not a regular file. */
