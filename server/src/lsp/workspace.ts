@@ -131,6 +131,8 @@ export class GraphWorkspace {
 
   private readonly events = new Set<string>();
   private eventTimer: NodeJS.Timeout | undefined;
+  /** When the first event of the ones waiting arrived. */
+  private eventsSince = 0;
 
   constructor(
     private readonly worker: WorkerApi,
@@ -250,7 +252,10 @@ export class GraphWorkspace {
     const kept = paths.map((p) => path.resolve(p)).filter((p) => !this.unwalked(p));
     if (!kept.length) return;
     for (const p of kept) this.events.add(p);
+    // A quiet moment, but not forever: a file rewritten every 100 ms is still checked each second.
+    if (this.eventTimer && Date.now() - this.eventsSince >= 4 * this.quietMs) return;
     if (this.eventTimer) clearTimeout(this.eventTimer);
+    else this.eventsSince = Date.now();
     this.eventTimer = setTimeout(() => {
       this.eventTimer = undefined;
       const ps = [...this.events];
