@@ -72,7 +72,7 @@ export const SETTINGS: { readonly [K in SettingKey]: SettingSpec<SettingValues[K
     default: 1024,
     minimum: 1,
     scope: 'resource',
-    markdownDescription: 'Files larger than this (MiB) are listed but not read.',
+    markdownDescription: 'Files larger than this (MiB) are listed but not read: not checked, not shown in the tensor viewer, not analysed in the receptive-field panel.',
   },
   exclude: {
     type: 'array',
