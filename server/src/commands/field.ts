@@ -2,6 +2,9 @@
  * `hopscope field FILE --node V --layers L`: what an L-layer message-passing model lets node V
  * see — nodes per hop distance, total and coverage — and which nodes weigh most in V's output
  * (row V of Â^L with the GCN normalisation).
+ * `hopscope field FILE --pair U,V --layers L`: the same for a node pair as link prediction sees it
+ * (core/graph/propagation/pair-field.ts): both fields, their union and overlap per hop, the pair's
+ * own edge in the message-passing graph, and the distance between the ends without that edge.
  */
 import type { CliIo, Command } from './types';
 import { UsageError } from './types';
@@ -12,12 +15,15 @@ import type { CheckSetOptions } from '../core/checks/check-set';
 import { FieldWalker, coverageCurve, type SendingRow } from '../core/graph/propagation/field';
 import { sendingRowOfLegacyFlow } from '../core/checks/manifest';
 import { influenceRow } from '../core/graph/propagation/influence';
+import { PairFieldWalker, type PairField } from '../core/graph/propagation/pair-field';
+import type { LoadedGraph } from '../node/graph-input';
 
 const MAX_LAYERS = 64;
 const DEFAULT_TOP = 50;
 const DEFAULT_TOP_TABLE = 10;
 
 const USAGE = `Usage: hopscope field FILE --node V --layers L [options]
+       hopscope field FILE --pair U,V --layers L [--sending-row 0|1] [--symmetrise] [--json]
 
 Shows what node V sees after L message-passing layers: how many nodes sit at each hop distance,
 how much of the graph that is, and which nodes weigh most in V's output under GCN propagation
@@ -26,6 +32,10 @@ merged; Kipf & Welling 2017).
 
 Options:
   --node V                    node id as written in the file (ids of a 1-based file stay 1-based)
+  --pair U,V                  instead of --node: what the model sees of the pair U, V (link
+                              prediction): each end's field, their union and overlap per hop,
+                              whether the pair's own edge is in the message-passing graph, and
+                              the distance between U and V with that edge removed
   --layers L                  number of layers, 0..${MAX_LAYERS}
   --sending-row 0|1           which row of an edge index sends messages (0: row 0 / the first
                               column of an edge list sends, so V hears from the nodes with edges
@@ -37,7 +47,9 @@ Options:
                               L = 1..8 over a fixed sample of up to 256 nodes
   --num-nodes N               declare the node count
   --index-base 0|1            declare that node ids start at 0 or at 1
-  --json                      print JSON: { node, layers, perHop, total, coverage, influence }
+  --json                      print JSON: { node, layers, perHop, total, coverage, influence };
+                              with --pair: { pair, layers, sendingRow, symmetrised, perHop, total,
+                              coverage, pairEdge, distanceWithoutPairEdge } (see the README)
   -h, --help                  show this help
 
 The influence weights ignore edge direction (the GCN normalisation needs a symmetric matrix);
@@ -47,7 +59,10 @@ Exit codes: 0 = done; 2 = usage error, node out of range, or the file could not 
 
 interface FieldArgs {
   file: string;
+  /** The --node id, or the first end of --pair. */
   node: number;
+  /** The second end of --pair (pair mode when set). */
+  other?: number;
   layers: number;
   sendingRow?: SendingRow;
   symmetrise: boolean;
@@ -61,6 +76,7 @@ interface FieldArgs {
 const OPTIONS = {
   ...GRAPH_OPTIONS,
   node: { type: 'string' },
+  pair: { type: 'string' },
   layers: { type: 'string' },
   top: { type: 'string' },
   'sending-row': { type: 'string' },
@@ -77,18 +93,39 @@ function parseFieldArgs(argv: string[]): FieldArgs {
   const { values: v, positionals: files } = parseCommandLine(argv, OPTIONS);
   if (files.length === 0) throw new UsageError('no FILE given');
   if (files.length > 1) throw new UsageError(`one FILE at a time, got ${files.length}: ${files.join(' ')}`);
-  if (v.node === undefined) throw new UsageError('--node is required');
-  if (/^-\d/.test(v.node)) throw new UsageError(`--node must be a node id (0 or more), got "${v.node}"`);
-  const node = wholeNumber('--node', v.node);
+  if (v.node !== undefined && v.pair !== undefined) throw new UsageError('give either --node or --pair, not both');
+  if (v.node === undefined && v.pair === undefined) throw new UsageError('--node is required (or --pair U,V for a node pair)');
+  let node: number, other: number | undefined;
+  if (v.pair !== undefined) {
+    [node, other] = pairOption(v.pair);
+    for (const [flag, given] of [['--top', v.top], ['--random-walk', v['random-walk']], ['--curve', v.curve]] as const) {
+      if (given !== undefined) throw new UsageError(`${flag} applies to --node only, not to --pair`);
+    }
+  } else {
+    if (/^-\d/.test(v.node!)) throw new UsageError(`--node must be a node id (0 or more), got "${v.node}"`);
+    node = wholeNumber('--node', v.node!);
+  }
   const layers = optionalWhole('--layers', v.layers, 0, MAX_LAYERS);
   if (layers === undefined) throw new UsageError('--layers is required');
   const top = optionalWhole('--top', v.top);
   const sendingRow = sendingRowOption(v['sending-row'], v.flow);
   return {
-    file: files[0]!, node, layers, options: graphOptions(v),
+    file: files[0]!, node, layers, options: graphOptions(v), ...(other !== undefined ? { other } : {}),
     symmetrise: v.symmetrise === true || v.symmetrize === true, randomWalk: v['random-walk'] === true, curve: v.curve === true, json: v.json === true,
     ...(sendingRow !== undefined ? { sendingRow } : {}), ...(top !== undefined ? { top } : {}),
   };
+}
+
+/** `--pair U,V`: two different node ids as written in the file. */
+function pairOption(value: string): [number, number] {
+  const m = /^\s*([^,\s]+)\s*,\s*([^,\s]+)\s*$/.exec(value);
+  if (!m) throw new UsageError(`--pair must be two node ids joined by a comma, like --pair 4,17; got "${value}"`);
+  const ends = [m[1]!, m[2]!].map((x) => {
+    if (/^-\d/.test(x)) throw new UsageError(`--pair takes node ids (0 or more), got "${x}"`);
+    return wholeNumber('--pair', x);
+  }) as [number, number];
+  if (ends[0] === ends[1]) throw new UsageError(`--pair needs two different nodes, got ${ends[0]} twice`);
+  return ends;
 }
 
 function sendingRowOption(value: string | undefined, legacy: string | undefined): SendingRow | undefined {
@@ -110,9 +147,12 @@ function fieldReport(argv: string[], io: CliIo): number {
   const base = g.figures.indexBase;
   const v = args.node - base;
   if (g.n === 0) { io.err(`hopscope field: ${args.file} has no nodes\n`); return 2; }
-  if (v < 0 || v >= g.n) {
-    io.err(`hopscope field: --node ${args.node} is out of range: ${args.file} has ${g.n} node${g.n === 1 ? '' : 's'} (ids ${base}..${g.n - 1 + base})\n`);
-    return 2;
+  for (const id of args.other === undefined ? [args.node] : [args.node, args.other]) {
+    if (id - base < 0 || id - base >= g.n) {
+      const flag = args.other === undefined ? '--node' : '--pair: node';
+      io.err(`hopscope field: ${flag} ${id} is out of range: ${args.file} has ${g.n} node${g.n === 1 ? '' : 's'} (ids ${base}..${g.n - 1 + base})\n`);
+      return 2;
+    }
   }
   const errors = g.problems.filter((p) => p.severity === 'error').length;
   if (errors) {
@@ -120,6 +160,7 @@ function fieldReport(argv: string[], io: CliIo): number {
   }
 
   const sendingRow: SendingRow = args.sendingRow ?? g.options.sendingRow ?? 0;
+  if (args.other !== undefined) return pairReport(args, g, sendingRow, io);
   const field = new FieldWalker(g).field(v, args.layers, { sendingRow, symmetrise: args.symmetrise });
   const top = args.top ?? (args.json ? DEFAULT_TOP : DEFAULT_TOP_TABLE);
   const infl = influenceRow(g, v, args.layers, { top, norm: args.randomWalk ? 'random-walk' : 'gcn' });
@@ -176,7 +217,68 @@ function fieldReport(argv: string[], io: CliIo): number {
 
 export const fieldCommand: Command = {
   name: 'field',
-  summary: 'field FILE --node V --layers L  receptive field and influence of a node',
+  summary: 'field FILE --node V --layers L  receptive field and influence of a node (or --pair U,V)',
   usage: USAGE,
   run,
 };
+
+/** The JSON of `--pair` (its shape is in the README's field section); ids as written in the file. */
+export function pairJson(p: PairField, base: number): Record<string, unknown> {
+  return {
+    pair: [p.u + base, p.v + base],
+    layers: p.layers,
+    sendingRow: p.sendingRow,
+    symmetrised: p.symmetrised,
+    perHop: p.perHop,
+    total: p.total,
+    coverage: p.n ? p.total.union / p.n : 0,
+    pairEdge: { uToV: p.storedEdge.uToV, vToU: p.storedEdge.vToU, vHearsU: p.carries.uToV, uHearsV: p.carries.vToU },
+    distanceWithoutPairEdge: p.distanceWithoutPairEdge,
+  };
+}
+
+function pairReport(args: FieldArgs, g: LoadedGraph, sendingRow: SendingRow, io: CliIo): number {
+  const base = g.figures.indexBase;
+  const U = args.node, V = args.other!;
+  const p = new PairFieldWalker(g).field(U - base, V - base, args.layers, { sendingRow, symmetrise: args.symmetrise });
+  if (args.json) {
+    io.out(JSON.stringify(pairJson(p, base), null, 2) + '\n');
+    return 0;
+  }
+  const c = styler(io);
+  const pct = (x: number) => `${(100 * x).toFixed(1)}%`;
+  const plural = (k: number, word: string) => `${k} ${word}${k === 1 ? '' : 's'}`;
+  const how = args.symmetrise ? 'both ways along every edge' : `from row ${sendingRow} to row ${1 - sendingRow}`;
+  const lines: string[] = [];
+  lines.push(c('bold', `Pair ${U}, ${V}, ${plural(args.layers, 'layer')}`) + c('dim', `  (${args.file}: ${g.n} nodes, messages ${how})`));
+  lines.push('');
+  const colU = `node ${U}`, colV = `node ${V}`;
+  const w = Math.max(9, colU.length, colV.length);
+  lines.push(c('dim', `  hop   ${colU.padStart(w)}   ${colV.padStart(w)}       union   in both`));
+  for (let k = 0; k <= p.layers; k++) {
+    lines.push(`  ${String(k).padStart(3)}   ${String(p.perHop.u[k]).padStart(w)}   ${String(p.perHop.v[k]).padStart(w)}   ${String(p.perHop.union[k]).padStart(9)}   ${String(p.perHop.overlap[k]).padStart(7)}`);
+  }
+  lines.push(c('dim', `  all   ${String(p.total.u).padStart(w)}   ${String(p.total.v).padStart(w)}   ${String(p.total.union).padStart(9)}   ${String(p.total.overlap).padStart(7)}`));
+  lines.push('');
+  lines.push(`  ${p.total.union} of ${g.n} nodes (${pct(p.n ? p.total.union / p.n : 0)}) can pass a message to node ${U} or node ${V} within ${plural(args.layers, 'layer')}; ${p.total.overlap} reach both.`);
+  lines.push(c('dim', '  (a node counts in the union at its distance to the nearer end, in "in both" at its distance to the farther end)'));
+  lines.push('');
+  const stored: string[] = [];
+  if (p.storedEdge.uToV) stored.push(`${U} → ${V} (row 0 = ${U}, row 1 = ${V})`);
+  if (p.storedEdge.vToU) stored.push(`${V} → ${U} (row 0 = ${V}, row 1 = ${U})`);
+  if (stored.length) {
+    const heard: string[] = [];
+    if (p.carries.uToV) heard.push(`node ${V} hears from node ${U}`);
+    if (p.carries.vToU) heard.push(`node ${U} hears from node ${V}`);
+    lines.push(c('yellow', `  Pair edge in the message graph: ${stored.join(' and ')}; ${heard.join(' and ')} in one layer.`) +
+      ' A model asked to predict this pair sees the edge itself: if it is a validation or test positive, remove it (and its reverse) from the message-passing edges.');
+  } else {
+    lines.push(`  No edge between node ${U} and node ${V} in the message-passing graph.`);
+  }
+  const d = p.distanceWithoutPairEdge;
+  lines.push(d === null
+    ? `  Distance without the pair's edge: unreachable — no path joins node ${U} and node ${V} once their own edge is removed (edge direction ignored).`
+    : `  Distance without the pair's edge: ${plural(d, 'hop')} between node ${U} and node ${V} (edge direction ignored).`);
+  io.out(lines.join('\n') + '\n');
+  return 0;
+}
