@@ -208,6 +208,63 @@ export interface FieldViewPayload {
   fileErrors: number;
 }
 
+/**
+ * Request, client → server: what a model sees of a node pair (link prediction): both ends' fields,
+ * their union and overlap per hop, the pair's own edge in the message-passing graph, and the
+ * distance between the ends without that edge (server/src/core/graph/propagation/pair-field.ts).
+ */
+export namespace PairFieldRequest {
+  export const method = 'hopscope/pairField';
+  export const type = new RequestType<Params, PairFieldPayload, void>(method);
+  export interface Params {
+    uri: string;
+    /** The two ends, as written in the file; they must differ. */
+    u: number;
+    v: number;
+    /** Message-passing layers, 0..64. */
+    layers: number;
+    sendingRow?: SendingRow;
+    symmetrise?: boolean;
+    selfLoops?: boolean;
+    /** Most nodes to draw (`hopscope.panel.maxDrawnNodes`); the server keeps it within 10..20000. */
+    maxNodes?: number;
+  }
+}
+export interface PairFieldPayload {
+  file: string;
+  u: number;
+  v: number;
+  layers: number;
+  sendingRow: SendingRow;
+  symmetrised: boolean;
+  selfLoops: boolean;
+  graphNodes: number;
+  indexBase: 0 | 1;
+  /** Per hop 0..layers: each end's field, the union (by the nearer end's distance) and the overlap (by the farther end's). */
+  perHop: { u: number[]; v: number[]; union: number[]; overlap: number[] };
+  total: { u: number; v: number; union: number; overlap: number };
+  /** total.union / graphNodes. */
+  coverage: number;
+  /** Stored columns u → v (row 0 = u) and v → u; whether v hears u / u hears v along them. */
+  pairEdge: { uToV: boolean; vToU: boolean; vHearsU: boolean; uHearsV: boolean };
+  /** Undirected hops between the ends with every edge between them removed; null when none is left. */
+  distanceWithoutPairEdge: number | null;
+  /** Drawn union members: u, v first, then by the nearer end's distance, then id (the nearest `maxNodes`). */
+  ids: number[];
+  /** Distance of each drawn node to u / to v inside that end's field, -1 when outside it. */
+  hopsU: number[];
+  hopsV: number[];
+  /** Drawn union members ("showing shown of total.union"). */
+  shown: number;
+  sampled: boolean;
+  /** Edges among the drawn nodes: index pairs (a < b) into `ids`, flattened; the pair's own edge is the pair (0, 1) when stored. */
+  edges: number[];
+  /** Per edge: 1 = messages ids[a] → ids[b] only, 2 = ids[b] → ids[a] only, 3 = both ways. */
+  edgeDirs: number[];
+  edgesTotal: number;
+  fileErrors: number;
+}
+
 /** Request, client → server: 1-WL colours of the drawn nodes and the groups that share one. */
 export namespace WlClassesRequest {
   export const method = 'hopscope/wlClasses';

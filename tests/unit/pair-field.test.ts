@@ -16,6 +16,7 @@ import { main } from '../../server/src/cli';
 import { fixtureGraph, ANALYSIS_DIR, undirected, path_ } from './analysis-fixtures';
 import { PairFieldWalker, pairField } from '../../server/src/core/graph/propagation/pair-field';
 import { AnalysisCancelled } from '../../server/src/core/cancel';
+import { GraphStore } from '../../server/src/node/graph-store';
 
 const expected = JSON.parse(fs.readFileSync(path.join(__dirname, '../fixtures/pair/expected.json'), 'utf8'));
 const GRAPHS = path.join(__dirname, '../fixtures/graphs');
@@ -169,5 +170,40 @@ describe('hopscope field --pair', () => {
     expect(r.code).toBe(2);
     expect(r.err).toMatch(message as RegExp);
     expect(r.out).toBe('');
+  });
+});
+
+describe('the worker table entry pairField (GraphStore → AnalysisService)', () => {
+  it('karate 16,5 (an edge): NetworkX counts, the stored edge, the drawing with the pair edge as (0, 1)', () => {
+    const store = new GraphStore({});
+    const r = store.pairField({ path: KARATE, u: 16, v: 5, layers: 2, symmetrise: true });
+    if ('error' in r) throw new Error(r.error);
+    const want = expected.karate.pairs[2];
+    expect(r.perHop).toEqual(want.perHop['2'].sym.selfLoops);
+    expect(r.pairEdge).toEqual({ uToV: true, vToU: true, vHearsU: true, uHearsV: true });
+    expect(r.distanceWithoutPairEdge).toBe(want.distanceWithoutPairEdge);
+    expect(r.ids.slice(0, 2)).toEqual([16, 5]);
+    expect(r.ids.length).toBe(r.total.union);
+    expect(r.sampled).toBe(false);
+    // The pair's own edge is among the drawn edges, between positions 0 and 1, both ways.
+    const k = r.edges.findIndex((a, i) => i % 2 === 0 && a === 0 && r.edges[i + 1] === 1);
+    expect(k).toBeGreaterThanOrEqual(0);
+    expect(r.edgeDirs[k / 2]).toBe(3);
+    // Without self-loops: the NetworkX frontier counts.
+    const nl = store.pairField({ path: KARATE, u: 16, v: 5, layers: 2, symmetrise: true, selfLoops: false });
+    if ('error' in nl) throw new Error(nl.error);
+    expect(nl.perHop).toEqual(want.perHop['2'].sym.noSelfLoops);
+  });
+
+  it('the drawing cap keeps the nearest members; bad ends are sentences, not exceptions', () => {
+    const store = new GraphStore({});
+    const r = store.pairField({ path: KARATE, u: 0, v: 33, layers: 3, symmetrise: true, maxNodes: 10 });
+    if ('error' in r) throw new Error(r.error);
+    expect(r.ids.length).toBe(10);
+    expect(r.sampled).toBe(true);
+    const near = r.ids.map((_, i) => Math.min(...[r.hopsU[i]!, r.hopsV[i]!].filter((h) => h >= 0)));
+    expect(near.slice(2)).toEqual([...near.slice(2)].sort((a, b) => a - b));
+    expect(store.pairField({ path: KARATE, u: 0, v: 34, layers: 1 })).toEqual({ error: 'Node 34 is not in edge_index.npy: its ids run from 0 to 33.' });
+    expect(store.pairField({ path: KARATE, u: 3, v: 3, layers: 1 })).toEqual({ error: 'A pair needs two different nodes; both ends are 3.' });
   });
 });

@@ -1,6 +1,6 @@
 /**
- * The receptive-field panel's requests (common/protocol.ts: FieldViewRequest, WlClassesRequest,
- * BottlenecksRequest, SmoothingRequest). The work runs in the graph worker; a message for the
+ * The receptive-field panel's requests (common/protocol.ts: FieldViewRequest, PairFieldRequest,
+ * WlClassesRequest, BottlenecksRequest, SmoothingRequest). The work runs in the graph worker; a message for the
  * user (unknown node, unreadable file) comes back as a RequestFailed error carrying that message.
  *
  * Each request's cancellation token goes to the worker, so `$/cancelRequest` (the panel moved its
@@ -11,7 +11,7 @@
 import { LSPErrorCodes, ResponseError, type CancellationToken, type Connection } from 'vscode-languageserver/node';
 import { URI } from 'vscode-uri';
 import {
-  BottlenecksRequest, FieldViewRequest, SmoothingRequest, WlClassesRequest,
+  BottlenecksRequest, FieldViewRequest, PairFieldRequest, SmoothingRequest, WlClassesRequest,
 } from '../../../common/protocol';
 import { WorkerCancelled, type AnalysisError, type CallOptions, type WorkerApi } from '../node/worker-methods';
 
@@ -37,7 +37,7 @@ function ids(xs: unknown, what: string): number[] {
   return xs as number[];
 }
 
-export function registerAnalysisRequests(connection: Connection, api: Pick<WorkerApi, 'fieldView' | 'wlClasses' | 'bottlenecks' | 'smoothing'>): void {
+export function registerAnalysisRequests(connection: Connection, api: Pick<WorkerApi, 'fieldView' | 'pairField' | 'wlClasses' | 'bottlenecks' | 'smoothing'>): void {
   const file = (uri: string) => URI.parse(uri).fsPath;
   /** The token, ahead of queued workspace checks, superseding the last request of this kind for the file. */
   const options = (kind: string, path: string, token: CancellationToken): CallOptions => ({ token, priority: 'high', supersedeKey: `${kind}:${path}` });
@@ -45,6 +45,12 @@ export function registerAnalysisRequests(connection: Connection, api: Pick<Worke
     const { uri, ...rest } = p;
     const path = file(uri);
     return unwrap(api.fieldView({ path, ...rest }, options('field', path, token)));
+  });
+  connection.onRequest(PairFieldRequest.type, (p, token) => {
+    const { uri, ...rest } = p;
+    const path = file(uri);
+    // The same supersede key as the single-node field: the panel shows one or the other.
+    return unwrap(api.pairField({ path, ...rest }, options('field', path, token)));
   });
   connection.onRequest(WlClassesRequest.type, (p, token) => {
     const path = file(p.uri);

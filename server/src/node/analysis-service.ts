@@ -14,14 +14,15 @@ import * as fs from 'node:fs';
 import * as path from 'node:path';
 import type { CheckSetOptions } from '../core/checks/check-set';
 import type { DenseTensor } from '../core/formats/types';
-import { FieldAnalyzer, smoothingSummary } from '../core/graph/field-view';
+import { DEFAULT_MAX_EDGES, FieldAnalyzer, smoothingSummary } from '../core/graph/field-view';
+import { PairFieldWalker } from '../core/graph/propagation/pair-field';
 import { StructureAnalyzer } from '../core/graph/structure-view';
 import { labelVector } from '../core/graph/propagation/homophily';
 import type { Cancel } from '../core/cancel';
 import { GraphLoadError, loadGraph, type LoadedGraph } from './graph-input';
 import { manifestsAbove } from './load';
 import type {
-  BottlenecksPayload, FieldViewPayload, FieldViewRequest, SmoothingPayload, WlClassesPayload,
+  BottlenecksPayload, FieldViewPayload, FieldViewRequest, PairFieldPayload, PairFieldRequest, SmoothingPayload, WlClassesPayload,
 } from '../../../common/protocol';
 import type { AnalysisError } from './worker-methods';
 import { SETTINGS } from '../../../common/settings';
@@ -40,6 +41,8 @@ interface Entry {
   stamp: string;
   graph: LoadedGraph;
   field: FieldAnalyzer;
+  /** The pair view's walker (made on first use, sharing `field`). */
+  pair?: PairFieldWalker;
   structure: StructureAnalyzer;
   /** Coverage curves per (sendingRow, symmetrise, selfLoops). */
   coverage: Map<string, FieldViewPayload['coverageCurve']>;
@@ -107,6 +110,48 @@ export class AnalysisService {
       shown: view.shown, shownPerHop: view.shownPerHop, sampled: view.sampled,
       edges: Array.from(view.edgeEnds), edgeDirs: Array.from(view.edgeDirs), edgesTotal: view.edgesTotal,
       coverageCurve, hasFeatures: g.features !== undefined,
+      fileErrors: g.problems.filter((x) => x.severity === 'error').length,
+    };
+  }
+
+  /** What a model sees of the pair (u, v): see core/graph/propagation/pair-field.ts. */
+  pairField(file: string, p: Omit<PairFieldRequest.Params, 'uri'>, cancel?: Cancel): PairFieldPayload | AnalysisError {
+    const e = this.entry(file, cancel);
+    if ('error' in e) return e;
+    const g = e.graph;
+    const base = g.figures.indexBase;
+    const u = this.node(g, p.u);
+    if (typeof u !== 'number') return u;
+    const v = this.node(g, p.v);
+    if (typeof v !== 'number') return v;
+    if (u === v) return { error: `A pair needs two different nodes; both ends are ${p.u}.` };
+    if (!Number.isInteger(p.layers) || p.layers < 0 || p.layers > PANEL_LIMITS.maxLayers) {
+      return { error: `The layer count must be a whole number from 0 to ${PANEL_LIMITS.maxLayers}, got ${p.layers}.` };
+    }
+    const sendingRow = p.sendingRow ?? g.options.sendingRow ?? 0;
+    const symmetrise = p.symmetrise === true;
+    const selfLoops = p.selfLoops !== false;
+    const maxNodes = clamp(p.maxNodes ?? PANEL_LIMITS.defaultDrawn, PANEL_LIMITS.minDrawn, PANEL_LIMITS.maxDrawn);
+    e.pair ??= new PairFieldWalker(g, e.field);
+    const r = e.pair.field(u, v, p.layers, { sendingRow, symmetrise, selfLoops, ...(cancel ? { cancel } : {}) });
+    // The nearest members: r.ids is ordered u, v, then by the nearer end's distance, then id.
+    const m = Math.min(r.ids.length, maxNodes);
+    const drawn = r.ids.slice(0, m);
+    const near = new Int32Array(m);
+    for (let i = 0; i < m; i++) {
+      const a = r.hopsU[i]!, b = r.hopsV[i]!;
+      near[i] = a < 0 ? b : b < 0 ? a : Math.min(a, b);
+    }
+    const edges = e.field.inducedEdges(drawn, near, sendingRow, symmetrise, DEFAULT_MAX_EDGES);
+    return {
+      file: g.file, u: p.u, v: p.v, layers: p.layers, sendingRow, symmetrised: symmetrise, selfLoops,
+      graphNodes: g.n, indexBase: base,
+      perHop: r.perHop, total: r.total, coverage: g.n ? r.total.union / g.n : 0,
+      pairEdge: { uToV: r.storedEdge.uToV, vToU: r.storedEdge.vToU, vHearsU: r.carries.uToV, uHearsV: r.carries.vToU },
+      distanceWithoutPairEdge: r.distanceWithoutPairEdge,
+      ids: Array.from(drawn, (x) => x + base), hopsU: Array.from(r.hopsU.subarray(0, m)), hopsV: Array.from(r.hopsV.subarray(0, m)),
+      shown: m, sampled: m < r.ids.length,
+      edges: Array.from(edges.edgeEnds), edgeDirs: Array.from(edges.edgeDirs), edgesTotal: edges.edgesTotal,
       fileErrors: g.problems.filter((x) => x.severity === 'error').length,
     };
   }

@@ -240,6 +240,14 @@ export class GraphStore implements MethodHandlers {
     return r;
   }
 
+  pairField(p: ParamsOf<'pairField'>, cancel: Cancel = NOT_CANCELLED): ResultOf<'pairField'> {
+    const { path: file, ...rest } = p;
+    const from = this.clock + 1;
+    const r = this.analysis.pairField(file, rest, cancel);
+    this.evict(from);
+    return r;
+  }
+
   wlClasses(p: ParamsOf<'wlClasses'>, cancel: Cancel = NOT_CANCELLED): ResultOf<'wlClasses'> {
     const from = this.clock + 1;
     const r = this.analysis.wlClasses(p.path, p.nodes, cancel);

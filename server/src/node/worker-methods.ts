@@ -16,7 +16,7 @@
 import type { CheckSetOptions, FileReport } from '../core/checks/check-set';
 import type { Csr } from '../core/graph/structure/csr';
 import type {
-  BottlenecksPayload, FieldViewPayload, FieldViewRequest, FixedCopyResult, NodeInfo,
+  BottlenecksPayload, FieldViewPayload, FieldViewRequest, FixedCopyResult, NodeInfo, PairFieldPayload, PairFieldRequest,
   SmoothingPayload, TensorPage, TensorStats, WlClassesPayload,
 } from '../../../common/protocol';
 
@@ -112,6 +112,8 @@ export const WORKER_METHODS = {
   tensorStats: method<PathParams & { tensor: string; maxCols?: number }, TensorStats | null>(true),
   /** The receptive-field panel's analyses. */
   fieldView: method<PathParams & Omit<FieldViewRequest.Params, 'uri'>, FieldViewPayload | AnalysisError>(true),
+  /** What a model sees of a node pair (link prediction): the panel's pair mode. */
+  pairField: method<PathParams & Omit<PairFieldRequest.Params, 'uri'>, PairFieldPayload | AnalysisError>(true),
   wlClasses: method<PathParams & { nodes: number[] }, WlClassesPayload | AnalysisError>(true),
   bottlenecks: method<PathParams & { edges: number[] }, BottlenecksPayload | AnalysisError>(true),
   smoothing: method<PathParams & { steps?: number }, SmoothingPayload | AnalysisError | null>(true),

@@ -329,9 +329,10 @@ export class FieldAnalyzer {
   /**
    * Unordered pairs of drawn nodes joined by a stored edge (self-loops left out), with directions.
    * Beyond `maxEdges` pairs, those nearest the centre are kept: by the hop of the farther end, then
-   * of the nearer end, then by position.
+   * of the nearer end, then by position. Public for the pair view (node/analysis-service.ts), which
+   * passes each drawn node's distance to the nearer end of the pair as `hops`.
    */
-  private inducedEdges(ids: Int32Array, hops: Int32Array, sendingRow: SendingRow, symmetrise: boolean, maxEdges: number): { edgeEnds: Int32Array; edgeDirs: Uint8Array; edgesTotal: number } {
+  inducedEdges(ids: Int32Array, hops: Int32Array, sendingRow: SendingRow, symmetrise: boolean, maxEdges: number): { edgeEnds: Int32Array; edgeDirs: Uint8Array; edgesTotal: number } {
     const pos = this.pos;
     const m = ids.length;
     for (let i = 0; i < m; i++) pos[ids[i]!] = i;
