@@ -33,6 +33,12 @@ export const CODES: Readonly<Record<ProblemCode, CodeInfo>> = {
   'skew-symmetric-diagonal': { severity: 'warning', summary: 'A skew-symmetric Matrix Market file that stores non-zero diagonal entries (a skew-symmetric matrix has a zero diagonal); they are kept, as SciPy keeps them.' },
   'no-graph-tensors': { severity: 'info', summary: 'A file that was read but holds nothing taken as graph data (e.g. JSON with a "nodes" key in a layout that is not read).' },
   'renamed-key': { severity: 'info', summary: 'A hopscope.json key that still works under its old name; the message gives the new one.' },
+  'leaked-positive-pairs': { severity: 'error', summary: 'Validation or test positive pairs that are also message-passing edges (either direction when undirected): the model sees what it predicts.' },
+  'negative-pairs-are-edges': { severity: 'error', summary: 'Negative pairs that are edges (message-passing or any split\'s positives); a warning for train negatives.' },
+  'pairs-in-two-splits': { severity: 'error', summary: 'The same positive pair in two of the train/validation/test splits.' },
+  'pair-labels-mismatch': { severity: 'error', summary: 'A pair label vector whose length differs from its pairs, or labels other than 0/1.' },
+  'self-pairs': { severity: 'warning', summary: 'Positive or negative pairs that join a node to itself.' },
+  'cold-start-pairs': { severity: 'info', summary: 'Validation or test pairs touching a node with no message-passing edge: only its own features are seen.' },
 };
 
 export const ALL_CODES = Object.keys(CODES) as ProblemCode[];

@@ -31,7 +31,13 @@ export type ProblemCode =
   | 'empty-graph'
   | 'skew-symmetric-diagonal'
   | 'no-graph-tensors'
-  | 'renamed-key';
+  | 'renamed-key'
+  | 'leaked-positive-pairs'
+  | 'negative-pairs-are-edges'
+  | 'pairs-in-two-splits'
+  | 'pair-labels-mismatch'
+  | 'self-pairs'
+  | 'cold-start-pairs';
 
 /**
  * Which row of an edge index sends messages (and which column of an edge list): 0 = row 0 sends
@@ -84,6 +90,22 @@ export interface FileReport {
   tensors: TensorReport[];
   graph: GraphFigures | null;
   problems: Problem[];
+  /** Link-prediction splits, on the file holding the message-passing edges (absent without splits). */
+  edgeSplits?: EdgeSplitCounts;
+}
+
+/** Pairs of one link-prediction split (null where that side is absent). */
+export interface SplitPairCounts {
+  pos: number | null;
+  neg: number | null;
+}
+
+/** A graph's link-prediction splits: message-passing edge entries and pairs per split (null where absent). */
+export interface EdgeSplitCounts {
+  messageEdges: number;
+  train: SplitPairCounts | null;
+  val: SplitPairCounts | null;
+  test: SplitPairCounts | null;
 }
 
 /** The graph figures of a checked graph (the README's "Graph figures" table). */

@@ -181,6 +181,41 @@ const memberRides = ['# member_from member_to: group rides, keyed by membership 
 members.forEach((a, k) => { const b = members[(k + 1) % members.length]; memberRides.push(`${a} ${b}`, `${b} ${a}`); });
 write('weekend/member_rides.edges', memberRides.join('\n') + '\n');
 
+// --- rides/: link prediction, which dock pairs will get a direct ride next month ----------------
+// 30 docks; dock 29 opened this month and has no rides yet. Undirected rides (both directions in
+// edge_index, the message-passing graph); pairs per split as 2 x K tensors, one pair per column.
+const ridePairs = [];
+for (let i = 0; i < 28; i++) ridePairs.push([i, i + 1]);
+for (let i = 0; i <= 20; i += 4) ridePairs.push([i, i + 5]);
+const rideKey = ([a, b]) => `${Math.min(a, b)},${Math.max(a, b)}`;
+const rideVal = [[6, 7], [18, 19], [24, 25]];
+// Planted: 18 – 19 is both a validation and a test positive; 3 – 29 touches the new dock 29.
+const rideTest = [[2, 3], [10, 11], [18, 19], [3, 29]];
+const heldOut = new Set([...rideVal, ...rideTest].map(rideKey));
+const rideTrain = ridePairs.filter((p) => !heldOut.has(rideKey(p)));
+// Planted: the test ride 10 – 11 was left in the message-passing edges (a leak).
+const rideMessage = [...rideTrain, [10, 11]];
+const cols = (pairs) => i64([...pairs.map((p) => p[0]), ...pairs.map((p) => p[1])]);
+const undirected = (pairs) => cols([...pairs, ...pairs.map(([a, b]) => [b, a])]);
+write('rides/rides.npz', npz({
+  edge_index: npy('<i8', [2, 2 * rideMessage.length], undirected(rideMessage)),
+  x: npy('<f4', [30, 4], Float32Array.from({ length: 120 }, (_, i) => (i % 7) / 7)),
+  train_pos_edge_index: npy('<i8', [2, rideTrain.length], cols(rideTrain)),
+  val_pos_edge_index: npy('<i8', [2, rideVal.length], cols(rideVal)),
+  // Planted: 8 – 9 is a lane with rides (not a negative); 12 – 12 pairs a dock with itself.
+  val_neg_edge_index: npy('<i8', [2, 4], cols([[0, 14], [5, 20], [8, 9], [12, 12]])),
+  test_pos_edge_index: npy('<i8', [2, rideTest.length], cols(rideTest)),
+  test_neg_edge_index: npy('<i8', [2, 3], cols([[1, 16], [7, 22], [11, 26]])),
+}));
+// rides/monthly/val_data.npz: one split saved as its own object (edge_label_index + edge_label).
+// Planted: four pairs but only three labels.
+const monthly = [[0, 1], [1, 2], [2, 3], [3, 4], [4, 5], [5, 0]];
+write('rides/monthly/val_data.npz', npz({
+  edge_index: npy('<i8', [2, 12], undirected(monthly)),
+  edge_label_index: npy('<i8', [2, 4], cols([[0, 3], [1, 4], [2, 5], [0, 2]])),
+  edge_label: npy('<f4', [3], Float32Array.from([1, 0, 0])),
+}));
+
 // --- the manifest --------------------------------------------------------------------------------
 write('hopscope.json', JSON.stringify({
   $schema: '../schemas/hopscope.schema.json',

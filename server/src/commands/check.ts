@@ -142,7 +142,10 @@ function check(args: CheckArgs, io: CliIo): number {
 }
 
 function jsonFile(f: FileReport) {
-  return { path: f.path, format: f.format, tensors: f.tensors, graph: f.graph, problems: f.problems.map(jsonProblem) };
+  return {
+    path: f.path, format: f.format, tensors: f.tensors, graph: f.graph,
+    ...(f.edgeSplits ? { edgeSplits: f.edgeSplits } : {}), problems: f.problems.map(jsonProblem),
+  };
 }
 
 function jsonProblem(p: Problem) {
@@ -188,6 +191,14 @@ function renderText(files: FileReport[], manifestProblems: Array<{ path: string;
       lines.push(`  graph: ${g.nodes} nodes, ${g.edges} edge entries, ${g.directed ? 'directed' : 'undirected'}, ` +
         `${g.components} component${g.components === 1 ? '' : 's'}, ${g.selfLoops} self-loops, ` +
         `${g.duplicateEdges} duplicates, ${g.isolatedNodes} isolated` + (g.indexBase === 1 ? ', 1-based ids' : ''));
+    }
+    if (f.edgeSplits) {
+      const s = f.edgeSplits;
+      const side = (n: number | null, what: string) => (n === null ? '' : `${n} ${what}`);
+      const split = (name: string, x: { pos: number | null; neg: number | null } | null) =>
+        x ? `${name} ${[side(x.pos, '+'), side(x.neg, '−')].filter((t) => t).join(' ') || '(unread)'}` : '';
+      lines.push(`  link splits: ${s.messageEdges} message edge entries; pairs ` +
+        ([split('train', s.train), split('val', s.val), split('test', s.test)].filter((t) => t).join(', ') || 'none'));
     }
     if (f.problems.length === 0) lines.push(c('green', '  no problems'));
     for (const p of f.problems) lines.push(problemLine(p));

@@ -95,9 +95,11 @@ export function checkSet(files: LoadedFile[], manifests: LoadedManifest[], cli: 
   const byPath = new Map(files.map((f) => [normalise(f.path), f]));
   const reports = new Map<string, FileReport>();
   const guesses = new Map<Tensor, RoleGuess>();
+  const fileOf = new Map<Tensor, string>();
+  for (const f of files) for (const t of f.result?.tensors ?? []) fileOf.set(t, f.path);
   const guess = (t: Tensor) => {
     let g = guesses.get(t);
-    if (!g) { g = guessRole(t); guesses.set(t, g); }
+    if (!g) { g = guessRole(t, fileOf.get(t) ?? ''); guesses.set(t, g); }
     return g;
   };
 
@@ -165,6 +167,7 @@ export function checkSet(files: LoadedFile[], manifests: LoadedManifest[], cli: 
     if (check.structureFile && check.figures) {
       const r = reports.get(normalise(check.structureFile));
       if (r && !r.graph) r.graph = check.figures;
+      if (r && check.edgeSplits && !r.edgeSplits) r.edgeSplits = check.edgeSplits;
     }
   };
 

@@ -7,7 +7,8 @@
  * (rules/context.ts): the edges (edge-source), the node count (node-count), the per-node tensors
  * (features, labels, masks), the index base (index-base), the ids in range (id-range), then on the
  * built graph: sparse ids, self-loops, duplicates, symmetry (edge-pairs), isolated nodes and an
- * empty graph (isolated), and the per-edge tensors (edge-tensors).
+ * empty graph (isolated), the per-edge tensors (edge-tensors), and link-prediction pairs against
+ * the message-passing edges (edge-splits).
  */
 import type { Structure } from '../graph/structure/figures';
 import { analyseStructure } from '../graph/structure/figures';
@@ -25,6 +26,8 @@ import { checkSparseIds } from './rules/sparse-ids';
 import { checkDuplicates, checkSelfLoops, checkSymmetry } from './rules/edge-pairs';
 import { checkEmpty, checkIsolated } from './rules/isolated';
 import { checkEdgeTensors } from './rules/edge-tensors';
+import { checkEdgeSplits } from './rules/edge-splits';
+import type { EdgeSplitCounts } from '../../../../common/report';
 
 export type {
   CheckLimits, FileProblem, GraphOptions, GraphPart, SelfLoopPolicy, SendingRow,
@@ -46,6 +49,8 @@ export interface GraphCheck {
    * touched ids only (the GraphCheck figures count the whole graph).
    */
   structure?: Structure & { src: Int32Array; dst: Int32Array; ids?: Float64Array };
+  /** Link-prediction splits over this graph's message-passing edges (absent without pair tensors). */
+  edgeSplits?: EdgeSplitCounts;
   /** The parts and options the graph was checked with. */
   parts: GraphPart[];
   options: GraphOptions;
@@ -89,6 +94,7 @@ export function checkGraph(parts: GraphPart[], opts: GraphOptions = {}, limits: 
   checkIsolated(g);
   checkEmpty(g);
   checkEdgeTensors(ec);
+  const edgeSplits = checkEdgeSplits(g);
 
   const sp = edges.part;
   const figures: GraphFigures = {
@@ -99,5 +105,6 @@ export function checkGraph(parts: GraphPart[], opts: GraphOptions = {}, limits: 
   return {
     structureFile: sp.file, structureTensor: sp.tensor.name, figures, problems,
     structure: { ...structure, src: kept.src, dst: kept.dst, ...(kept.nodeIds ? { ids: kept.nodeIds } : {}) }, parts, options: opts,
+    ...(edgeSplits ? { edgeSplits } : {}),
   };
 }

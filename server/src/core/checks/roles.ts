@@ -3,6 +3,7 @@
  * first (the conventions graph libraries and data loaders use), then from dtype and shape.
  */
 import type { DType, Role, Tensor } from '../formats/types';
+import { pairRoleOf, type PairRole } from '../splits/edge-splits';
 
 export type Split = 'train' | 'val' | 'test';
 
@@ -12,6 +13,8 @@ export interface RoleGuess {
   split?: Split;
   /** True when a mask is given as a list of node ids rather than a boolean vector. */
   indexList?: boolean;
+  /** For link-prediction pairs and their labels (roles edge-pairs / edge-labels). */
+  pair?: PairRole;
   /** How the role was decided, for hovers and messages. */
   reason: 'declared' | 'name' | 'shape' | 'none';
 }
@@ -60,7 +63,12 @@ export function roleFromName(name: string): Role | undefined {
   return undefined;
 }
 
-export function guessRole(t: Tensor): RoleGuess {
+export function guessRole(t: Tensor, file = ''): RoleGuess {
+  if (!t.declaredRole) {
+    // Link-prediction pairs first: `val_pos_edge_index` and `valid.edge` are not the structure.
+    const pair = pairRoleOf(t.name, file);
+    if (pair) return { role: pair.kind === 'labels' ? 'edge-labels' : 'edge-pairs', pair, reason: 'name' };
+  }
   if (t.declaredRole) return withSplit(t, { role: t.declaredRole, reason: 'declared' });
   if (t.kind === 'sparse') return { role: 'adjacency', reason: 'shape' };
   const byName = roleFromName(t.name);

@@ -25,7 +25,10 @@ export type TensorData =
 
 export type Role =
   | 'edge-index' | 'adjacency' | 'features' | 'labels' | 'mask'
-  | 'edge-weight' | 'edge-features' | 'unknown';
+  | 'edge-weight' | 'edge-features'
+  /** Link-prediction pairs of a split (positive, negative, or labelled) and their 0/1 labels. */
+  | 'edge-pairs' | 'edge-labels'
+  | 'unknown';
 
 /** Maps a flat element index of a tensor back to where its text sits in the file (1-based). */
 export interface TextLocator {
