@@ -7,6 +7,8 @@
 import { describe, expect, it } from 'vitest';
 import * as fs from 'node:fs';
 import * as path from 'node:path';
+import * as os from 'node:os';
+import { parseManifest } from '../../server/src/core/checks/manifest';
 import { checkPaths } from '../../server/src/node/load';
 import { main } from '../../server/src/cli';
 import { checkGraph } from '../../server/src/core/checks/graph-check';
@@ -157,5 +159,59 @@ describe('hopscope check with edge splits', () => {
     const plain = run('check', path.join(__dirname, '../fixtures/graphs/karate.npy'), '--json');
     expect(JSON.parse(plain.out).files[0].edgeSplits).toBeUndefined();
     expect(run('check', path.join(__dirname, '../fixtures/graphs/karate.npy')).out).not.toContain('link splits');
+  });
+});
+
+describe('hopscope.json "edgeSplits" (our manifest form)', () => {
+  const copy = (names: string[]) => {
+    const d = fs.mkdtempSync(path.join(os.tmpdir(), 'hopscope-splits-'));
+    for (const n of names) { fs.mkdirSync(path.dirname(path.join(d, n)), { recursive: true }); fs.copyFileSync(path.join(dir, n), path.join(d, n)); }
+    return d;
+  };
+
+  it('pos/neg refs into leak.npz give the same counts as reading it by names (np.isin counts)', () => {
+    const d = copy(['leak.npz']);
+    // Renamed tensors would not be recognised by name: the manifest names them.
+    fs.writeFileSync(path.join(d, 'hopscope.json'), JSON.stringify({
+      graphs: [{
+        name: 'rides', edgeSplits: {
+          message: 'leak.npz#edge_index',
+          train: { pos: 'leak.npz#train_pos_edge_index' },
+          val: { pos: 'leak.npz#val_pos_edge_index', neg: 'leak.npz#val_neg_edge_index' },
+          test: { pos: 'leak.npz#test_pos_edge_index', neg: 'leak.npz#test_neg_edge_index' },
+        },
+      }],
+    }));
+    const r = checkPaths([d]);
+    const e = expected['leak.npz'] as Expect;
+    const f = r.files.find((x) => x.path.endsWith('leak.npz'))!;
+    expect(r.manifestProblems).toEqual([]);
+    expect(f.edgeSplits).toEqual(e.edgeSplits);
+    expect(sumCode(r.files, 'leaked-positive-pairs')).toBe(total(e.leaked));
+    expect(sumCode(r.files, 'negative-pairs-are-edges')).toBe(total(e.negativeEdges));
+  });
+
+  it('pairs + labels refs (the per-split PyTorch file) give its np.isin counts', () => {
+    const d = copy(['perfile/test_data.pt']);
+    fs.renameSync(path.join(d, 'perfile/test_data.pt'), path.join(d, 'perfile/held_out.pt')); // no split in the file name
+    fs.writeFileSync(path.join(d, 'hopscope.json'), JSON.stringify({
+      graphs: [{
+        edges: 'perfile/held_out.pt#edge_index',
+        edgeSplits: { test: { pairs: 'perfile/held_out.pt#edge_label_index', labels: 'perfile/held_out.pt#edge_label' } },
+      }],
+    }));
+    const r = checkPaths([d]);
+    const e = expected['perfile/test_data.pt'] as Expect;
+    expect(r.manifestProblems).toEqual([]);
+    expect(r.files.find((x) => x.path.endsWith('held_out.pt'))!.edgeSplits).toEqual(e.edgeSplits);
+    expect(sumCode(r.files, 'cold-start-pairs')).toBe(total(e.coldStart));
+  });
+
+  it('refuses unknown keys and labels without pairs', () => {
+    expect(() => parseManifest(JSON.stringify({ graphs: [{ edgeSplits: { message: 'a.npy', val: { positives: 'b.npy' } } }] }))).toThrow(/unknown key "positives"/);
+    expect(() => parseManifest(JSON.stringify({ graphs: [{ edgeSplits: { message: 'a.npy', val: { labels: 'b.npy' } } }] }))).toThrow(/needs "pairs"/);
+    expect(() => parseManifest(JSON.stringify({ graphs: [{ edges: 'a.npy', edgeSplits: { message: 'a.npy' } }] }))).toThrow(/keep one/);
+    expect(parseManifest(JSON.stringify({ graphs: [{ edgeSplits: { message: 'a.npy', test: { pos: 'b.npy#p' } } }] })).graphs[0]!.parts
+      .map((p) => [p.role, p.tensor ?? null])).toEqual([['edge-index', null], ['edge-pairs', 'p']]);
   });
 });

@@ -197,7 +197,10 @@ export function checkSet(files: LoadedFile[], manifests: LoadedManifest[], cli: 
         // With a whole container referenced for one role, pick the tensor that fits that role.
         const pick = tensors.length === 1 ? tensors : tensors.filter((t) => guess(t).role === ref.role).slice(0, 1);
         for (const t of pick.length ? pick : tensors.slice(0, 1)) {
-          const gs: RoleGuess = { ...guess(t), role: ref.role, reason: 'declared', ...(ref.split ? { split: ref.split } : {}) };
+          const gs: RoleGuess = {
+            ...guess(t), role: ref.role, reason: 'declared', ...(ref.split ? { split: ref.split } : {}), ...(ref.pair ? { pair: ref.pair } : {}),
+          };
+          if (!ref.pair) delete gs.pair;
           roleOverride.set(t, gs);
           parts.push({ file: f.path, tensor: t, guess: gs, ...(f.result.hints ? { hints: f.result.hints } : {}) });
         }

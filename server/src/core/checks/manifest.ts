@@ -11,6 +11,8 @@
  *     "features": "x.npy", "labels": "y.npy",
  *     "splits": { "train": "splits.npz#train", "val": "splits.npz#val", "test": "splits.npz#test" },
  *     "edgeWeights": "...", "edgeFeatures": "...",
+ *     "edgeSplits": { "message": "edges.npy", "val": { "pos": "val.npz#pos", "neg": "val.npz#neg" },
+ *                     "test": { "pairs": "test.pt#edge_label_index", "labels": "test.pt#edge_label" } },
  *     "nodes": 120, "indexBase": 0, "selfLoops": "forbidden", "sendingRow": 0
  *   } ]
  * }
@@ -22,6 +24,7 @@ import type { ProblemCode, Role, Severity } from '../formats/types';
 import { ALL_CODES } from '../../../../common/problem-codes';
 import type { GraphOptions, SelfLoopPolicy, SendingRow } from './graph-check';
 import type { Split } from './roles';
+import { DECLARED_PAIRS, type PairRole } from '../splits/edge-splits';
 
 export type SeverityOverride = Severity | 'off';
 export type SeverityOverrides = Partial<Record<ProblemCode, SeverityOverride>>;
@@ -32,6 +35,8 @@ export interface TensorRef {
   tensor?: string;
   role: Role;
   split?: Split;
+  /** For link-prediction pairs and labels declared under "edgeSplits". */
+  pair?: PairRole;
 }
 
 export interface ManifestGraph {
@@ -65,7 +70,7 @@ export function sendingRowOfLegacyFlow(value: unknown): SendingRow | undefined {
   return typeof value === 'string' && Object.hasOwn(LEGACY_FLOW.rows, value) ? LEGACY_FLOW.rows[value as keyof typeof LEGACY_FLOW.rows] : undefined;
 }
 
-const GRAPH_KEYS = new Set<string>(['name', 'edges', 'adjacency', 'features', 'labels', 'splits',
+const GRAPH_KEYS = new Set<string>(['name', 'edges', 'adjacency', 'features', 'labels', 'splits', 'edgeSplits',
   'edgeWeights', 'edgeFeatures', ...OPTION_KEYS, LEGACY_FLOW.key]);
 const TOP_KEYS = new Set<string>(['$schema', 'graphs', 'severity', ...OPTION_KEYS, LEGACY_FLOW.key]);
 const PART_ROLES: ReadonlyArray<[string, Role]> = [
@@ -120,10 +125,36 @@ function parseGraph(g: unknown, i: number, renamed: string[]): ManifestGraph {
       parts.push({ ...parseRef(v, `${at}.splits.${k}`), role: 'mask', split: k as Split });
     }
   }
+  if (g.edgeSplits !== undefined) parts.push(...parseEdgeSplits(g.edgeSplits, `${at}.edgeSplits`, g.edges === undefined && g.adjacency === undefined));
   if (!parts.some((p) => p.role === 'edge-index' || p.role === 'adjacency')) {
-    throw new ManifestError(`${at} needs "edges" or "adjacency".`);
+    throw new ManifestError(`${at} needs "edges", "adjacency" or "edgeSplits.message".`);
   }
   return { name, parts, options: parseOptions(g, `${at}.`, renamed) };
+}
+
+function parseEdgeSplits(v: unknown, at: string, messageIsEdges: boolean): TensorRef[] {
+  if (!isObject(v)) throw new ManifestError(`${at} must be an object with "message" and train/val/test.`);
+  const parts: TensorRef[] = [];
+  for (const [k, x] of Object.entries(v)) {
+    if (k === 'message') {
+      if (!messageIsEdges) throw new ManifestError(`${at}.message: the graph already names its edges ("edges" or "adjacency"); keep one of them.`);
+      parts.push({ ...parseRef(x, `${at}.message`), role: 'edge-index' });
+      continue;
+    }
+    if (!(SPLITS as string[]).includes(k)) throw new ManifestError(`${at}: unknown key "${k}" (message, train, val, test).`);
+    if (!isObject(x)) throw new ManifestError(`${at}.${k} must be an object with "pos"/"neg" or "pairs"/"labels".`);
+    for (const [side, ref] of Object.entries(x)) {
+      if (side !== 'pos' && side !== 'neg' && side !== 'pairs' && side !== 'labels') {
+        throw new ManifestError(`${at}.${k}: unknown key "${side}" (pos, neg, pairs, labels).`);
+      }
+      parts.push({
+        ...parseRef(ref, `${at}.${k}.${side}`), role: side === 'labels' ? 'edge-labels' : 'edge-pairs',
+        pair: { split: k as Split, kind: side, owner: DECLARED_PAIRS },
+      });
+    }
+    if (x.labels !== undefined && x.pairs === undefined) throw new ManifestError(`${at}.${k}.labels needs "pairs" beside it.`);
+  }
+  return parts;
 }
 
 function parseRef(v: unknown, at: string): { file: string; tensor?: string } {

@@ -23,6 +23,9 @@ export interface PairRole {
   owner: string;
 }
 
+/** Owner of pairs declared in hopscope.json ("edgeSplits"): a split's pairs and labels match by it, whatever their files. */
+export const DECLARED_PAIRS = '#declared';
+
 const SPLIT_WORD = /^(train|val|valid|test)$/;
 
 function splitWord(w: string | undefined): Split | undefined {

@@ -11,7 +11,7 @@ import type { GraphPart } from '../graph-check-types';
 import type { GraphContext } from './context';
 import { describe, EXAMPLES_IN_MESSAGE } from './locations';
 import {
-  flatOf, MAX_KEYED_NODES, memberPositions, mergeSorted, pairKeys, readPairs, sortedKeys,
+  DECLARED_PAIRS, flatOf, MAX_KEYED_NODES, memberPositions, mergeSorted, pairKeys, readPairs, sortedKeys,
   type EdgeSplitCounts, type PairColumns,
 } from '../../splits/edge-splits';
 
@@ -56,7 +56,8 @@ export function checkEdgeSplits(g: GraphContext): EdgeSplitCounts | undefined {
     }
     if (role.kind === 'pos' || role.kind === 'neg') { raws.push({ split: role.split, sign: role.kind, part: p, cols, take: null }); continue; }
     // Labelled pairs: the label vector of the same object says which are positive.
-    const lp = labelParts.find((l) => l.guess.pair!.owner === role.owner && l.guess.pair!.split === role.split && l.file === p.file);
+    const lp = labelParts.find((l) => l.guess.pair!.owner === role.owner && l.guess.pair!.split === role.split &&
+      (l.file === p.file || role.owner === DECLARED_PAIRS));
     if (!lp) { raws.push({ split: role.split, sign: 'pos', part: p, cols, take: null }); continue; }
     const lt = lp.tensor;
     const k = cols.u.length;
