@@ -127,7 +127,7 @@ function parseGraph(g: unknown, i: number, renamed: string[]): ManifestGraph {
   }
   if (g.edgeSplits !== undefined) parts.push(...parseEdgeSplits(g.edgeSplits, `${at}.edgeSplits`, g.edges === undefined && g.adjacency === undefined));
   if (!parts.some((p) => p.role === 'edge-index' || p.role === 'adjacency')) {
-    throw new ManifestError(`${at} needs "edges", "adjacency" or "edgeSplits.message".`);
+    throw new ManifestError(`${at} needs "edges" or "adjacency" (or "edgeSplits" with its "message" edges).`);
   }
   return { name, parts, options: parseOptions(g, `${at}.`, renamed) };
 }
