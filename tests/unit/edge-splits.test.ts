@@ -34,7 +34,8 @@ const sumCode = (f: FileReport[], code: ProblemCode) =>
   f.flatMap((x) => x.problems).filter((p) => p.code === code).reduce((a, p) => a + p.count, 0);
 
 describe('edge splits of the karate club (NumPy / PyTorch fixtures)', () => {
-  const files = ['leak.npz', 'clean.npz', 'leak_dict.pt', 'nested.pt', 'perfile/train_data.pt', 'perfile/val_data.pt', 'perfile/test_data.pt'];
+  const files = ['leak.npz', 'clean.npz', 'leak_dict.pt', 'nested.pt', 'perfile/train_data.pt', 'perfile/val_data.pt', 'perfile/test_data.pt',
+    'objects_dict.pt'];
   for (const name of files) {
     it(`${name}: counts equal NumPy's np.isin counts`, () => {
       const e = expected[name] as Expect;
@@ -54,6 +55,14 @@ describe('edge splits of the karate club (NumPy / PyTorch fixtures)', () => {
       expect(f.graph!.nodes).toBe(expected.graph.nodes);
     });
   }
+
+  it('the per-split files checked together as a folder: each with its own message edges, as when checked alone', () => {
+    const r = checkPaths([path.join(dir, 'perfile')]);
+    for (const sp of ['train', 'val', 'test']) {
+      const f = r.files.find((x) => x.path.endsWith(`${sp}_data.pt`))!;
+      expect(f.edgeSplits).toEqual(expected[`perfile/${sp}_data.pt`].edgeSplits);
+    }
+  });
 
   it('the leaky split reports every val/test positive, per split, with positions', () => {
     const r = checkPaths([path.join(dir, 'leak.npz')]);
