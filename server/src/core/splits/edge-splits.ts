@@ -137,12 +137,23 @@ export function memberPositions(keys: Float64Array, set: Float64Array, keep: num
   return { count, first };
 }
 
-/** The sorted union of sorted key sets. */
+/** The sorted union (duplicates kept) of sorted key sets: pairwise linear merges, no re-sort. */
 export function mergeSorted(sets: Float64Array[]): Float64Array {
-  let total = 0;
-  for (const s of sets) total += s.length;
-  const out = new Float64Array(total);
-  let o = 0;
-  for (const s of sets) { out.set(s, o); o += s.length; }
-  return out.sort();
+  let cur = sets.filter((x) => x.length > 0);
+  if (cur.length === 0) return new Float64Array(0);
+  while (cur.length > 1) {
+    const next: Float64Array[] = [];
+    for (let i = 0; i < cur.length; i += 2) next.push(i + 1 < cur.length ? mergeTwo(cur[i]!, cur[i + 1]!) : cur[i]!);
+    cur = next;
+  }
+  return cur[0]!;
+}
+
+function mergeTwo(a: Float64Array, b: Float64Array): Float64Array {
+  const out = new Float64Array(a.length + b.length);
+  let i = 0, j = 0, o = 0;
+  while (i < a.length && j < b.length) out[o++] = a[i]! <= b[j]! ? a[i++]! : b[j++]!;
+  while (i < a.length) out[o++] = a[i++]!;
+  while (j < b.length) out[o++] = b[j++]!;
+  return out;
 }

@@ -165,7 +165,9 @@ export function checkEdgeSplits(g: GraphContext): EdgeSplitCounts | undefined {
   }
 
   // Negatives that are edges: among the message edges or any split's positives.
-  const known = mergeSorted([message, ...sides.filter((s) => s.sign === 'pos').map((s) => s.keys)]);
+  const sortedPos = new Map<PairSide, Float64Array>();
+  for (const s of sides) if (s.sign === 'pos') sortedPos.set(s, sortedKeys(s.keys));
+  const known = mergeSorted([message, ...sortedPos.values()]);
   for (const s of sides) {
     if (s.sign !== 'neg') continue;
     const c = memberPositions(s.keys, known, MAX_LOCATIONS);
@@ -182,7 +184,7 @@ export function checkEdgeSplits(g: GraphContext): EdgeSplitCounts | undefined {
     for (let b = a + 1; b < SPLITS.length; b++) {
       const earlier = posBySplit.get(SPLITS[a]!), later = posBySplit.get(SPLITS[b]!);
       if (!earlier || !later) continue;
-      const set = mergeSorted(earlier.map((s) => s.keys));
+      const set = mergeSorted(earlier.map((s) => sortedPos.get(s)!));
       for (const s of later) {
         const c = memberPositions(s.keys, set, MAX_LOCATIONS);
         say(s, 'pairs-in-two-splits', c, (j) => `${pairText(s, j)} is also a ${SPLIT_NAME[SPLITS[a]!]} positive`, (ex) =>
