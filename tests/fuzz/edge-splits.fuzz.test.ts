@@ -10,6 +10,7 @@ import { checkGraph } from '../../server/src/core/checks/graph-check';
 import { guessRole } from '../../server/src/core/checks/roles';
 import type { DenseTensor } from '../../server/src/core/formats/types';
 import { runs } from './fuzz-helpers';
+import { sortedKeys } from '../../server/src/core/splits/edge-splits';
 
 const NAMES = ['train_pos', 'train_neg', 'val_pos_edge_index', 'val_neg_edge_index', 'test_pos', 'test_neg',
   'valid.edge', 'valid.edge_neg', 'test.edge', 'test.edge_neg', 'val.edge_label_index', 'val.edge_label',
@@ -69,5 +70,15 @@ describe('edge splits: random pair tensors give problems, never a crash', () => 
       const got = c.problems.filter((p) => p.problem.code === 'leaked-positive-pairs').reduce((a, p) => a + p.problem.count, 0);
       expect(got).toBe(msg.length ? want : 0);
     }), { numRuns: runs(200) });
+  });
+});
+
+describe('sorted pair keys', () => {
+  it('the radix sort gives the typed-array sort (keys up to 2^53, duplicates, above and below its cut-over size)', () => {
+    const key = fc.oneof(fc.integer({ min: 0, max: 50 }), fc.integer({ min: 0, max: 2 ** 31 }), fc.maxSafeNat());
+    fc.assert(fc.property(fc.array(key, { minLength: 0, maxLength: 6000 }), (ks) => {
+      const a = Float64Array.from(ks);
+      expect(Array.from(sortedKeys(a))).toEqual(Array.from(a.slice().sort()));
+    }), { numRuns: runs(60) });
   });
 });

@@ -108,10 +108,48 @@ export function pairKeys(u: ArrayLike<number>, v: ArrayLike<number>, n: number, 
   return out;
 }
 
-/** A sorted copy (typed-array sort: numeric). */
+/**
+ * A sorted copy of pair keys (whole numbers in 0 .. 2^53): an LSD radix sort over the low and high
+ * 32-bit halves in 11-bit digits, passes whose digit is the same for every key skipped; small or
+ * unusual inputs fall back to the typed-array sort.
+ */
 export function sortedKeys(keys: Float64Array): Float64Array {
-  return keys.slice().sort();
+  const m = keys.length;
+  if (m < 4096) return keys.slice().sort();
+  let lo = new Uint32Array(m), hi = new Uint32Array(m);
+  for (let i = 0; i < m; i++) {
+    const k = keys[i]!;
+    if (!(k >= 0 && k <= MAX_SAFE_KEY) || k !== Math.floor(k)) return keys.slice().sort();
+    const h = Math.floor(k / TWO32);
+    hi[i] = h;
+    lo[i] = k - h * TWO32;
+  }
+  let lo2 = new Uint32Array(m), hi2 = new Uint32Array(m);
+  const count = new Int32Array(2048);
+  // Digits: low half bits 0-10, 11-21, 22-31; high half bits 0-10, 11-21.
+  const passes: Array<[boolean, number]> = [[false, 0], [false, 11], [false, 22], [true, 0], [true, 11]];
+  for (const [useHi, shift] of passes) {
+    const src = useHi ? hi : lo;
+    count.fill(0);
+    for (let i = 0; i < m; i++) count[(src[i]! >>> shift) & 2047]++;
+    if (count[(src[0]! >>> shift) & 2047] === m) continue; // one digit for all: nothing moves
+    let sum = 0;
+    for (let d = 0; d < 2048; d++) { const c = count[d]!; count[d] = sum; sum += c; }
+    for (let i = 0; i < m; i++) {
+      const at = count[(src[i]! >>> shift) & 2047]++;
+      lo2[at] = lo[i]!;
+      hi2[at] = hi[i]!;
+    }
+    [lo, lo2] = [lo2, lo];
+    [hi, hi2] = [hi2, hi];
+  }
+  const out = new Float64Array(m);
+  for (let i = 0; i < m; i++) out[i] = hi[i]! * TWO32 + lo[i]!;
+  return out;
 }
+
+const TWO32 = 4294967296;
+const MAX_SAFE_KEY = Number.MAX_SAFE_INTEGER;
 
 /** Whether `key` is in sorted `set` (binary search). */
 export function hasKey(set: Float64Array, key: number): boolean {
@@ -123,16 +161,52 @@ export function hasKey(set: Float64Array, key: number): boolean {
   return lo < set.length && set[lo] === key;
 }
 
-/** Positions i of `keys` whose key is in sorted `set`: the count and the first `keep` positions. */
+/**
+ * Positions i of `keys` whose key is in sorted `set`: the count and the first `keep` positions.
+ * Large inputs are not searched key by key (a binary search per pair misses the cache on every
+ * step of a 10M-key set): the keys are sorted, walked against the set with galloping steps, and the
+ * distinct member keys found are then looked up, in the keys' own order, for the first positions.
+ */
 export function memberPositions(keys: Float64Array, set: Float64Array, keep: number): { count: number; first: number[] } {
   let count = 0;
   const first: number[] = [];
-  if (set.length === 0) return { count, first };
-  for (let i = 0; i < keys.length; i++) {
-    if (hasKey(set, keys[i]!)) {
-      count++;
-      if (first.length < keep) first.push(i);
+  if (set.length === 0 || keys.length === 0) return { count, first };
+  if (keys.length < 256) {
+    for (let i = 0; i < keys.length; i++) {
+      if (hasKey(set, keys[i]!)) {
+        count++;
+        if (first.length < keep) first.push(i);
+      }
     }
+    return { count, first };
+  }
+  const sorted = sortedKeys(keys);
+  const members: number[] = [];
+  let j = 0;
+  const m = set.length;
+  for (let i = 0; i < sorted.length && j < m; i++) {
+    const k = sorted[i]!;
+    if (set[j]! < k) {
+      // Gallop: double the step while the set is still below k, then binary search that range.
+      let step = 1, hi = j + 1;
+      while (hi < m && set[hi]! < k) { j = hi; step *= 2; hi = j + step; }
+      let lo = j + 1;
+      if (hi > m) hi = m;
+      while (lo < hi) {
+        const mid = (lo + hi) >>> 1;
+        if (set[mid]! < k) lo = mid + 1; else hi = mid;
+      }
+      j = lo;
+      if (j >= m) break;
+    }
+    if (set[j] === k) {
+      count++;
+      if (members.length === 0 || members[members.length - 1] !== k) members.push(k);
+    }
+  }
+  if (count > 0 && keep > 0) {
+    const found = Float64Array.from(members);
+    for (let i = 0; i < keys.length && first.length < keep; i++) if (hasKey(found, keys[i]!)) first.push(i);
   }
   return { count, first };
 }
