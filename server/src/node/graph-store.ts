@@ -202,7 +202,7 @@ export class GraphStore implements MethodHandlers {
     const t = this.tensor(p.path, p.tensor, cancel);
     if (!t) return null;
     const maxCols = p.maxCols ?? 256;
-    const role = guessRole(t).role;
+    const role = guessRole(t, p.path).role;
     const out: TensorStats = { tensor: t.name, role, columns: [], colsShown: 0, totalCols: 0 };
     if (t.kind === 'dense' && !t.strings) {
       const { rows, cols } = matrixShape(t);
