@@ -3,7 +3,7 @@
  * (extension/src/panel.ts). Both import this file, so each message is checked on both sides.
  * The host relays requests to the language server; the webview draws what comes back.
  */
-import type { BottlenecksPayload, FieldViewPayload, SmoothingPayload, WlClassesPayload } from './protocol';
+import type { BottlenecksPayload, FieldViewPayload, PairFieldPayload, SmoothingPayload, WlClassesPayload } from './protocol';
 import type { SendingRow } from './report';
 
 export type { SendingRow } from './report';
@@ -17,6 +17,8 @@ export interface FieldQuery {
   sendingRow?: SendingRow;
   symmetrise: boolean;
   selfLoops: boolean;
+  /** Pair mode: the second end of the pair (node is the first); the host asks hopscope/pairField. */
+  pair?: number;
 }
 
 /** Webview → extension host. `seq` ties an answer to its question; older answers are dropped. */
@@ -33,6 +35,8 @@ export type PanelRequest =
 export type PanelMessage =
   | { type: 'init'; file: { uri: string; name: string }; node?: number; maxNodes: number }
   | { type: 'field'; seq: number; view: FieldViewPayload }
+  /** The answer to a pair-mode field question. */
+  | { type: 'pair'; seq: number; data: PairFieldPayload }
   | { type: 'wl'; seq: number; data: WlClassesPayload }
   | { type: 'bottlenecks'; seq: number; data: BottlenecksPayload }
   /** `note`: why there is no curve (e.g. the feature matrix does not fit the graph). */
@@ -47,6 +51,8 @@ export interface PanelState {
   uri?: string;
   name?: string;
   node?: number;
+  /** Second end of the pair in pair mode (link prediction), else absent. */
+  pair?: number;
   layers?: number;
   sendingRow?: SendingRow;
   symmetrise?: boolean;

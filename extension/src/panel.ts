@@ -13,7 +13,7 @@
 import * as vscode from 'vscode';
 import type { LanguageClient } from 'vscode-languageclient/node';
 import {
-  BottlenecksRequest, FieldViewRequest, FileSummaryRequest, SmoothingRequest, WlClassesRequest,
+  BottlenecksRequest, FieldViewRequest, FileSummaryRequest, PairFieldRequest, SmoothingRequest, WlClassesRequest,
 } from '../../common/protocol';
 import { PANEL_VIEW_TYPE, type PanelMessage, type PanelRequest, type PanelState } from '../../common/panel-messages';
 import { makeNonce, panelHtml } from './panel-html';
@@ -211,7 +211,17 @@ class FieldPanelHost {
     try {
       switch (m.type) {
         case 'field': {
-          const view = await client.sendRequest(FieldViewRequest.type, { uri, ...m.query, maxNodes: maxDrawn(this.uri) }, token);
+          const { pair, ...query } = m.query;
+          if (pair !== undefined) {
+            // Pair mode: what the model sees of (node, pair), drawn as the union of both fields.
+            const { node, ...options } = query;
+            const data = await client.sendRequest(PairFieldRequest.type, { uri, ...options, u: node, v: pair, maxNodes: maxDrawn(this.uri) }, token);
+            if (token.isCancellationRequested) return;
+            this.panel.title = `Pair ${data.u}, ${data.v} · ${this.uri.path.split('/').pop() ?? ''}`;
+            this.post({ type: 'pair', seq: m.seq, data });
+            break;
+          }
+          const view = await client.sendRequest(FieldViewRequest.type, { uri, ...query, maxNodes: maxDrawn(this.uri) }, token);
           if (token.isCancellationRequested) return;
           this.panel.title = panelTitle(this.uri, view.node);
           this.post({ type: 'field', seq: m.seq, view });

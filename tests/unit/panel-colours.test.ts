@@ -21,7 +21,7 @@ import * as path from 'node:path';
 import { describe, expect, it } from 'vitest';
 import {
   contrastRatio, curvatureColour, deltaE, GROUP_COLOURS, groupColour, HOP_HUE, hopColour, lightness,
-  maxChroma, oklab, oklchHex,
+  maxChroma, oklab, oklchHex, PAIR_EDGE_HUE, pairEdgeColour,
 } from '../../webview/src/panel-colours';
 
 const THEMES: Array<{ kind: string; background: string; dark: boolean }> = [
@@ -131,6 +131,15 @@ describe('hop palette', () => {
       expect(Math.abs(neg - flat)).toBeGreaterThan(8);
       expect(curvatureColour(null, dark, neutral)).toBe(neutral);
     }
+  });
+});
+
+describe('pair-edge stroke (pair mode)', () => {
+  it.each(THEMES)('$kind: 3:1 against the background (WCAG 2.1 SC 1.4.11), its own hue, far from every hop colour', ({ background, dark }) => {
+    const c = pairEdgeColour(dark);
+    expect(contrastRatio(c, background)).toBeGreaterThanOrEqual(3);
+    expect(Math.abs(hue(c) - PAIR_EDGE_HUE)).toBeLessThan(2);
+    for (const maxHop of [1, 4, 8]) for (let k = 0; k <= maxHop; k++) expect(deltaE(c, hopColour(k, maxHop, dark))).toBeGreaterThan(0.12);
   });
 });
 

@@ -20,7 +20,7 @@ import { panelHtml } from '../../extension/src/panel-html';
 import { AnalysisService } from '../../server/src/node/analysis-service';
 import type { PanelMessage, PanelRequest, PanelState } from '../../common/panel-messages';
 import { expected as structureExpected } from '../unit/structure-fixtures';
-import { groupColour, hopColour, oklab, oklchHex } from '../../webview/src/panel-colours';
+import { groupColour, hopColour, oklab, oklchHex, pairEdgeColour } from '../../webview/src/panel-colours';
 
 const root = path.join(__dirname, '../..');
 const ORIGIN = 'https://hopscope.test';
@@ -107,7 +107,13 @@ async function openPanel(o: HostOptions): Promise<Opened> {
     switch (m.type) {
       case 'ready': return { type: 'init', file: { uri: `file://${o.file}`, name: o.name ?? path.basename(o.file) }, ...(o.node !== undefined ? { node: o.node } : {}), maxNodes: o.maxNodes ?? 2000 };
       case 'field': {
-        const r = svc.field(o.file, { ...m.query, maxNodes: o.maxNodes ?? 2000 });
+        const { pair, ...query } = m.query;
+        if (pair !== undefined) {
+          const { node, ...options } = query;
+          const r = svc.pairField(o.file, { ...options, u: node, v: pair, maxNodes: o.maxNodes ?? 2000 });
+          return 'error' in r ? err(r, m.seq) : { type: 'pair', seq: m.seq, data: r };
+        }
+        const r = svc.field(o.file, { ...query, maxNodes: o.maxNodes ?? 2000 });
         if ('error' in r) return err(r, m.seq);
         if (o.labels) r.labels = r.ids.map((id) => o.labels![id] ?? null);
         return { type: 'field', seq: m.seq, view: r };
@@ -527,6 +533,50 @@ describe('receptive-field panel in Chromium', () => {
       const ours = oklchHex(L, C, h);
       [1, 3, 5].forEach((j, ch) => expect(Math.abs(parseInt(ours.slice(j, j + 2), 16) - rgb[ch]!)).toBeLessThanOrEqual(1));
     }
+    await page.close();
+  });
+
+  it('pair mode (link prediction): the union of both fields, both ends marked, the pair edge dashed and labelled', async () => {
+    // Expected union sizes from NetworkX (tests/fixtures/make_pair_fixtures.py: single_source_shortest_path_length
+    // with cutoff on the karate club; 0-1 is an edge, 0-33 is not).
+    const pairs = JSON.parse(fs.readFileSync(path.join(root, 'tests/fixtures/pair/expected.json'), 'utf8')).karate.pairs;
+    const sum = (a: number[]) => a.reduce((x, y) => x + y, 0);
+    const { page, posted, state, problems } = await openPanel({ file: KARATE, node: 0, state: { uri: `file://${KARATE}`, layers: 1, pair: 1 } }); // a restored panel in pair mode
+    const union01 = sum(pairs[0].perHop['1'].row0.selfLoops.union);
+    await drawn(page, 'svg', union01);
+    expect(await page.locator('#title').textContent()).toBe('What the model sees of the pair 0, 1');
+    expect(await page.locator('#summary').textContent()).toContain("holds the pair's own edge (0 → 1 and 1 → 0)");
+    expect(await page.locator('#summary').textContent()).toContain(`they are ${pairs[0].distanceWithoutPairEdge} hops apart`);
+    expect(await page.locator('#stage svg circle.node.centre').count()).toBe(2);
+    const note = page.locator('#stage svg text.edge-note');
+    expect(await note.textContent()).toBe('pair edge in the message graph');
+    const colour = pairEdgeColour(false);
+    const dashed = page.locator(`#stage svg line.edge[stroke="${colour}"]`);
+    expect(await dashed.count()).toBe(1);
+    expect(await dashed.getAttribute('stroke-dasharray')).toBe('8 4');
+    expect(await page.locator('#legend .pair-edge').textContent()).toContain('pair edge in the message graph');
+    expect(await page.locator('#pair-input').evaluate((e) => (e as HTMLElement & { value: string }).value)).toBe('1');
+
+    // The "and node" box: another pair, without an edge between its ends.
+    const enter = (id: string, value: string) => page.evaluate(([sel, v]) => {
+      const box = document.querySelector(sel) as HTMLElement & { value: string };
+      box.value = v;
+      box.dispatchEvent(new KeyboardEvent('keydown', { key: 'Enter', bubbles: true, composed: true }));
+    }, [id, value] as const);
+    await enter('#pair-input', '33');
+    await drawn(page, 'svg', sum(pairs[1].perHop['1'].row0.selfLoops.union));
+    expect(await page.locator('#summary').textContent()).toContain('No edge joins 0 and 33');
+    expect(await page.locator('#stage svg text.edge-note').count()).toBe(0);
+    expect((await state())?.pair).toBe(33);
+    const last = (await posted()).filter((m) => m.type === 'field').at(-1) as { query: { node: number; pair?: number } };
+    expect(last.query).toMatchObject({ node: 0, pair: 33 });
+
+    // Emptied: back to one node's field (17 nodes within one hop of node 0, docs/references.md §2.1).
+    await enter('#pair-input', '');
+    await drawn(page, 'svg', 17);
+    expect(await page.locator('#title').textContent()).toBe('Receptive field of node 0');
+    expect((await state())?.pair).toBeUndefined();
+    expect(problems).toEqual([]);
     await page.close();
   });
 });

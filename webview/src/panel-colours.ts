@@ -167,6 +167,21 @@ export function hopColour(k: number, maxHop: number, dark: boolean): string {
   return c;
 }
 
+// ---- the pair's own edge (pair mode) ---------------------------------------------------------------
+
+/** OKLCH hue of the pair-edge stroke: a magenta-red far from the hop ramp's blue-green. */
+export const PAIR_EDGE_HUE = 350;
+
+/**
+ * Stroke of the pair's own edge when it is in the message-passing graph (a leak): one strong
+ * magenta-red, dark on light backgrounds and light on dark ones, so it cannot pass for an edge of
+ * the hop ramp (tests/unit/panel-colours.test.ts checks its contrast and its distance to the ramp).
+ */
+export function pairEdgeColour(dark: boolean): string {
+  const L = dark ? 0.72 : 0.5;
+  return oklchHex(L, Math.min(0.2, 0.9 * maxChroma(L, PAIR_EDGE_HUE)), PAIR_EDGE_HUE);
+}
+
 /** CIE lightness (0..100) of a colour: the tests check the hop ramp is monotonic in it. */
 export function lightness(c: string): number {
   return hcl(c).l;

@@ -1,5 +1,5 @@
 /**
- * The panel's controls: the centre node box, the layer slider, the message direction, the
+ * The panel's controls: the centre node box and the "and node" box of pair mode, the layer slider, the message direction, the
  * self-loop and symmetrise toggles (one toolbar), and the colouring, find box, Fit and the two
  * export buttons (a second toolbar). They keep the saved state and call back into the panel.
  */
@@ -22,6 +22,8 @@ export interface ControlActions {
   requestField(): void;
   /** Centre on the node id typed or clicked (NaN when the text is not an id). */
   centreOn(node: number): void;
+  /** Pair mode with the node in the centre box (`other` set), or back to one node (undefined); NaN when the text is not an id. */
+  pairWith(node: number, other: number | undefined): void;
   /** Select a node id in the drawing. */
   find(node: number): void;
   /** The colouring changed (saved already). */
@@ -38,6 +40,8 @@ export interface Controls {
   sync(): void;
   /** Puts a node id in the centre node box. */
   showNode(node: number): void;
+  /** Puts the pair's second end in the "and node" box (empty: one node). */
+  showPair(other: number | undefined): void;
 }
 
 type Checkable = HTMLElement & { checked: boolean };
@@ -57,6 +61,7 @@ const onEnter = (target: HTMLElement, fn: () => void) => target.addEventListener
 
 export function createControls(model: PanelModel, act: ControlActions): Controls {
   const nodeInput = custom('vscode-textfield', { id: 'node-input', type: 'number', min: '0', 'aria-label': 'Centre node id', size: '7' }) as HTMLElement & { value: string };
+  const pairInput = custom('vscode-textfield', { id: 'pair-input', type: 'number', min: '0', placeholder: 'pair end', 'aria-label': 'Second node of a pair (link prediction); leave empty for one node', size: '7' }) as HTMLElement & { value: string };
   const goButton = custom('vscode-button', { id: 'go', secondary: '' }, 'Show');
   const layersInput = el('input', { id: 'layers', type: 'range', min: '0', max: String(MAX_LAYERS), step: '1', value: '2', 'aria-describedby': 'layers-out' });
   const layersOut = el('output', { id: 'layers-out', for: 'layers' }, '2');
@@ -76,7 +81,8 @@ export function createControls(model: PanelModel, act: ControlActions): Controls
 
   const toolbars: [HTMLElement, HTMLElement] = [
     el('div', { class: 'controls', role: 'toolbar', 'aria-label': 'Field options' },
-      el('span', { class: 'group' }, el('label', { for: 'node-input' }, 'Node'), nodeInput, goButton),
+      el('span', { class: 'group' }, el('label', { for: 'node-input' }, 'Node'), nodeInput,
+        el('label', { for: 'pair-input', title: 'What the model sees of a node pair: both fields and the pair\'s own edge' }, 'and node'), pairInput, goButton),
       el('span', { class: 'group' }, el('label', { for: 'layers' }, 'Layers'), layersInput, layersOut),
       el('span', { class: 'group', title: 'Which end of an edge sends the message' }, sendingRowGroup),
       el('span', { class: 'group' }, selfLoopsBox, symmetriseBox),
@@ -99,8 +105,15 @@ export function createControls(model: PanelModel, act: ControlActions): Controls
     else layerTimer = setTimeout(() => act.requestField(), 90);
   }
 
-  onEnter(nodeInput, () => act.centreOn(readNode(nodeInput.value)));
-  goButton.addEventListener('click', () => act.centreOn(readNode(nodeInput.value)));
+  // An empty "and node" box means one node; an id there means pair mode.
+  const show = () => {
+    const other = pairInput.value.trim() === '' ? undefined : readNode(pairInput.value);
+    if (other === undefined && model.state.pair === undefined) act.centreOn(readNode(nodeInput.value));
+    else act.pairWith(readNode(nodeInput.value), other);
+  };
+  onEnter(nodeInput, show);
+  onEnter(pairInput, show);
+  goButton.addEventListener('click', show);
   layersInput.addEventListener('input', () => setLayers(Number(layersInput.value)));
   layersInput.addEventListener('change', () => setLayers(Number(layersInput.value), true));
   sendingRowGroup.addEventListener('change', () => {
@@ -125,6 +138,7 @@ export function createControls(model: PanelModel, act: ControlActions): Controls
     sync(): void {
       const state = model.state;
       nodeInput.value = String(state.node ?? 0);
+      pairInput.value = state.pair === undefined ? '' : String(state.pair);
       layersInput.value = String(state.layers ?? 2);
       layersOut.textContent = String(state.layers ?? 2);
       layersInput.setAttribute('aria-valuetext', plural(state.layers ?? 2, 'layer'));
@@ -137,6 +151,9 @@ export function createControls(model: PanelModel, act: ControlActions): Controls
     },
     showNode(node: number): void {
       nodeInput.value = String(node);
+    },
+    showPair(other: number | undefined): void {
+      pairInput.value = other === undefined ? '' : String(other);
     },
   };
 }

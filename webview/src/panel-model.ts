@@ -3,7 +3,7 @@
  * made by panel.ts and shared by reference with the stage, the controls and the side charts; only
  * panel.ts (the message handler) replaces the data, the parts read it when they draw.
  */
-import type { BottlenecksPayload, FieldViewPayload, SmoothingPayload, WlClassesPayload } from '../../common/protocol';
+import type { BottlenecksPayload, FieldViewPayload, PairFieldPayload, SmoothingPayload, WlClassesPayload } from '../../common/protocol';
 import type { PanelState, ViewMode } from '../../common/panel-messages';
 import type { Theme } from './panel-colours';
 
@@ -14,7 +14,10 @@ export interface PanelModel {
   file: { uri: string; name: string } | undefined;
   /** Number of the latest field request; answers to older ones are dropped. */
   seq: number;
+  /** What the stage draws: the field, or in pair mode the pair's union (panel-pair.ts pairAsView). */
   view: FieldViewPayload | undefined;
+  /** Pair mode: the server's answer the view was made from; undefined for a single node's field. */
+  pair: PairFieldPayload | undefined;
   wl: WlClassesPayload | undefined;
   bottlenecks: BottlenecksPayload | undefined;
   /** null: no smoothing curve for this file (smoothingNote may say why). */

@@ -30,6 +30,10 @@ export interface Scene {
   labelAll: boolean;
   /** Index of the selected node, or -1. */
   selected: number;
+  /** Leading nodes drawn as centres (labelled, heavier outline): 1, or 2 in pair mode (default 1). */
+  anchors?: number;
+  /** Pair mode: a text drawn beside one edge (the pair's own edge in the message graph), or absent. */
+  edgeNote?: { edge: number; text: string; colour: string };
   /** Node indices to emphasise (others are dimmed), or null. */
   highlight: Set<number> | null;
   theme: Theme;
@@ -194,7 +198,7 @@ export function drawingBounds(s: Scene, unit = 1): Box {
     const x = s.positions[2 * i]!, y = s.positions[2 * i + 1]!, r = s.nodeRadius[i]!;
     if (!Number.isFinite(x) || !Number.isFinite(y)) continue;
     add({ x0: x - r, y0: y - r, x1: x + r, y1: y + r });
-    if (s.labelAll || i === 0) add(nodeLabelBox(x, y, r, String(s.ids[i]), f, unit));
+    if (s.labelAll || anchor(s, i)) add(nodeLabelBox(x, y, r, String(s.ids[i]), f, unit));
   }
   const places = ringLabelPlaces(s, unit);
   for (let k = 1; k < s.rings.length; k++) {
@@ -249,8 +253,13 @@ function dimmed(s: Scene, i: number): boolean {
   return s.highlight !== null && !s.highlight.has(i);
 }
 
+/** The centre, and in pair mode both ends: always labelled, drawn with a heavier outline. */
+function anchor(s: Scene, i: number): boolean {
+  return i < (s.anchors ?? 1);
+}
+
 function nodeLabelShown(s: Scene, i: number): boolean {
-  return s.labelAll || i === 0 || i === s.selected || (s.highlight !== null && s.highlight.has(i) && s.highlight.size <= 40);
+  return s.labelAll || anchor(s, i) || i === s.selected || (s.highlight !== null && s.highlight.has(i) && s.highlight.size <= 40);
 }
 
 // ---- SVG -----------------------------------------------------------------------------------------
@@ -322,9 +331,9 @@ export function buildSvg(doc: Document, s: Scene, opts: { width: number; height:
   for (let i = 0; i < s.ids.length; i++) {
     const x = P[2 * i]!, y = P[2 * i + 1]!;
     const c = svgEl(doc, 'circle', {
-      class: i === 0 ? 'node centre' : 'node', 'data-index': i, cx: fmt(x), cy: fmt(y), r: fmt(s.nodeRadius[i]!),
+      class: anchor(s, i) ? 'node centre' : 'node', 'data-index': i, cx: fmt(x), cy: fmt(y), r: fmt(s.nodeRadius[i]!),
       fill: s.nodeFill[i]!, stroke: i === s.selected ? t.focus : t.outline,
-      'stroke-width': i === s.selected ? 2.5 : i === 0 ? t.outlineWidth * 2 : t.outlineWidth,
+      'stroke-width': i === s.selected ? 2.5 : anchor(s, i) ? t.outlineWidth * 2 : t.outlineWidth,
       'fill-opacity': dimmed(s, i) ? 0.2 : 1,
     });
     const title = svgEl(doc, 'title', {});
@@ -334,14 +343,27 @@ export function buildSvg(doc: Document, s: Scene, opts: { width: number; height:
     if (nodeLabelShown(s, i)) {
       const text = svgEl(doc, 'text', {
         class: 'label', x: fmt(x + s.nodeRadius[i]! + 2), y: fmt(y + 4), fill: t.foreground,
-        'font-weight': i === 0 || i === s.selected ? 'bold' : 'normal', 'fill-opacity': dimmed(s, i) ? 0.35 : 1,
+        'font-weight': anchor(s, i) || i === s.selected ? 'bold' : 'normal', 'fill-opacity': dimmed(s, i) ? 0.35 : 1,
       });
       text.textContent = String(s.ids[i]);
       labels.append(text);
     }
   }
   root.append(nodes, labels);
+  const note = s.edgeNote;
+  if (note && note.edge >= 0 && note.edge < s.edgeDirs.length) {
+    const [x, y] = edgeNotePlace(s, note.edge);
+    const text = svgEl(doc, 'text', { class: 'edge-note', x: fmt(x), y: fmt(y), 'text-anchor': 'middle', fill: note.colour, 'font-weight': 'bold' });
+    text.textContent = note.text;
+    root.append(text);
+  }
   return svg;
+}
+
+/** Where an edge's note goes: above the middle of the edge. */
+function edgeNotePlace(s: Scene, e: number): [number, number] {
+  const P = s.positions, a = s.edges[2 * e]!, b = s.edges[2 * e + 1]!;
+  return [(P[2 * a]! + P[2 * b]!) / 2, (P[2 * a + 1]! + P[2 * b + 1]!) / 2 - 8];
 }
 
 /** A standalone SVG document of the whole drawing. */
@@ -413,7 +435,7 @@ export function drawCanvas(ctx: CanvasRenderingContext2D, s: Scene, tr: Transfor
     ctx.fillStyle = s.nodeFill[i]!;
     ctx.fill();
     ctx.globalAlpha = 1;
-    ctx.lineWidth = i === s.selected ? 2.5 : i === 0 ? t.outlineWidth * 2 : t.outlineWidth;
+    ctx.lineWidth = i === s.selected ? 2.5 : anchor(s, i) ? t.outlineWidth * 2 : t.outlineWidth;
     ctx.strokeStyle = i === s.selected ? t.focus : t.outline;
     ctx.stroke();
   }
@@ -422,8 +444,17 @@ export function drawCanvas(ctx: CanvasRenderingContext2D, s: Scene, tr: Transfor
   for (let i = 0; i < s.ids.length; i++) {
     if (!nodeLabelShown(s, i)) continue;
     ctx.globalAlpha = dimmed(s, i) ? 0.35 : 1;
-    ctx.font = `${i === 0 || i === s.selected ? 'bold ' : ''}${(t.fontSize - 2) * px}px ${t.fontFamily}`;
+    ctx.font = `${anchor(s, i) || i === s.selected ? 'bold ' : ''}${(t.fontSize - 2) * px}px ${t.fontFamily}`;
     ctx.fillText(String(s.ids[i]), P[2 * i]! + s.nodeRadius[i]! + 2 * px, P[2 * i + 1]! + 4 * px);
+  }
+  const note = s.edgeNote;
+  if (note && note.edge >= 0 && note.edge < s.edgeDirs.length) {
+    const a = s.edges[2 * note.edge]!, b = s.edges[2 * note.edge + 1]!;
+    ctx.globalAlpha = 1;
+    ctx.fillStyle = note.colour;
+    ctx.textAlign = 'center';
+    ctx.font = `bold ${(t.fontSize - 2) * px}px ${t.fontFamily}`;
+    ctx.fillText(note.text, (P[2 * a]! + P[2 * b]!) / 2, (P[2 * a + 1]! + P[2 * b + 1]!) / 2 - 8 * px);
   }
   ctx.restore();
 }

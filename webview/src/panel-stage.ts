@@ -10,7 +10,8 @@ import { zoom as d3zoom, zoomIdentity, type ZoomBehavior, type ZoomTransform } f
 import { quadtree, type Quadtree } from 'd3-quadtree';
 import type { FieldViewPayload } from '../../common/protocol';
 import { custom, el, type Child } from './dom';
-import { curvatureColour, groupColour, hopColour, isDarkBackground, mix } from './panel-colours';
+import { curvatureColour, groupColour, hopColour, isDarkBackground, mix, pairEdgeColour } from './panel-colours';
+import { PAIR_EDGE_NOTE, pairEdgeIndex, pairNodeTitle } from './panel-pair';
 import { swatch } from './panel-charts';
 import type { LayoutResult, LayoutRunner } from './panel-layout-runner';
 import { viewMode, type PanelModel } from './panel-model';
@@ -107,7 +108,7 @@ export class Stage {
       const view = this.model.view;
       const i = this.nodeAt(e.clientX, e.clientY);
       if (i < 0 || !view) return;
-      if (i === 0) { this.select(0); return; }
+      if (i === 0 || (i === 1 && this.model.pair)) { this.select(i); return; }
       this.host.centreOn(view.ids[i]!);
     });
     stage.addEventListener('keydown', (e) => this.onKey(e));
@@ -149,6 +150,10 @@ export class Stage {
 
   nodeTitle(v: FieldViewPayload, i: number): string {
     const wl = this.model.wl;
+    if (this.model.pair) {
+      const t = pairNodeTitle(this.model.pair, i);
+      return wl && viewMode(this.model) === 'wl' && wl.colours[i]! >= 0 ? `${t} · 1-WL class of ${plural(wl.classSizes[i]!, 'node')} in the graph` : t;
+    }
     const parts = [`node ${v.ids[i]}`, i === 0 ? 'centre' : `hop ${v.hops[i]}`, `influence ${num(v.weights[i]!)}`];
     const label = v.labels?.[i];
     if (label !== undefined && label !== null) parts.push(`label ${String(label)}`);
@@ -188,12 +193,27 @@ export class Stage {
       edgeDash = b.bridge.map((br) => (br ? '7 4' : null));
       edgeOpacity = b.balancedForman.map((x, e) => (b.bridge[e] || (x !== null && x < -0.25) ? 0.95 : 0.6));
     }
+    const nodeRadius = nodeRadii(v);
+    const pair = this.model.pair;
+    let edgeNote: Scene['edgeNote'];
+    if (pair) {
+      // Both ends as large as a centre; the pair's own edge in its own dashed colour, with a note.
+      if (nodeRadius.length > 1) nodeRadius[1] = nodeRadius[0]!;
+      const e = pairEdgeIndex(pair);
+      if (e >= 0) {
+        const colour = pairEdgeColour(dark);
+        edgeStroke[e] = colour; edgeDash[e] = '8 4'; edgeWidth[e] = 3.5; edgeOpacity[e] = 1;
+        edgeNote = { edge: e, text: PAIR_EDGE_NOTE, colour };
+      }
+    }
     return {
       ids: v.ids, hops: v.hops, edges: v.edges, edgeDirs: v.edgeDirs,
       positions: this.positions ?? new Float32Array(2 * v.ids.length), rings: this.rings,
-      nodeFill, nodeRadius: nodeRadii(v), nodeTitle: v.ids.map((_, i) => this.nodeTitle(v, i)),
+      nodeFill, nodeRadius, nodeTitle: v.ids.map((_, i) => this.nodeTitle(v, i)),
       edgeStroke, edgeWidth, edgeDash, edgeOpacity,
       labelAll: v.ids.length <= 120, selected: this.selected, highlight: this.highlight, theme,
+      ...(pair ? { anchors: Math.min(2, v.ids.length) } : {}),
+      ...(edgeNote ? { edgeNote } : {}),
     };
   }
 
@@ -357,6 +377,10 @@ export class Stage {
   private drawDetails(): void {
     const view = this.model.view, wl = this.model.wl, i = this.selected;
     if (!view || i < 0 || i >= view.ids.length) { this.details.replaceChildren(); return; }
+    if (this.model.pair) {
+      this.details.replaceChildren(el('span', {}, pairNodeTitle(this.model.pair, i)), ' ', ...(i > 1 ? [this.centreButton(view.ids[i]!)] : []));
+      return;
+    }
     const total = view.weights.reduce((a, b) => a + b, 0);
     const parts: Child[] = [
       el('b', {}, `Node ${view.ids[i]}`),
@@ -381,6 +405,16 @@ export class Stage {
     const dark = isDarkBackground(theme);
     const legend = this.legend;
     legend.replaceChildren();
+    const pair = this.model.pair;
+    if (pair && mode === 'hops') {
+      const items = view.perHop.map((c, k) => el('span', { class: 'item' }, swatch(hopColour(k, Math.max(1, view.layers), dark)), k === 0 ? 'the two ends' : `hop ${k}`, el('span', { class: 'muted' }, ` ${view.shownPerHop[k]}${view.sampled && view.shownPerHop[k] !== c ? `/${c}` : ''}`)));
+      legend.append(el('span', { class: 'muted' }, `Pair ${pair.u}, ${pair.v}: colour = hops from the nearer end. `), ...items);
+      if (view.edgeDirs.some((d) => d !== 3)) legend.append(el('span', { class: 'muted' }, ' Arrows: one-way edges, pointing where messages go.'));
+    }
+    if (pair && pairEdgeIndex(pair) >= 0) {
+      legend.append(el('span', { class: 'item pair-edge' }, swatch(pairEdgeColour(dark), true), PAIR_EDGE_NOTE, el('span', { class: 'muted' }, ' (a leak if the pair is a validation or test positive)')));
+    }
+    if (pair && mode === 'hops') return;
     if (mode === 'hops') {
       const items = view.perHop.map((c, k) => el('span', { class: 'item' }, swatch(hopColour(k, Math.max(1, view.layers), dark)), k === 0 ? 'centre' : `hop ${k}`, el('span', { class: 'muted' }, ` ${view.shownPerHop[k]}${view.sampled && view.shownPerHop[k] !== c ? `/${c}` : ''}`)));
       legend.append(el('span', { class: 'muted' }, 'Colour = hops from the centre; size = influence on it. '), ...items);

@@ -21,6 +21,7 @@ import { viewMode, type PanelModel } from './panel-model';
 import { pct, plural } from './panel-numbers';
 import { pngBytes, svgText } from './panel-render';
 import { nodeRadii, Stage } from './panel-stage';
+import { pairAsView, pairSummary } from './panel-pair';
 
 interface VsCodeApi {
   postMessage(m: PanelRequest): void;
@@ -35,7 +36,7 @@ const model: PanelModel = {
   state: vscode.getState() ?? {},
   save: (patch) => { model.state = { ...model.state, ...patch }; vscode.setState(model.state); },
   file: undefined, seq: 0,
-  view: undefined, wl: undefined, bottlenecks: undefined, smoothing: undefined, smoothingNote: undefined,
+  view: undefined, pair: undefined, wl: undefined, bottlenecks: undefined, smoothing: undefined, smoothingNote: undefined,
   theme: readTheme(),
 };
 const save = (patch: Partial<PanelState>) => model.save(patch);
@@ -49,6 +50,7 @@ const workerUrl = configEl?.getAttribute('data-layout-worker') ?? '';
 const controls = createControls(model, {
   requestField: () => requestField(),
   centreOn: (node) => centreOn(node),
+  pairWith: (node, other) => pairWith(node, other),
   find: (node) => stage.find(node),
   modeChanged: () => { stage.highlight = null; ensureModeData(); stage.redraw(); },
   fit: () => stage.fit(),
@@ -89,6 +91,7 @@ function query(): FieldQuery {
     ...(state.sendingRow !== undefined ? { sendingRow: state.sendingRow } : {}),
     symmetrise: state.symmetrise === true,
     selfLoops: state.selfLoops !== false,
+    ...(state.pair !== undefined ? { pair: state.pair } : {}),
   };
 }
 
@@ -97,17 +100,29 @@ function requestField(): void {
   model.seq++;
   errorBox.hidden = true;
   stage.element.classList.add('busy');
-  summary.textContent = `Computing the field of node ${model.state.node ?? 0}…`;
+  summary.textContent = model.state.pair !== undefined
+    ? `Computing what the model sees of the pair ${model.state.node ?? 0}, ${model.state.pair}…`
+    : `Computing the field of node ${model.state.node ?? 0}…`;
   post({ type: 'field', seq: model.seq, query: query() });
 }
 
 function centreOn(node: number): void {
   if (!Number.isInteger(node) || node < 0) { showError(`"${node}" is not a node id.`); return; }
+  // Centring on the pair's other end leaves pair mode (a pair needs two different nodes).
+  if (node === model.state.pair) { save({ pair: undefined }); controls.showPair(undefined); }
   save({ node, selected: undefined });
   stage.selected = -1;
   stage.highlight = null;
   controls.showNode(node);
   requestField();
+}
+
+/** Pair mode on (node, other), or back to one node when `other` is undefined. */
+function pairWith(node: number, other: number | undefined): void {
+  if (other !== undefined && (!Number.isInteger(other) || other < 0)) { showError('The "and node" box needs a node id (a whole number, 0 or more), or nothing for one node.'); return; }
+  if (other !== undefined && other === node) { showError(`A pair needs two different nodes; both are ${node}.`); return; }
+  save({ pair: other });
+  centreOn(node);
 }
 
 function showError(message: string): void {
@@ -142,6 +157,11 @@ async function layOut(v: FieldViewPayload, mySeq: number): Promise<void> {
 function drawSummary(): void {
   const v = model.view;
   if (!v) return;
+  if (model.pair) {
+    summary.textContent = pairSummary(model.pair);
+    title.textContent = `What the model sees of the pair ${model.pair.u}, ${model.pair.v}`;
+    return;
+  }
   const L = plural(v.layers, 'layer');
   const how = v.symmetrised ? 'messages both ways' : v.sendingRow === 0 ? 'row 0 sends to row 1' : 'row 1 sends to row 0';
   const rule = v.selfLoops ? 'every node within reach' : `only nodes with a walk of exactly ${L}`;
@@ -165,7 +185,9 @@ function drawModeInfo(): void {
 
 function drawSide(): void {
   drawHopBars(hopChart, model.view, model.theme);
-  drawCoverage(coverageChart, model.view);
+  // The coverage curve is a property of single nodes: hidden in pair mode.
+  coverageChart.hidden = model.pair !== undefined;
+  if (!model.pair) drawCoverage(coverageChart, model.view);
   drawSmoothing();
   drawModeInfo();
 }
@@ -174,6 +196,7 @@ function drawSide(): void {
 
 function exportName(ext: string): string {
   const base = (model.file?.name ?? 'graph').replace(/\.[^.]+$/, '').replace(/[^\w.-]+/g, '_');
+  if (model.pair) return `${base}-pair${model.pair.u}-${model.pair.v}-L${model.pair.layers}-${viewMode(model)}.${ext}`;
   return `${base}-node${model.view?.node ?? 0}-L${model.view?.layers ?? 0}-${viewMode(model)}.${ext}`;
 }
 
@@ -208,7 +231,8 @@ window.addEventListener('message', (e: MessageEvent<PanelMessage>) => {
       model.file = m.file;
       fileLabel.textContent = m.file.name;
       fileLabel.title = m.file.uri;
-      if (!sameFile) save({ uri: m.file.uri, name: m.file.name, zoom: undefined, selected: undefined, sendingRow: undefined });
+      if (!sameFile) save({ uri: m.file.uri, name: m.file.name, zoom: undefined, selected: undefined, sendingRow: undefined, pair: undefined });
+      if (m.node !== undefined && m.node === model.state.pair) save({ pair: undefined });
       if (m.node !== undefined) { if (m.node !== model.state.node) save({ zoom: undefined }); save({ node: m.node }); }
       if (model.state.node === undefined) save({ node: 0 });
       stage.firstDrawing = true;
@@ -217,9 +241,11 @@ window.addEventListener('message', (e: MessageEvent<PanelMessage>) => {
       post({ type: 'smoothing' });
       break;
     }
+    case 'pair':
     case 'field': {
       if (m.seq !== model.seq) return;
-      const view = model.view = m.view;
+      model.pair = m.type === 'pair' ? m.data : undefined;
+      const view = model.view = m.type === 'pair' ? pairAsView(m.data) : m.view;
       model.wl = undefined; model.bottlenecks = undefined;
       const keep = model.state.selected !== undefined ? view.ids.indexOf(model.state.selected) : -1;
       stage.selected = keep;
