@@ -64,6 +64,18 @@ describe('language server over stdio', () => {
     expect(diags('depots/x.npy')[0]!.range.start).toEqual({ line: 0, character: 0 });
   });
 
+  it('a link-prediction split: the leaked test edge and the other split problems are diagnostics on the pair tensors\' file', () => {
+    // demo/rides/rides.npz (scripts/make-demo.mjs): the test ride 10 – 11 left in edge_index, etc.
+    const d = diags('rides/rides.npz');
+    const leak = d.find((x) => x.code === 'leaked-positive-pairs')!;
+    expect(leak.severity).toBe(1);
+    expect(leak.message).toMatch(/10 – 11/);
+    expect(leak.codeDescription!.href).toMatch(/#problem-leaked-positive-pairs$/);
+    expect(d.map((x) => x.code).sort()).toEqual(['cold-start-pairs', 'isolated-nodes', 'leaked-positive-pairs',
+      'negative-pairs-are-edges', 'pairs-in-two-splits', 'self-pairs']);
+    expect(diags('rides/monthly/val_data.npz').map((x) => x.code)).toEqual(['pair-labels-mismatch']);
+  });
+
   it('text diagnostics carry code, link and the exact range of the bad value', () => {
     const d = diags('lanes/lanes.csv');
     const oor = d.find((x) => x.code === 'index-out-of-range')!;
