@@ -548,6 +548,7 @@ describe('receptive-field panel in Chromium', () => {
     expect(await page.locator('#summary').textContent()).toContain("holds the pair's own edge (0 → 1 and 1 → 0)");
     expect(await page.locator('#summary').textContent()).toContain(`they are ${pairs[0].distanceWithoutPairEdge} hops apart`);
     expect(await page.locator('#stage svg circle.node.centre').count()).toBe(2);
+    expect(await page.locator('#stage svg').first().getAttribute('aria-label')).toBe(`Pair 0, 1: ${union01} nodes and ${await page.locator('#stage').getAttribute('data-edges')} edges drawn`);
     const note = page.locator('#stage svg text.edge-note');
     expect(await note.textContent()).toBe('pair edge in the message graph');
     const colour = pairEdgeColour(false);

@@ -231,6 +231,7 @@ export class Stage {
     const scene = this.scene = this.buildScene();
     const { width, height } = this.stageSize();
     const elements = view.ids.length + view.edgeDirs.length;
+    const what = this.model.pair ? `Pair ${this.model.pair.u}, ${this.model.pair.v}` : `Receptive field of node ${view.node}`;
     const want = elements > CANVAS_THRESHOLD ? 'canvas' : 'svg';
     stage.dataset['renderer'] = want;
     stage.dataset['nodes'] = String(view.ids.length);
@@ -238,7 +239,7 @@ export class Stage {
     if (want === 'svg') {
       this.canvas?.remove(); this.canvas = undefined;
       const next = buildSvg(document, scene, { width, height, transform: this.transform });
-      next.setAttribute('aria-label', `Receptive field of node ${view.node}: ${plural(view.ids.length, 'node')} and ${plural(view.edgeDirs.length, 'edge')} drawn`);
+      next.setAttribute('aria-label', `${what}: ${plural(view.ids.length, 'node')} and ${plural(view.edgeDirs.length, 'edge')} drawn`);
       if (this.svg) this.svg.replaceWith(next); else stage.prepend(next);
       this.svg = next;
     } else {
@@ -248,7 +249,7 @@ export class Stage {
         stage.prepend(this.canvas);
       }
       const canvas = this.canvas;
-      canvas.setAttribute('aria-label', `Receptive field of node ${view.node}: ${plural(view.ids.length, 'node')} and ${plural(view.edgeDirs.length, 'edge')} drawn (canvas)`);
+      canvas.setAttribute('aria-label', `${what}: ${plural(view.ids.length, 'node')} and ${plural(view.edgeDirs.length, 'edge')} drawn (canvas)`);
       const ratio = window.devicePixelRatio || 1;
       canvas.width = Math.round(width * ratio); canvas.height = Math.round(height * ratio);
       canvas.style.width = `${width}px`; canvas.style.height = `${height}px`;
