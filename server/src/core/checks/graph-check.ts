@@ -26,6 +26,7 @@ import { checkSparseIds } from './rules/sparse-ids';
 import { checkDuplicates, checkSelfLoops, checkSymmetry } from './rules/edge-pairs';
 import { checkEmpty, checkIsolated } from './rules/isolated';
 import { checkEdgeTensors } from './rules/edge-tensors';
+import { timed } from '../timing';
 import { checkEdgeSplits } from './rules/edge-splits';
 import type { EdgeSplitCounts } from '../../../../common/report';
 
@@ -94,7 +95,7 @@ export function checkGraph(parts: GraphPart[], opts: GraphOptions = {}, limits: 
   checkIsolated(g);
   checkEmpty(g);
   checkEdgeTensors(ec);
-  const edgeSplits = checkEdgeSplits(g);
+  const edgeSplits = timed('splits', () => checkEdgeSplits(g));
 
   const sp = edges.part;
   const figures: GraphFigures = {

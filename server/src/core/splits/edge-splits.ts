@@ -166,8 +166,9 @@ export function hasKey(set: Float64Array, key: number): boolean {
  * Large inputs are not searched key by key (a binary search per pair misses the cache on every
  * step of a 10M-key set): the keys are sorted, walked against the set with galloping steps, and the
  * distinct member keys found are then looked up, in the keys' own order, for the first positions.
+ * `sortedKeysOfKeys`, when the caller already has it, is `sortedKeys(keys)`.
  */
-export function memberPositions(keys: Float64Array, set: Float64Array, keep: number): { count: number; first: number[] } {
+export function memberPositions(keys: Float64Array, set: Float64Array, keep: number, sortedKeysOfKeys?: Float64Array): { count: number; first: number[] } {
   let count = 0;
   const first: number[] = [];
   if (set.length === 0 || keys.length === 0) return { count, first };
@@ -180,7 +181,7 @@ export function memberPositions(keys: Float64Array, set: Float64Array, keep: num
     }
     return { count, first };
   }
-  const sorted = sortedKeys(keys);
+  const sorted = sortedKeysOfKeys ?? sortedKeys(keys);
   const members: number[] = [];
   let j = 0;
   const m = set.length;

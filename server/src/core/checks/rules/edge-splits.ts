@@ -154,10 +154,14 @@ export function checkEdgeSplits(g: GraphContext): EdgeSplitCounts | undefined {
   const message = sortedKeys(pairKeys(kept.src, kept.dst, n, undirected));
   const either = undirected ? ' (in either direction: the graph is undirected)' : '';
 
+  // Positives as sorted keys, made once: the leak, negative and two-split checks all walk them.
+  const sortedPos = new Map<PairSide, Float64Array>();
+  for (const s of sides) if (s.sign === 'pos') sortedPos.set(s, sortedKeys(s.keys));
+
   // Leaked positives: val/test positives among the message edges.
   for (const s of sides) {
     if (s.sign !== 'pos' || s.split === 'train') continue;
-    const c = memberPositions(s.keys, message, MAX_LOCATIONS);
+    const c = memberPositions(s.keys, message, MAX_LOCATIONS, sortedPos.get(s));
     say(s, 'leaked-positive-pairs', c, (j) => `${pairText(s, j)} is a message edge`, (ex) =>
       `${c.count} ${label(s)} pair${c.count === 1 ? '' : 's'} of ${s.part.tensor.name} ${c.count === 1 ? 'is' : 'are'} also in the message-passing edges ` +
       `${g.edges.part.tensor.name}${either} (${ex}). The model can see the edges it is asked to predict, so the ${SPLIT_NAME[s.split]} score is inflated: ` +
@@ -165,8 +169,6 @@ export function checkEdgeSplits(g: GraphContext): EdgeSplitCounts | undefined {
   }
 
   // Negatives that are edges: among the message edges or any split's positives.
-  const sortedPos = new Map<PairSide, Float64Array>();
-  for (const s of sides) if (s.sign === 'pos') sortedPos.set(s, sortedKeys(s.keys));
   const known = mergeSorted([message, ...sortedPos.values()]);
   for (const s of sides) {
     if (s.sign !== 'neg') continue;
@@ -186,7 +188,7 @@ export function checkEdgeSplits(g: GraphContext): EdgeSplitCounts | undefined {
       if (!earlier || !later) continue;
       const set = mergeSorted(earlier.map((s) => sortedPos.get(s)!));
       for (const s of later) {
-        const c = memberPositions(s.keys, set, MAX_LOCATIONS);
+        const c = memberPositions(s.keys, set, MAX_LOCATIONS, sortedPos.get(s));
         say(s, 'pairs-in-two-splits', c, (j) => `${pairText(s, j)} is also a ${SPLIT_NAME[SPLITS[a]!]} positive`, (ex) =>
           `${c.count} ${label(s)} pair${c.count === 1 ? '' : 's'} of ${s.part.tensor.name} ${c.count === 1 ? 'is also a' : 'are also'} ${SPLIT_NAME[SPLITS[a]!]} positive${c.count === 1 ? '' : 's'}${either} (${ex}). ` +
           'Each edge belongs to one split: a pair in two splits is seen in one and scored in the other.');
