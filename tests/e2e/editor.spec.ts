@@ -29,6 +29,16 @@ test.describe('workspace', () => {
     await expect(oor.filter({ hasText: /\[Ln 32, Col 3\]/ })).toHaveCount(1);
   });
 
+  test('a test edge left in the message-passing graph shows in the Problems panel (demo/rides/rides.npz)', async ({ workbench: wb }) => {
+    // demo/README.md: the test ride 10 – 11 was left in edge_index.
+    const rows = await problemsMatching(wb, 'leaked-positive-pairs, **/rides/rides.npz');
+    await expect(rows.first()).toContainText('rides.npz', { timeout: 60_000 });
+    await expect(rows).toHaveCount(2);
+    const problem = await rows.nth(1).innerText();
+    expect(problem).toMatch(/\nhopscope\nleaked-positive-pairs\n/);
+    expect(problem).toContain('10 – 11 is a message edge');
+  });
+
   test('hovering a data path in the training script shows the tensor shape', async ({ workbench: wb }) => {
     const editor = await wb.openFile('train_docks.py');
     const token = editor.locator('.view-lines .view-line span span', { hasText: 'dock_features.npy' }).first();
