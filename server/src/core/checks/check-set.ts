@@ -7,6 +7,7 @@ import type { Format, Problem, ProblemCode, ReadResult, Severity, Tensor } from 
 import { CODES } from '../../../../common/problem-codes';
 import { checkGraph, type GraphCheck, type GraphOptions, type GraphPart } from './graph-check';
 import type { Manifest, SeverityOverrides } from './manifest';
+import { crossSplitProblems } from './cross-splits';
 import { guessRole, type RoleGuess } from './roles';
 import { tensorStats } from './stats';
 import { timed } from '../timing';
@@ -253,6 +254,13 @@ export function checkSet(files: LoadedFile[], manifests: LoadedManifest[], cli: 
       const d = defaultsFor(lf.path);
       run(baseOf(lf.path), partsOf(lf), d.options, d.severity);
     }
+  }
+
+  // Link-prediction splits saved one file per split: compared across the files of a folder.
+  for (const { file, problem } of crossSplitProblems(graphs.map((g) => g.check))) {
+    const r = reports.get(normalise(file));
+    const p = applySeverity(problem, { ...defaultsFor(file).severity, ...(cli.severity ?? {}) });
+    if (r && p) r.problems.push(p);
   }
 
   // 3. Tensor tables.

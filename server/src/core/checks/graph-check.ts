@@ -27,7 +27,7 @@ import { checkDuplicates, checkSelfLoops, checkSymmetry } from './rules/edge-pai
 import { checkEmpty, checkIsolated } from './rules/isolated';
 import { checkEdgeTensors } from './rules/edge-tensors';
 import { timed } from '../timing';
-import { checkEdgeSplits } from './rules/edge-splits';
+import { checkEdgeSplits, type SplitSide } from './rules/edge-splits';
 import type { EdgeSplitCounts } from '../../../../common/report';
 
 export type {
@@ -52,6 +52,8 @@ export interface GraphCheck {
   structure?: Structure & { src: Int32Array; dst: Int32Array; ids?: Float64Array };
   /** Link-prediction splits over this graph's message-passing edges (absent without pair tensors). */
   edgeSplits?: EdgeSplitCounts;
+  /** The split sides as checked, for the checks across per-split files (check-set.ts). */
+  splitSides?: SplitSide[];
   /** The parts and options the graph was checked with. */
   parts: GraphPart[];
   options: GraphOptions;
@@ -95,7 +97,8 @@ export function checkGraph(parts: GraphPart[], opts: GraphOptions = {}, limits: 
   checkIsolated(g);
   checkEmpty(g);
   checkEdgeTensors(ec);
-  const edgeSplits = timed('splits', () => checkEdgeSplits(g));
+  const splitSides: SplitSide[] = [];
+  const edgeSplits = timed('splits', () => checkEdgeSplits(g, splitSides));
 
   const sp = edges.part;
   const figures: GraphFigures = {
@@ -107,5 +110,6 @@ export function checkGraph(parts: GraphPart[], opts: GraphOptions = {}, limits: 
     structureFile: sp.file, structureTensor: sp.tensor.name, figures, problems,
     structure: { ...structure, src: kept.src, dst: kept.dst, ...(kept.nodeIds ? { ids: kept.nodeIds } : {}) }, parts, options: opts,
     ...(edgeSplits ? { edgeSplits } : {}),
+    ...(splitSides.length ? { splitSides } : {}),
   };
 }

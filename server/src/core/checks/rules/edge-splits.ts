@@ -31,8 +31,27 @@ interface PairSide {
   keys: Float64Array;
 }
 
+/**
+ * One side of a split as checked, kept for the checks across per-split files (check-set.ts:
+ * `train_data.pt`, `val_data.pt`, `test_data.pt` are three graphs, so a pair in two of them is
+ * only seen when they are compared). 0-based in-range pairs; `at` maps back to tensor positions.
+ */
+export interface SplitSide {
+  split: Split;
+  sign: 'pos' | 'neg';
+  file: string;
+  tensor: string;
+  cols: PairColumns;
+  at: Int32Array;
+  u: Float64Array;
+  v: Float64Array;
+  undirected: boolean;
+  /** Added to 0-based ids to write them as the file does (its index base). */
+  shift: number;
+}
+
 /** Groups of pair parts: plain pos/neg tensors, or labelled pairs with their label vector. */
-export function checkEdgeSplits(g: GraphContext): EdgeSplitCounts | undefined {
+export function checkEdgeSplits(g: GraphContext, out?: SplitSide[]): EdgeSplitCounts | undefined {
   const pairParts = g.parts.filter((p) => p.guess.role === 'edge-pairs' && p.guess.pair);
   if (pairParts.length === 0) return undefined;
   const labelParts = g.parts.filter((p) => p.guess.role === 'edge-labels' && p.guess.pair);
@@ -132,6 +151,11 @@ export function checkEdgeSplits(g: GraphContext): EdgeSplitCounts | undefined {
     const u = new Float64Array(m), v = new Float64Array(m);
     for (let j = 0; j < m; j++) { u[j] = r.cols.u[kept[j]!]! - shift; v[j] = r.cols.v[kept[j]!]! - shift; }
     sides.push({ split: r.split, sign: r.sign, part: r.part, cols: r.cols, at: kept, u, v, keys: pairKeys(u, v, n, undirected) });
+  }
+  if (out) {
+    for (const s of sides) {
+      out.push({ split: s.split, sign: s.sign, file: s.part.file, tensor: s.part.tensor.name, cols: s.cols, at: s.at, u: s.u, v: s.v, undirected, shift });
+    }
   }
   for (const [part, o] of outOfRange) {
     report(part, 'index-out-of-range',
