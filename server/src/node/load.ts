@@ -15,7 +15,7 @@ import { readNpyStreaming } from './npy-stream';
 import { collectGarbage } from './collect-garbage';
 import { SKIPPED_DIRS, walkedDir } from './skipped-dirs';
 import { readArriving } from './file-stream';
-import { NotEdgeListError, notEdgeListReason, readEdgeList, type EdgeListReadResult } from '../core/formats/edgelist';
+import { assertEdgeListText, NotEdgeListError, notEdgeListReason, readEdgeList, type EdgeListReadResult } from '../core/formats/edgelist';
 import { assertText, wideEncoding } from '../core/formats/text/encoding';
 import { throwIfCancelled, type Cancel } from '../core/cancel';
 
@@ -192,12 +192,6 @@ export function loadFile(p: string, opts: LoadOptions = {}, asEdgeList = false):
     if (e instanceof NotEdgeListError) {
       return remember({ path: p, format: reader.format, error: { message: e.message }, notEdgeList: e.reason });
     }
-    if (e instanceof UnreadableError && reader.format === 'edgelist' && !asEdgeList && binaryGenericText(p, e)) {
-      // A .txt/.csv/.tsv holding binary data is some other program's file, not a broken graph: folder
-      // checks skip it like other text that is not an edge list (a named file still says why).
-      const reason = `it holds binary data, not text (${e.message}); only .el and .edges files are taken for edge lists whatever they hold`;
-      return remember({ path: p, format: reader.format, error: { message: `not an edge list: ${reason}` }, notEdgeList: reason });
-    }
     if (e instanceof UnreadableError) {
       return remember({ path: p, format: reader.format, error: { message: e.message, ...(e.line !== undefined ? { line: e.line } : {}), ...(e.offset !== undefined ? { offset: e.offset } : {}) } });
     }
@@ -259,7 +253,8 @@ function probeText(p: string, format: string, size: number, asEdgeList: boolean)
     const reason = notEdgeListReason(b, false);
     if (reason !== undefined) throw new NotEdgeListError(reason);
   }
-  assertText(b);
+  if (format === 'edgelist') assertEdgeListText(b, p, asEdgeList);
+  else assertText(b);
   if (format === 'edgelist' && !asEdgeList) {
     const reason = notEdgeListReason(b, false);
     if (reason !== undefined) throw new NotEdgeListError(reason);
@@ -509,7 +504,3 @@ function displayPath(p: string): string {
   return rel && !rel.startsWith('..') && !path.isAbsolute(rel) ? rel : p;
 }
 
-/** A binary-data refusal ("not a text file (NUL byte …)") of a file with a generic text name. */
-function binaryGenericText(p: string, e: UnreadableError): boolean {
-  return /\.(txt|csv|tsv)$/i.test(p) && e.message.startsWith('not a text file');
-}

@@ -36,7 +36,7 @@ import {
   type TextSpan,
 } from './types';
 import { COMMA, CR, HASH, LF, PERCENT, PIPE, QUOTE, SEMICOLON, SPACE, TAB } from './text/bytes';
-import { bomLength, decodeWide, onlyCrLineEnds, textBytes, wideEncoding } from './text/encoding';
+import { assertText, BinaryDataError, bomLength, decodeWide, onlyCrLineEnds, textBytes, wideEncoding } from './text/encoding';
 import { ByteLines, countLF, lineEndFrom, utf16Length } from './text/line-index';
 import { FieldSplitter, skipBlanks, tokenText } from './text/fields';
 import {
@@ -67,6 +67,31 @@ export type Delimiter = 'whitespace' | 'tab' | ',' | ';' | '|';
 export class NotEdgeListError extends UnreadableError {
   constructor(readonly reason: string) {
     super(`not an edge list: ${reason}`, 0);
+  }
+}
+
+/** Whether the file's name says it is an edge list (`.el`, `.edges`, also gzipped), not just text (`.txt`, `.csv`, `.tsv`). */
+export function namedAsEdgeList(fileName: string): boolean {
+  const name = fileName.toLowerCase().replace(/\.gz$/, '');
+  return name.endsWith('.el') || name.endsWith('.edges');
+}
+
+/**
+ * The text checks (assertText) for a file that may be an edge list: binary data under a plain text
+ * name (`.txt`, `.csv`, `.tsv`) is some other program's file, not a broken graph, so it is
+ * NotEdgeListError (skipped by folder checks, explained when named); under `.el`/`.edges`, or named
+ * by a manifest, it stays unreadable.
+ */
+export function assertEdgeListText(b: Uint8Array, fileName: string, asEdgeList = false): void {
+  edgeListText(() => assertText(b), fileName, asEdgeList);
+}
+
+function edgeListText<T>(read: () => T, fileName: string, asEdgeList: boolean): T {
+  try {
+    return read();
+  } catch (e) {
+    if (!(e instanceof BinaryDataError) || asEdgeList || namedAsEdgeList(fileName)) throw e;
+    throw new NotEdgeListError(`it holds binary data, not text (${e.message}); only .el and .edges files are taken for edge lists whatever they hold`);
   }
 }
 
@@ -148,6 +173,7 @@ const SNIFF_PREFIX = 4 * 1024 * 1024;
 export function readEdgeList(
   bytes: Uint8Array, fileName: string, limits: ReadLimits, arriving?: ArrivingBytes, options: EdgeListOptions = {},
 ): EdgeListReadResult {
+  const asEdgeList = options.asEdgeList === true;
   let avail = bytes.length;
   if (arriving) {
     if (fileName.toLowerCase().endsWith('.gz')) throw new Error('a compressed file cannot be read while it arrives');
@@ -165,12 +191,12 @@ export function readEdgeList(
   }
   let b: Uint8Array;
   if (arriving && !onlyCrLineEnds(bytes.subarray(0, avail))) {
-    textBytes(bytes.subarray(0, avail), fileName, limits); // the text checks, on the first bytes
+    edgeListText(() => textBytes(bytes.subarray(0, avail), fileName, limits), fileName, asEdgeList); // the text checks, on the first bytes
     b = bytes;
   } else {
     // Whole (bare-CR text is read from a converted copy, so it waits for every byte first).
     while (arriving && avail < bytes.length) avail = arriving.waitBeyond(avail);
-    b = textBytes(bytes, fileName, limits);
+    b = edgeListText(() => textBytes(bytes, fileName, limits), fileName, asEdgeList);
     avail = b.length;
   }
   const n = b.length;
@@ -183,11 +209,9 @@ export function readEdgeList(
   }
   if (layout.notEdgeList && !options.asEdgeList) throw new NotEdgeListError(layout.notEdgeList);
   if (layout.dataLines === 0 && !options.asEdgeList && !emptyEdgeListLikely(fileName, layout)) {
-    throw new NotEdgeListError(layout.headerAt >= 0
-      ? 'it has no data lines, only one line of words (the rule: a file without data lines is an empty edge list only when ' +
-        'named .el or .edges, or when a comma, tab, semicolon or | separates its header). If it is an edge list, name it in hopscope.json to have it read as one.'
-      : 'it has no data lines (the rule: a file without data lines is an empty edge list only when named .el or .edges, ' +
-        'or when a comma, tab, semicolon or | separates its header). If it is an edge list, name it in hopscope.json to have it read as one.');
+    throw new NotEdgeListError(`it has no data lines${layout.headerAt >= 0 ? ', only one line of words' : ''} (the rule: a file ` +
+      'without data lines is an empty edge list only when named .el or .edges, or when a comma, tab, semicolon or | separates ' +
+      'its header). If it is an edge list, name it in hopscope.json to have it read as one.');
   }
   const C = layout.fieldCount;
   const nw = C > 2 ? 1 : 0;
@@ -804,9 +828,7 @@ function isId(b: Uint8Array, s: number, e: number): boolean {
  * not taken for a graph: folder checks skip it instead of warning about an empty graph.
  */
 function emptyEdgeListLikely(fileName: string, layout: { headerAt: number; delimiter: Delimiter }): boolean {
-  const name = fileName.toLowerCase().replace(/\.gz$/, '');
-  if (name.endsWith('.el') || name.endsWith('.edges')) return true;
-  return layout.headerAt >= 0 && layout.delimiter !== 'whitespace';
+  return namedAsEdgeList(fileName) || (layout.headerAt >= 0 && layout.delimiter !== 'whitespace');
 }
 
 export function notEdgeListReason(prefix: Uint8Array, whole: boolean): string | undefined {

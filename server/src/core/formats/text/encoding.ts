@@ -57,7 +57,14 @@ export function assertText(b: Uint8Array): void {
   }
   const end = Math.min(b.length, 1024);
   for (let i = 0; i < end; i++) {
-    if (b[i] === 0) throw new UnreadableError(`not a text file (NUL byte at offset ${i})`, i);
+    if (b[i] === 0) throw new BinaryDataError(i);
+  }
+}
+
+/** Binary data where text was expected: a NUL byte in the first KiB (see assertText). */
+export class BinaryDataError extends UnreadableError {
+  constructor(offset: number) {
+    super(`not a text file (NUL byte at offset ${offset})`, offset);
   }
 }
 
