@@ -152,33 +152,53 @@ export namespace RecheckRequest {
  */
 
 /** Request, client → server: the receptive field of one node, with the nodes and edges to draw. */
-export namespace FieldViewRequest {
-  export const method = 'hopscope/field';
-  export const type = new RequestType<Params, FieldViewPayload, void>(method);
-  export interface Params {
-    uri: string;
-    node: number;
-    /** Message-passing layers, 0..64 (the panel offers 0..8). */
-    layers: number;
-    /** Which row of the edge index sends. Default: the manifest's `sendingRow`, else the `hopscope.sendingRow` setting. */
-    sendingRow?: SendingRow;
-    /** Messages travel both ways along every edge. */
-    symmetrise?: boolean;
-    /** Every layer keeps the node's own state (default true): the field is every node within L hops. */
-    selfLoops?: boolean;
-    /** Most nodes to draw (`hopscope.panel.maxDrawnNodes`); the server keeps it within 10..20000. */
-    maxNodes?: number;
-  }
+/** How a field is walked and drawn: the options the node and the pair requests share. */
+export interface FieldOptions {
+  /** Message-passing layers, 0..64 (the panel offers 0..8). */
+  layers: number;
+  /** Which row of the edge index sends. Default: the manifest's `sendingRow`, else the `hopscope.sendingRow` setting. */
+  sendingRow?: SendingRow;
+  /** Messages travel both ways along every edge. */
+  symmetrise?: boolean;
+  /** Every layer keeps the node's own state (default true): the field is every node within L hops. */
+  selfLoops?: boolean;
+  /** Most nodes to draw (`hopscope.panel.maxDrawnNodes`); the server keeps it within 10..20000. */
+  maxNodes?: number;
 }
-export interface FieldViewPayload {
+
+/** What every field answer says about how it was computed. */
+export interface FieldHeader {
   file: string;
-  node: number;
   layers: number;
   sendingRow: SendingRow;
   symmetrised: boolean;
   selfLoops: boolean;
   graphNodes: number;
   indexBase: 0 | 1;
+}
+
+/** The edges among the drawn nodes of a field answer. */
+export interface DrawnEdges {
+  /** Index pairs (a < b) into `ids`, flattened. */
+  edges: number[];
+  /** Per edge: 1 = messages ids[a] → ids[b] only, 2 = ids[b] → ids[a] only, 3 = both ways. */
+  edgeDirs: number[];
+  /** Edges among the drawn nodes; above 30,000 only those nearest the centre are in `edges`. */
+  edgesTotal: number;
+  /** Error-level problems of the file: the analyses use the edges that are in range. */
+  fileErrors: number;
+}
+
+export namespace FieldViewRequest {
+  export const method = 'hopscope/field';
+  export const type = new RequestType<Params, FieldViewPayload, void>(method);
+  export interface Params extends FieldOptions {
+    uri: string;
+    node: number;
+  }
+}
+export interface FieldViewPayload extends FieldHeader, DrawnEdges {
+  node: number;
   /** Field members per shortest hop distance 0..layers. */
   perHop: number[];
   total: number;
@@ -195,17 +215,9 @@ export interface FieldViewPayload {
   shown: number;
   shownPerHop: number[];
   sampled: boolean;
-  /** Edges among the drawn nodes: index pairs (a < b) into `ids`, flattened. */
-  edges: number[];
-  /** Per edge: 1 = messages ids[a] → ids[b] only, 2 = ids[b] → ids[a] only, 3 = both ways. */
-  edgeDirs: number[];
-  /** Edges among the drawn nodes; above 30,000 only those nearest the centre are in `edges`. */
-  edgesTotal: number;
   /** Median and 90th-percentile coverage for L = 1..8 over `sampled` nodes. */
   coverageCurve: { layers: number[]; median: number[]; p90: number[]; sampled: number; allNodes: boolean };
   hasFeatures: boolean;
-  /** Error-level problems of the file: the analyses use the edges that are in range. */
-  fileErrors: number;
 }
 
 /**
@@ -216,30 +228,17 @@ export interface FieldViewPayload {
 export namespace PairFieldRequest {
   export const method = 'hopscope/pairField';
   export const type = new RequestType<Params, PairFieldPayload, void>(method);
-  export interface Params {
+  export interface Params extends FieldOptions {
     uri: string;
     /** The two ends, as written in the file; they must differ. */
     u: number;
     v: number;
-    /** Message-passing layers, 0..64. */
-    layers: number;
-    sendingRow?: SendingRow;
-    symmetrise?: boolean;
-    selfLoops?: boolean;
-    /** Most nodes to draw (`hopscope.panel.maxDrawnNodes`); the server keeps it within 10..20000. */
-    maxNodes?: number;
   }
 }
-export interface PairFieldPayload {
-  file: string;
+/** `edges`: the pair's own edge is the pair (0, 1) when stored. */
+export interface PairFieldPayload extends FieldHeader, DrawnEdges {
   u: number;
   v: number;
-  layers: number;
-  sendingRow: SendingRow;
-  symmetrised: boolean;
-  selfLoops: boolean;
-  graphNodes: number;
-  indexBase: 0 | 1;
   /** Per hop 0..layers: each end's field, the union (by the nearer end's distance) and the overlap (by the farther end's). */
   perHop: { u: number[]; v: number[]; union: number[]; overlap: number[] };
   total: { u: number; v: number; union: number; overlap: number };
@@ -257,12 +256,6 @@ export interface PairFieldPayload {
   /** Drawn union members ("showing shown of total.union"). */
   shown: number;
   sampled: boolean;
-  /** Edges among the drawn nodes: index pairs (a < b) into `ids`, flattened; the pair's own edge is the pair (0, 1) when stored. */
-  edges: number[];
-  /** Per edge: 1 = messages ids[a] → ids[b] only, 2 = ids[b] → ids[a] only, 3 = both ways. */
-  edgeDirs: number[];
-  edgesTotal: number;
-  fileErrors: number;
 }
 
 /** Request, client → server: 1-WL colours of the drawn nodes and the groups that share one. */

@@ -22,8 +22,9 @@ import type { Cancel } from '../core/cancel';
 import { GraphLoadError, loadGraph, type LoadedGraph } from './graph-input';
 import { manifestsAbove } from './load';
 import type {
-  BottlenecksPayload, FieldViewPayload, FieldViewRequest, PairFieldPayload, PairFieldRequest, SmoothingPayload, WlClassesPayload,
+  BottlenecksPayload, FieldOptions, FieldViewPayload, FieldViewRequest, PairFieldPayload, PairFieldRequest, SmoothingPayload, WlClassesPayload,
 } from '../../../common/protocol';
+import type { SendingRow } from '../../../common/report';
 import type { AnalysisError } from './worker-methods';
 import { SETTINGS } from '../../../common/settings';
 
@@ -85,13 +86,9 @@ export class AnalysisService {
     const base = g.figures.indexBase;
     const v = this.node(g, p.node);
     if (typeof v !== 'number') return v;
-    if (!Number.isInteger(p.layers) || p.layers < 0 || p.layers > PANEL_LIMITS.maxLayers) {
-      return { error: `The layer count must be a whole number from 0 to ${PANEL_LIMITS.maxLayers}, got ${p.layers}.` };
-    }
-    const sendingRow = p.sendingRow ?? g.options.sendingRow ?? 0;
-    const symmetrise = p.symmetrise === true;
-    const selfLoops = p.selfLoops !== false;
-    const maxNodes = clamp(p.maxNodes ?? PANEL_LIMITS.defaultDrawn, PANEL_LIMITS.minDrawn, PANEL_LIMITS.maxDrawn);
+    const o = fieldOptions(g, p);
+    if ('error' in o) return o;
+    const { sendingRow, symmetrise, selfLoops, maxNodes } = o;
     const view = e.field.view(v, p.layers, { sendingRow, symmetrise, selfLoops, maxNodes, ...(cancel ? { cancel } : {}) });
     const key = `${sendingRow}|${symmetrise}|${selfLoops}`;
     let coverageCurve = e.coverage.get(key);
@@ -125,13 +122,9 @@ export class AnalysisService {
     const v = this.node(g, p.v);
     if (typeof v !== 'number') return v;
     if (u === v) return { error: `A pair needs two different nodes; both ends are ${p.u}.` };
-    if (!Number.isInteger(p.layers) || p.layers < 0 || p.layers > PANEL_LIMITS.maxLayers) {
-      return { error: `The layer count must be a whole number from 0 to ${PANEL_LIMITS.maxLayers}, got ${p.layers}.` };
-    }
-    const sendingRow = p.sendingRow ?? g.options.sendingRow ?? 0;
-    const symmetrise = p.symmetrise === true;
-    const selfLoops = p.selfLoops !== false;
-    const maxNodes = clamp(p.maxNodes ?? PANEL_LIMITS.defaultDrawn, PANEL_LIMITS.minDrawn, PANEL_LIMITS.maxDrawn);
+    const o = fieldOptions(g, p);
+    if ('error' in o) return o;
+    const { sendingRow, symmetrise, selfLoops, maxNodes } = o;
     e.pair ??= new PairFieldWalker(g, e.field);
     const r = e.pair.field(u, v, p.layers, { sendingRow, symmetrise, selfLoops, ...(cancel ? { cancel } : {}) });
     // The nearest members: r.ids is ordered u, v, then by the nearer end's distance, then id.
@@ -255,6 +248,20 @@ function stampOf(files: string[], abs: string): string {
       return `${f}:-`;
     }
   }).join('|');
+}
+
+/** The request's field options with their defaults (the graph's sending row), or a message for a bad layer count. */
+function fieldOptions(g: LoadedGraph, p: FieldOptions):
+  { sendingRow: SendingRow; symmetrise: boolean; selfLoops: boolean; maxNodes: number } | AnalysisError {
+  if (!Number.isInteger(p.layers) || p.layers < 0 || p.layers > PANEL_LIMITS.maxLayers) {
+    return { error: `The layer count must be a whole number from 0 to ${PANEL_LIMITS.maxLayers}, got ${p.layers}.` };
+  }
+  return {
+    sendingRow: p.sendingRow ?? g.options.sendingRow ?? 0,
+    symmetrise: p.symmetrise === true,
+    selfLoops: p.selfLoops !== false,
+    maxNodes: clamp(p.maxNodes ?? PANEL_LIMITS.defaultDrawn, PANEL_LIMITS.minDrawn, PANEL_LIMITS.maxDrawn),
+  };
 }
 
 function clamp(x: number, lo: number, hi: number): number {
