@@ -8,6 +8,7 @@ import { CODES } from '../../../../common/problem-codes';
 import { checkGraph, type GraphCheck, type GraphOptions, type GraphPart } from './graph-check';
 import type { Manifest, SeverityOverrides } from './manifest';
 import { crossSplitProblems } from './cross-splits';
+import { baseOf, dirOf } from '../paths';
 import { guessRole, type RoleGuess } from './roles';
 import { tensorStats } from './stats';
 import { timed } from '../timing';
@@ -45,14 +46,6 @@ export interface CheckSetOptions extends GraphOptions {
   maxFileBytes?: number;
 }
 
-export function dirOf(p: string): string {
-  const i = Math.max(p.lastIndexOf('/'), p.lastIndexOf('\\'));
-  return i < 0 ? '.' : i === 0 ? p.slice(0, 1) : p.slice(0, i);
-}
-
-export function baseOf(p: string): string {
-  return p.slice(Math.max(p.lastIndexOf('/'), p.lastIndexOf('\\')) + 1);
-}
 
 /** Joins a manifest-relative path to the manifest's folder, normalising `.` and `..`. */
 export function resolveRelative(dir: string, rel: string): string {

@@ -14,6 +14,7 @@ import { flatOf, memberPositions, mergeSorted, pairKeys, sortedKeys, splitOfFile
 import type { SplitSide } from './rules/edge-splits';
 import { describe, EXAMPLES_IN_MESSAGE } from './rules/locations';
 import type { Split } from './roles';
+import { baseOf, dirOf } from '../paths';
 
 const ORDER: Split[] = ['train', 'val', 'test'];
 const NAME: Record<Split, string> = { train: 'train', val: 'validation', test: 'test' };
@@ -23,7 +24,7 @@ export function crossSplitProblems(graphs: Array<{ splitSides?: SplitSide[]; str
   const byFolder = new Map<string, SplitSide[]>();
   for (const g of graphs) {
     if (!g.splitSides?.length || !g.structureFile || !splitOfFile(g.structureFile)) continue;
-    const dir = folderOf(g.structureFile);
+    const dir = dirOf(g.structureFile);
     if (!byFolder.has(dir)) byFolder.set(dir, []);
     byFolder.get(dir)!.push(...g.splitSides.filter((s) => s.file === g.structureFile));
   }
@@ -59,7 +60,7 @@ export function crossSplitProblems(graphs: Array<{ splitSides?: SplitSide[]; str
     for (const s of positives) {
       const earlier = positives.filter((o) => o.file !== s.file && ORDER.indexOf(o.split) < ORDER.indexOf(s.split));
       if (!earlier.length) continue;
-      const files = [...new Set(earlier.map((o) => baseName(o.file)))].join(', ');
+      const files = [...new Set(earlier.map((o) => baseOf(o.file)))].join(', ');
       const c = memberPositions(keys.get(s)!, mergeSorted(earlier.map((o) => sorted.get(o)!)), MAX_LOCATIONS, sorted.get(s));
       report(s, 'pairs-in-two-splits', c, `is also a positive in ${files}`, (ex) =>
         `${c.count} ${NAME[s.split]} positive pair${c.count === 1 ? '' : 's'} of ${s.tensor} ${c.count === 1 ? 'is' : 'are'} also ` +
@@ -71,7 +72,7 @@ export function crossSplitProblems(graphs: Array<{ splitSides?: SplitSide[]; str
       if (s.sign !== 'neg') continue;
       const others = positives.filter((o) => o.file !== s.file);
       if (!others.length) continue;
-      const files = [...new Set(others.map((o) => baseName(o.file)))].join(', ');
+      const files = [...new Set(others.map((o) => baseOf(o.file)))].join(', ');
       const c = memberPositions(keys.get(s)!, mergeSorted(others.map((o) => sorted.get(o)!)), MAX_LOCATIONS, sorted.get(s));
       report(s, 'negative-pairs-are-edges', c, `is a positive in ${files}`, (ex) =>
         `${c.count} ${NAME[s.split]} negative pair${c.count === 1 ? '' : 's'} of ${s.tensor} ${c.count === 1 ? 'is' : 'are'} ` +
@@ -80,13 +81,4 @@ export function crossSplitProblems(graphs: Array<{ splitSides?: SplitSide[]; str
     }
   }
   return out;
-}
-
-function folderOf(p: string): string {
-  const i = Math.max(p.lastIndexOf('/'), p.lastIndexOf('\\'));
-  return i < 0 ? '.' : p.slice(0, i);
-}
-
-function baseName(p: string): string {
-  return p.slice(Math.max(p.lastIndexOf('/'), p.lastIndexOf('\\')) + 1);
 }

@@ -11,6 +11,7 @@
  *
  * The model holds raw values (as written); rules/edge-splits.ts turns them into sorted pair keys.
  */
+import { baseOf } from '../paths';
 import type { Tensor } from '../formats/types';
 import type { Split } from '../checks/roles';
 
@@ -35,7 +36,7 @@ function splitWord(w: string | undefined): Split | undefined {
 
 /** A split named by a file's stem: `val_data.pt`, `test.npz`, `train_split.safetensors`. */
 export function splitOfFile(file: string): Split | undefined {
-  const base = file.slice(Math.max(file.lastIndexOf('/'), file.lastIndexOf('\\')) + 1).toLowerCase();
+  const base = baseOf(file).toLowerCase();
   const stem = base.replace(/\.[^.]*(\.gz)?$/, '');
   const m = /^(train|val|valid|test)(_data|_graph|_split)?$/.exec(stem);
   return m ? splitWord(m[1]) : undefined;
