@@ -260,12 +260,15 @@ export function openZip(bytes: Uint8Array, limits: ReadLimits, options: ZipOptio
     return start;
   };
 
-  const readEntry = (entry: ZipEntry): Uint8Array => {
-    const name = entry.name;
-    if (entry.flags & 0x1) fail(`entry '${name}' is encrypted`, entry.localHeaderOffset);
+  /** An entry's stored bytes (not encrypted, inside the file) and its declared size. */
+  const stored = (entry: ZipEntry) => {
+    if (entry.flags & 0x1) fail(`entry '${entry.name}' is encrypted`, entry.localHeaderOffset);
     const start = dataOffset(entry);
-    const data = bytes.subarray(start, start + entry.compressedSize);
-    const size = entry.uncompressedSize;
+    return { name: entry.name, start, data: bytes.subarray(start, start + entry.compressedSize), size: entry.uncompressedSize };
+  };
+
+  const readEntry = (entry: ZipEntry): Uint8Array => {
+    const { name, start, data, size } = stored(entry);
     if (entry.method === 0) {
       if (entry.compressedSize !== size) {
         fail(`stored entry '${name}' has compressed size ${entry.compressedSize} but uncompressed size ${size}`, start);
@@ -328,11 +331,7 @@ export function openZip(bytes: Uint8Array, limits: ReadLimits, options: ZipOptio
   };
 
   const streamEntry = (entry: ZipEntry): EntryStream => {
-    const name = entry.name;
-    if (entry.flags & 0x1) fail(`entry '${name}' is encrypted`, entry.localHeaderOffset);
-    const start = dataOffset(entry);
-    const data = bytes.subarray(start, start + entry.compressedSize);
-    const size = entry.uncompressedSize;
+    const { name, start, data, size } = stored(entry);
     let produced = 0;
     let crc = 0;
     let finished = false;
