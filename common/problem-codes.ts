@@ -39,6 +39,16 @@ export const CODES: Readonly<Record<ProblemCode, CodeInfo>> = {
   'pair-labels-mismatch': { severity: 'error', summary: 'A pair label vector whose length differs from its pairs, or labels other than 0/1.' },
   'self-pairs': { severity: 'warning', summary: 'Positive or negative pairs that join a node to itself.' },
   'cold-start-pairs': { severity: 'info', summary: 'Validation or test pairs touching a node with no message-passing edge: only its own features are seen.' },
+  'bad-graph-offsets': { severity: 'error', summary: 'Per-graph offsets (slices, ptr, counts) that decrease or do not end at the length of the tensor they cut.' },
+  'unsorted-batch': { severity: 'warning', summary: 'A batch vector (graph id per node) that is not sorted; most batching code assumes each graph\'s nodes are contiguous.' },
+  'cross-graph-edges': { severity: 'error', summary: 'Edges that join nodes of two different graphs of a dataset.' },
+  'graph-labels-mismatch': { severity: 'error', summary: 'Graph labels whose count differs from the number of graphs in the dataset.' },
+  'empty-graphs': { severity: 'warning', summary: 'Graphs of a dataset with no nodes or no edges.' },
+  'isomorphic-label-conflict': { severity: 'warning', summary: 'Isomorphic graphs (features included) that carry different labels: no model can get both right.' },
+  'isomorphic-across-splits': { severity: 'error', summary: 'A validation or test graph isomorphic to a training graph, features included: the split leaks.' },
+  'one-way-relation': { severity: 'info', summary: 'A relation between two node types with no relation back: messages flow one way only.' },
+  'type-never-receives': { severity: 'info', summary: 'A node type that is the target of no relation: its nodes never receive a message (a warning when it carries labels).' },
+  'type-never-sends': { severity: 'info', summary: 'A node type that is the source of no relation: its nodes never send a message.' },
 };
 
 export const ALL_CODES = Object.keys(CODES) as ProblemCode[];

@@ -37,7 +37,19 @@ export type ProblemCode =
   | 'pairs-in-two-splits'
   | 'pair-labels-mismatch'
   | 'self-pairs'
-  | 'cold-start-pairs';
+  | 'cold-start-pairs'
+  // Datasets of many graphs (core/datasets).
+  | 'bad-graph-offsets'
+  | 'unsorted-batch'
+  | 'cross-graph-edges'
+  | 'graph-labels-mismatch'
+  | 'empty-graphs'
+  | 'isomorphic-label-conflict'
+  | 'isomorphic-across-splits'
+  // Typed graphs (core/typed).
+  | 'one-way-relation'
+  | 'type-never-receives'
+  | 'type-never-sends';
 
 /**
  * Which row of an edge index sends messages (and which column of an edge list): 0 = row 0 sends
@@ -55,6 +67,8 @@ export interface ProblemLocation {
   index?: number;
   /** A short phrase about this occurrence, e.g. "edge 17: 3 → 40". */
   detail?: string;
+  /** In a dataset of many graphs: the graph (0-based) this occurrence is in. */
+  graph?: number;
 }
 
 export interface Problem {
@@ -69,6 +83,12 @@ export interface Problem {
   column?: number;
   /** The first few offending places (at most MAX_LOCATIONS). */
   locations?: ProblemLocation[];
+  /** In a dataset of many graphs: the first affected graph (0-based) and how many graphs are affected. */
+  graph?: number;
+  graphs?: number;
+  /** In a typed graph: the relation (`SRC__REL__DST`) or node type the problem is about. */
+  relation?: string;
+  nodeType?: string;
 }
 
 /** One tensor of a file, as summarised in reports. */
@@ -92,6 +112,36 @@ export interface FileReport {
   problems: Problem[];
   /** Link-prediction splits, on the file holding the message-passing edges (absent without splits). */
   edgeSplits?: EdgeSplitCounts;
+  /** A dataset of many graphs (then `graph` is null), on the file holding its edges. */
+  dataset?: DatasetSummary;
+  /** A graph with typed nodes and relations, on the file holding its relations (`graph` then has the figures with types forgotten). */
+  typed?: TypedSummary;
+}
+
+/** min / max / mean / total of a per-graph count. */
+export interface CountSpread {
+  min: number;
+  max: number;
+  mean: number;
+  total: number;
+}
+
+/** `files[].dataset` of `hopscope check --json`. */
+export interface DatasetSummary {
+  graphs: number;
+  nodes: CountSpread;
+  /** Edge entries (columns of the edge index). */
+  edges: CountSpread;
+  /** Graph labels: the class values (as strings, sorted by value) with their counts; null without graph labels. */
+  graphLabels: { classes: string[]; counts: number[] } | null;
+  /** Graphs per split; null without splits. */
+  splits: { train: number; val: number; test: number } | null;
+}
+
+/** `files[].typed` of `hopscope check --json`. */
+export interface TypedSummary {
+  nodeTypes: Record<string, number>;
+  relations: Array<{ source: string; name: string; target: string; edges: number }>;
 }
 
 /** Pairs of one link-prediction split (null where that side is absent). */
