@@ -194,9 +194,36 @@ export namespace FieldViewRequest {
   export const type = new RequestType<Params, FieldViewPayload, void>(method);
   export interface Params extends FieldOptions {
     uri: string;
+    /** As written in the file; in a typed graph with `nodeType`, the id within that node type. */
     node: number;
+    /** In a typed graph: the node type `node` counts in (without it, `node` is an id of the types-forgotten graph). */
+    nodeType?: string;
   }
 }
+
+/**
+ * The node types of a typed graph (server/src/core/typed), for the field panel. The types-forgotten
+ * graph numbers type t's nodes offsets[t] .. offsets[t + 1] - 1 (in `names` order), so `ids` of the
+ * payload are ids of that graph; `typeOf` and `localIds` give each drawn node's type and its id
+ * within the type (as written in the file).
+ */
+export interface FieldNodeTypes {
+  /** Node type names, in id-space order. */
+  names: string[];
+  /** Nodes per type in the whole graph. */
+  counts: number[];
+  /** names.length + 1 offsets into the types-forgotten id space. */
+  offsets: number[];
+  /** Per drawn node: index into `names`. */
+  typeOf: number[];
+  /** Per drawn node: its id within its type. */
+  localIds: number[];
+  /** perHop[k][t] = field members at hop distance k of type names[t] (row k sums to the payload's perHop[k]). */
+  perHop: number[][];
+  /** The centre's type and id within it. */
+  centre: { type: string; id: number };
+}
+
 export interface FieldViewPayload extends FieldHeader, DrawnEdges {
   node: number;
   /** Field members per shortest hop distance 0..layers. */
@@ -218,6 +245,8 @@ export interface FieldViewPayload extends FieldHeader, DrawnEdges {
   /** Median and 90th-percentile coverage for L = 1..8 over `sampled` nodes. */
   coverageCurve: { layers: number[]; median: number[]; p90: number[]; sampled: number; allNodes: boolean };
   hasFeatures: boolean;
+  /** In a typed graph: the node types, each drawn node's type and the per-hop counts per type. */
+  nodeTypes?: FieldNodeTypes;
 }
 
 /**
