@@ -142,6 +142,14 @@ export interface DatasetSummary {
 export interface TypedSummary {
   nodeTypes: Record<string, number>;
   relations: Array<{ source: string; name: string; target: string; edges: number }>;
+  /**
+   * Where each type's node count comes from: 'declared' (TYPE__num_nodes, the manifest), 'features'
+   * (rows of the feature matrix), 'labels' (length of the labels or a mask), or 'ids' (1 + the largest
+   * id seen in that type's position across relations).
+   */
+  nodeCountFrom?: Record<string, 'declared' | 'features' | 'labels' | 'ids'>;
+  /** The types-forgotten graph (`files[].graph`) numbers each type's nodes from its offset here (types in `nodeTypes` order). */
+  offsets?: Record<string, number>;
 }
 
 /** Pairs of one link-prediction split (null where that side is absent). */
