@@ -14,6 +14,7 @@ import type { CheckSetOptions, FileReport } from '../core/checks/check-set';
 import type { Problem, Severity } from '../core/formats/types';
 import { severityAtLeast } from '../../../common/problem-codes';
 import { phaseTotals } from '../core/timing';
+import type { TypedSummary } from '../../../common/report';
 
 const USAGE = `Usage: hopscope check PATH... [options]
 
@@ -145,13 +146,15 @@ function check(args: CheckArgs, io: CliIo): number {
 function jsonFile(f: FileReport) {
   return {
     path: f.path, format: f.format, tensors: f.tensors, graph: f.graph,
-    ...(f.edgeSplits ? { edgeSplits: f.edgeSplits } : {}), problems: f.problems.map(jsonProblem),
+    ...(f.edgeSplits ? { edgeSplits: f.edgeSplits } : {}), ...(f.typed ? { typed: f.typed } : {}), problems: f.problems.map(jsonProblem),
   };
 }
 
 function jsonProblem(p: Problem) {
   const out: Record<string, unknown> = { code: p.code, severity: p.severity, message: p.message };
   if (p.tensor !== undefined) out.tensor = p.tensor;
+  if (p.relation !== undefined) out.relation = p.relation;
+  if (p.nodeType !== undefined) out.nodeType = p.nodeType;
   out.count = p.count;
   if (p.line !== undefined) { out.line = p.line; out.column = p.column ?? 1; }
   if (p.locations?.length) out.locations = p.locations.slice(0, 20);
@@ -189,10 +192,11 @@ function renderText(files: FileReport[], manifestProblems: Array<{ path: string;
     }
     if (f.graph) {
       const g = f.graph;
-      lines.push(`  graph: ${g.nodes} nodes, ${g.edges} edge entries, ${g.directed ? 'directed' : 'undirected'}, ` +
+      lines.push(`  graph${f.typed ? ' (types forgotten)' : ''}: ${g.nodes} nodes, ${g.edges} edge entries, ${g.directed ? 'directed' : 'undirected'}, ` +
         `${g.components} component${g.components === 1 ? '' : 's'}, ${g.selfLoops} self-loops, ` +
         `${g.duplicateEdges} duplicates, ${g.isolatedNodes} isolated` + (g.indexBase === 1 ? ', 1-based ids' : ''));
     }
+    if (f.typed) lines.push(...typedLines(f.typed));
     if (f.edgeSplits) {
       const s = f.edgeSplits;
       const side = (n: number | null, what: string) => (n === null ? '' : `${n} ${what}`);
@@ -247,6 +251,16 @@ function withSkipped(report: string, skipped: SkippedFile[], io: CliIo): string 
   }
   lines.push(`${summary}, ${skipped.length} skipped`);
   return lines.join('\n') + '\n';
+}
+
+/** The node types and relations of a typed graph (core/typed), for the text report. */
+function typedLines(t: TypedSummary): string[] {
+  const from = { declared: 'declared', features: 'feature rows', labels: 'labels/masks', ids: 'largest id + 1' } as const;
+  const types = Object.entries(t.nodeTypes).map(([name, n]) => `${name} ${n}${t.nodeCountFrom?.[name] ? ` (${from[t.nodeCountFrom[name]!]})` : ''}`);
+  return [
+    `  node types: ${types.join(', ')}`,
+    ...t.relations.map((r) => `  relation ${r.source} —${r.name}→ ${r.target}: ${r.edges} edge entries`),
+  ];
 }
 
 function fmt(x: number): string {

@@ -12,6 +12,9 @@ import { baseOf, dirOf } from '../paths';
 import { guessRole, type RoleGuess } from './roles';
 import { tensorStats } from './stats';
 import { timed } from '../timing';
+import type { CheckLimits } from './graph-check-types';
+import { checkTypedGraph, isTypedCheck, typedGraphParts, typedRoles } from '../typed/check';
+import { typedGraphsIn } from '../typed/recognise';
 
 export interface LoadedFile {
   path: string;
@@ -143,13 +146,14 @@ export function checkSet(files: LoadedFile[], manifests: LoadedManifest[], cli: 
     return { options, severity };
   };
 
-  const run = (name: string, parts: GraphPart[], options: GraphOptions, severity: SeverityOverrides) => {
+  const run = (name: string, parts: GraphPart[], options: GraphOptions, severity: SeverityOverrides,
+    checker: (o: GraphOptions, l: CheckLimits) => GraphCheck = (o, l) => checkGraph(parts, o, l)) => {
     if (focus) {
       if (!parts.some((p) => focus(p.file))) return;
       for (const p of parts) inChecked.add(normalise(p.file));
     }
     const merged: GraphOptions = { ...definedOnly(cli.defaults ?? {}), ...options, ...definedOnly(cli) };
-    const check = timed('checks', () => checkGraph(parts, merged, cli.maxFileBytes !== undefined ? { maxFileBytes: cli.maxFileBytes } : {}));
+    const check = timed('checks', () => checker(merged, cli.maxFileBytes !== undefined ? { maxFileBytes: cli.maxFileBytes } : {}));
     const fileSet = [...new Set(parts.map((p) => p.file))];
     graphs.push({ name, files: fileSet, check });
     const sev = { ...severity, ...(cli.severity ?? {}) };
@@ -162,6 +166,7 @@ export function checkSet(files: LoadedFile[], manifests: LoadedManifest[], cli: 
       const r = reports.get(normalise(check.structureFile));
       if (r && !r.graph) r.graph = check.figures;
       if (r && check.edgeSplits && !r.edgeSplits) r.edgeSplits = check.edgeSplits;
+      if (r && isTypedCheck(check) && !r.typed) r.typed = check.typed.summary;
     }
   };
 
@@ -205,6 +210,15 @@ export function checkSet(files: LoadedFile[], manifests: LoadedManifest[], cli: 
         run(g.name, parts, { ...d.options, ...g.options }, d.severity);
       }
     }
+  }
+
+  // 1b. Typed graphs (core/typed): manifest "nodeTypes"/"relations", SRC__REL__DST names, typed objects.
+  const typedLookup = (m: string, f: string) => byPath.get(resolveRelative(dirOf(m), f));
+  for (const tg of typedGraphsIn(files.filter((f) => !claimed.has(normalise(f.path))), goodManifests, typedLookup, manifestProblems)) {
+    for (const p of tg.files) claimed.add(normalise(p));
+    for (const [t, g] of typedRoles(tg)) roleOverride.set(t, g);
+    const d = defaultsFor(tg.structureFile);
+    run(tg.name, typedGraphParts(tg), d.options, d.severity, (o, l) => checkTypedGraph(tg, o, l));
   }
 
   // 2. Everything else: containers and sibling groups, folder by folder.

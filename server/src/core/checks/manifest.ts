@@ -25,6 +25,7 @@ import { ALL_CODES } from '../../../../common/problem-codes';
 import type { GraphOptions, SelfLoopPolicy, SendingRow } from './graph-check';
 import type { Split } from './roles';
 import { DECLARED_PAIRS, type PairRole } from '../splits/edge-splits';
+import { parseTypedGraph, type TypedManifestGraph } from '../typed/manifest';
 
 export type SeverityOverride = Severity | 'off';
 export type SeverityOverrides = Partial<Record<ProblemCode, SeverityOverride>>;
@@ -43,6 +44,8 @@ export interface ManifestGraph {
   name: string;
   parts: TensorRef[];
   options: GraphOptions;
+  /** A typed graph ("nodeTypes" and "relations", core/typed/manifest.ts); `parts` is then empty. */
+  typed?: TypedManifestGraph;
 }
 
 export interface Manifest {
@@ -71,7 +74,7 @@ export function sendingRowOfLegacyFlow(value: unknown): SendingRow | undefined {
 }
 
 const GRAPH_KEYS = new Set<string>(['name', 'edges', 'adjacency', 'features', 'labels', 'splits', 'edgeSplits',
-  'edgeWeights', 'edgeFeatures', ...OPTION_KEYS, LEGACY_FLOW.key]);
+  'edgeWeights', 'edgeFeatures', 'nodeTypes', 'relations', ...OPTION_KEYS, LEGACY_FLOW.key]);
 const TOP_KEYS = new Set<string>(['$schema', 'graphs', 'severity', ...OPTION_KEYS, LEGACY_FLOW.key]);
 const PART_ROLES: ReadonlyArray<[string, Role]> = [
   ['edges', 'edge-index'], ['adjacency', 'adjacency'], ['features', 'features'], ['labels', 'labels'],
@@ -114,6 +117,10 @@ function parseGraph(g: unknown, i: number, renamed: string[]): ManifestGraph {
   for (const k of Object.keys(g)) if (!GRAPH_KEYS.has(k)) throw new ManifestError(`${at}: unknown key "${k}".`);
   const name = g.name === undefined ? `graph ${i + 1}` : g.name;
   if (typeof name !== 'string') throw new ManifestError(`${at}.name must be a string.`);
+  if (g.nodeTypes !== undefined || g.relations !== undefined) {
+    const typed = parseTypedGraph(g, at, parseRef, (m) => { throw new ManifestError(m); });
+    return { name, parts: [], options: parseOptions(g, `${at}.`, renamed), typed };
+  }
   const parts: TensorRef[] = [];
   for (const [key, role] of PART_ROLES) {
     if (g[key] !== undefined) parts.push({ ...parseRef(g[key], `${at}.${key}`), role });
