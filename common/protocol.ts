@@ -164,6 +164,11 @@ export interface FieldOptions {
   selfLoops?: boolean;
   /** Most nodes to draw (`hopscope.panel.maxDrawnNodes`); the server keeps it within 10..20000. */
   maxNodes?: number;
+  /**
+   * In a dataset of many graphs: the graph (0-based) to walk, taken as a standalone graph with its
+   * local ids (node ids in the request and the answer are then that graph's own).
+   */
+  graph?: number;
 }
 
 /** What every field answer says about how it was computed. */
@@ -238,6 +243,10 @@ export interface FieldViewPayload extends FieldHeader, DrawnEdges {
   weights: number[];
   /** Per drawn node, the value of the label tensor when the graph has one. */
   labels?: Array<string | number | null>;
+  /** In a typed graph: the type of each drawn node and the field's members per hop and type. */
+  types?: FieldTypes;
+  /** When the request named a graph of a dataset: that graph (0-based) and how many the dataset holds. */
+  graph?: { index: number; of: number };
   /** Drawn field members ("showing shown of total"). */
   shown: number;
   shownPerHop: number[];
@@ -247,6 +256,16 @@ export interface FieldViewPayload extends FieldHeader, DrawnEdges {
   hasFeatures: boolean;
   /** In a typed graph: the node types, each drawn node's type and the per-hop counts per type. */
   nodeTypes?: FieldNodeTypes;
+}
+
+/** Node types of a typed graph's field (FieldViewPayload.types). */
+export interface FieldTypes {
+  /** Node type names, in the order their indices refer to. */
+  names: string[];
+  /** Per drawn node (parallel to `ids`): index into `names`. */
+  ofDrawn: number[];
+  /** perHop[k][t]: field members at hop distance k of type names[t] (all members, not only the drawn). */
+  perHop: number[][];
 }
 
 /**
@@ -343,6 +362,52 @@ export interface SmoothingPayload {
   colsUsed: number;
   nonFinite: number;
 }
+
+/**
+ * A column of numbers packed as the little-endian bytes of a typed array, base64-encoded: one
+ * string per column instead of a JSON array of 100,000 numbers (common/columns.ts packs and unpacks).
+ */
+export interface PackedColumn {
+  dtype: 'int32' | 'float64';
+  length: number;
+  base64: string;
+}
+
+/** Request, client → server: the viewer's table of graphs for a dataset of many graphs (null when the file is none). */
+export namespace DatasetTableRequest {
+  export const method = 'hopscope/datasetTable';
+  export const type = new RequestType<Params, DatasetTable | null, void>(method);
+  export interface Params { uri: string }
+}
+/** One row per graph, as columns (graph g is row g). */
+export interface DatasetTable {
+  file: string;
+  graphs: number;
+  layout: string;
+  /** int32: nodes and edge entries of each graph. */
+  nodes: PackedColumn;
+  edges: PackedColumn;
+  /** Graph labels: class codes (int32 into `classes`, -1 none) or numeric targets (float64, NaN none); null without. */
+  label: { kind: 'class'; classes: string[]; codes: PackedColumn } | { kind: 'value'; values: PackedColumn } | null;
+  /** int32 per graph: 0 none, 1 train, 2 val, 3 test; null without splits. */
+  split: PackedColumn | null;
+  /** int32 per graph: how many of the file's problems name this graph (among their listed places). */
+  problems: PackedColumn;
+  /** Problem codes with their counts of affected graphs, for the table's header. */
+  problemCodes: Array<{ code: string; graphs: number }>;
+}
+
+/** Request, client → server: the accuracy ceiling of message passing for a file (bounded in time). */
+export namespace CeilingRequest {
+  export const method = 'hopscope/ceiling';
+  export const type = new RequestType<Params, CeilingSummary | null, void>(method);
+  export interface Params { uri: string; layers?: number; graph?: number }
+}
+/** What the panel and the hover show of the ceiling: node-level per layer count, or graph-level. */
+export type CeilingSummary =
+  | { task: 'node'; perLayer: Array<{ layers: number; ceiling: number; conflictingNodes: number }>; labelled?: number }
+  | { task: 'graph'; ceiling: number; graphs: number; conflictingGroups: number }
+  | { task: 'none'; reason: string };
 
 /** Initialization options the client sends: the `hopscope.*` settings the server uses (common/settings.ts). */
 export { DEFAULT_SETTINGS, type ServerSettings } from './settings';

@@ -11,6 +11,8 @@ import '@vscode-elements/elements/dist/vscode-tab-panel/index.js';
 import { scaleBand, scaleLinear } from 'd3-scale';
 import { chartSvg, el } from './dom';
 import type { ViewerMessage, ViewerRequest, ViewerState } from '../../common/viewer-messages';
+import { GraphTable, unpackTable } from './viewer-graphs';
+import { datasetFacts, typedTables } from './viewer-typed';
 import type { FileSummary, TensorPage, TensorStats } from '../../common/protocol';
 import type { TensorReport } from '../../server/src/core/checks/check-set';
 import { CODES } from '../../common/problem-codes';
@@ -36,6 +38,10 @@ let fileName = '';
 const pages = new Map<string, TensorPage>(); // key: tensor@pageIndex
 const requested = new Set<string>();
 const stats = new Map<string, TensorStats>();
+/** A dataset's table of graphs: asked for once per summary, kept across renders. */
+let graphTable: GraphTable | undefined;
+let graphNote: string | undefined;
+let graphTableAsked = false;
 
 // ---- text ----------------------------------------------------------------------------------------
 
@@ -55,6 +61,8 @@ function render(): void {
   const r = summary.report;
   app.append(header(r.format, r.graph));
   if (r.problems.length) app.append(problemList(r.problems));
+  if (r.typed) app.append(typedTables(r.typed, r.problems));
+  if (r.dataset) app.append(graphsSection(r.dataset));
   app.append(tensorTable(r.tensors));
   const sel = r.tensors.find((t) => t.name === state.selected) ?? r.tensors[0];
   if (sel) app.append(detail(sel));
@@ -74,7 +82,7 @@ function header(format: string, g: NonNullable<FileSummary['report']>['graph']):
     for (const [k, v] of facts) dl.append(el('span', { class: 'fact' }, el('b', {}, v), k ? ` ${k}` : ''));
     h.append(dl);
   }
-  if (summary?.report?.tensors.some((t) => t.role === 'edge-index' || t.role === 'adjacency')) {
+  if (!summary?.report?.dataset && summary?.report?.tensors.some((t) => t.role === 'edge-index' || t.role === 'adjacency')) {
     const field = el('vscode-button', { secondary: '', id: 'open-field-panel', title: 'What an L-layer message-passing model lets one node hear' }, 'Receptive field…');
     field.addEventListener('click', () => post({ type: 'openFieldPanel' }));
     h.append(field);
@@ -84,6 +92,20 @@ function header(format: string, g: NonNullable<FileSummary['report']>['graph']):
     h.append(el('p', { class: 'muted' }, `Checked as one graph with ${others.join(', ')}`));
   }
   return h;
+}
+
+function graphsSection(d: NonNullable<NonNullable<FileSummary['report']>['dataset']>): HTMLElement {
+  const box = el('section', { class: 'graphs', id: 'graphs' });
+  box.append(el('h2', {}, `Graphs (${d.graphs.toLocaleString('en-US')})`), datasetFacts(d));
+  if (graphTable) {
+    box.append(graphTable.element);
+    // Re-attached: the scroll offset is put back once the table is in the page again.
+    requestAnimationFrame(() => { graphTable?.restore(state.graphScroll ?? 0); });
+  } else {
+    box.append(el('p', { class: 'muted', id: 'graph-table-status' }, graphNote ?? 'Reading the table of graphs…'));
+    if (!graphTableAsked) { graphTableAsked = true; post({ type: 'datasetTable' }); }
+  }
+  return box;
 }
 
 function problemList(problems: NonNullable<FileSummary['report']>['problems']): HTMLElement {
@@ -267,8 +289,25 @@ window.addEventListener('message', (e: MessageEvent<ViewerMessage>) => {
       stats.set(m.stats.tensor, m.stats);
       render();
       break;
+    case 'datasetTable':
+      try {
+        graphTable = m.table ? new GraphTable(unpackTable(m.table), {
+          ...(state.graphSort ? { sort: state.graphSort } : {}),
+          ...(state.graphScroll !== undefined ? { scrollTop: state.graphScroll } : {}),
+          ...(state.graphSelected !== undefined ? { selected: state.graphSelected } : {}),
+          changed: (s) => save({ graphSort: s.sort, graphScroll: s.scrollTop, graphSelected: s.selected }),
+          open: (graph) => post({ type: 'openGraph', graph }),
+        }) : undefined;
+        graphNote = m.table ? undefined : m.note ?? 'No table of graphs for this file.';
+      } catch (err) {
+        graphTable = undefined;
+        graphNote = `The table of graphs could not be shown: ${(err as Error).message}`;
+      }
+      render();
+      break;
     case 'changed':
       pages.clear(); requested.clear(); stats.clear();
+      graphTable = undefined; graphTableAsked = false; graphNote = undefined;
       break;
     case 'error':
       app.prepend(el('p', { class: 'error' }, m.message));
