@@ -193,8 +193,11 @@ export function rowColours(data: ArrayLike<number>, n: number, width: number): {
 // ---------------------------------------------------------------------------------------------
 // The refinement engine
 
-/** Runs refinement rounds on one graph; keeps its scratch buffers between rounds. */
-class Refiner {
+/**
+ * Runs refinement rounds on one graph; keeps its scratch buffers between rounds. Exported for the
+ * accuracy ceiling (ceiling.ts), which refines many graphs jointly with its own stopping rule.
+ */
+export class Refiner {
   private readonly nb: Int32Array;
   private readonly hash: Int32Array;
   private readonly table: ClassTable;
