@@ -12,6 +12,7 @@ import { styler } from './style';
 import { checkPaths, loadManifest, type RelatedProblem, type SkippedFile } from '../node/load';
 import type { CheckSetOptions, FileReport } from '../core/checks/check-set';
 import type { Problem, Severity } from '../core/formats/types';
+import type { DatasetSummary } from '../../../common/report';
 import { severityAtLeast } from '../../../common/problem-codes';
 import { phaseTotals } from '../core/timing';
 import type { TypedSummary } from '../../../common/report';
@@ -146,7 +147,8 @@ function check(args: CheckArgs, io: CliIo): number {
 function jsonFile(f: FileReport) {
   return {
     path: f.path, format: f.format, tensors: f.tensors, graph: f.graph,
-    ...(f.edgeSplits ? { edgeSplits: f.edgeSplits } : {}), ...(f.typed ? { typed: f.typed } : {}), problems: f.problems.map(jsonProblem),
+    ...(f.edgeSplits ? { edgeSplits: f.edgeSplits } : {}), ...(f.typed ? { typed: f.typed } : {}),
+    ...(f.dataset ? { dataset: f.dataset } : {}), problems: f.problems.map(jsonProblem),
   };
 }
 
@@ -156,6 +158,7 @@ function jsonProblem(p: Problem) {
   if (p.relation !== undefined) out.relation = p.relation;
   if (p.nodeType !== undefined) out.nodeType = p.nodeType;
   out.count = p.count;
+  if (p.graph !== undefined) { out.graph = p.graph; out.graphs = p.graphs ?? 1; }
   if (p.line !== undefined) { out.line = p.line; out.column = p.column ?? 1; }
   if (p.locations?.length) out.locations = p.locations.slice(0, 20);
   return out;
@@ -197,6 +200,7 @@ function renderText(files: FileReport[], manifestProblems: Array<{ path: string;
         `${g.duplicateEdges} duplicates, ${g.isolatedNodes} isolated` + (g.indexBase === 1 ? ', 1-based ids' : ''));
     }
     if (f.typed) lines.push(...typedLines(f.typed));
+    if (f.dataset) lines.push(...datasetLines(f.dataset));
     if (f.edgeSplits) {
       const s = f.edgeSplits;
       const side = (n: number | null, what: string) => (n === null ? '' : `${n} ${what}`);
@@ -261,6 +265,20 @@ function typedLines(t: TypedSummary): string[] {
     `  node types: ${types.join(', ')}`,
     ...t.relations.map((r) => `  relation ${r.source} —${r.name}→ ${r.target}: ${r.edges} edge entries`),
   ];
+}
+
+/** The dataset summary: graphs, nodes and edges per graph, labels, splits. */
+function datasetLines(d: DatasetSummary): string[] {
+  const spread = (s: DatasetSummary['nodes']) => `${s.min}–${s.max} per graph (mean ${fmt(s.mean)}), ${s.total} in all`;
+  const lines = [
+    `  dataset: ${d.graphs} graph${d.graphs === 1 ? '' : 's'}; nodes ${spread(d.nodes)}; edge entries ${spread(d.edges)}`,
+  ];
+  if (d.graphLabels) {
+    const shown = d.graphLabels.classes.slice(0, 10).map((c, i) => `${c}: ${d.graphLabels!.counts[i]}`).join(', ');
+    lines.push(`  graph labels: ${d.graphLabels.classes.length} class${d.graphLabels.classes.length === 1 ? '' : 'es'} (${shown}${d.graphLabels.classes.length > 10 ? ', …' : ''})`);
+  }
+  if (d.splits) lines.push(`  splits (graphs): train ${d.splits.train}, val ${d.splits.val}, test ${d.splits.test}`);
+  return lines;
 }
 
 function fmt(x: number): string {

@@ -15,6 +15,7 @@ import { timed } from '../timing';
 import type { CheckLimits } from './graph-check-types';
 import { checkTypedGraph, isTypedCheck, typedGraphParts, typedRoles } from '../typed/check';
 import { typedGraphsIn } from '../typed/recognise';
+import { checkDatasetsIn, type CheckedDataset } from '../datasets/in-check-set';
 
 export interface LoadedFile {
   path: string;
@@ -39,6 +40,8 @@ export interface CheckSetResult {
   graphs: Array<{ name: string; files: string[]; check: GraphCheck }>;
   /** Problems in manifests themselves (shown on the manifest file). */
   manifestProblems: Array<{ path: string; problem: Problem }>;
+  /** Datasets of many graphs found and checked per graph (core/datasets). */
+  datasets?: CheckedDataset[];
 }
 
 export interface CheckSetOptions extends GraphOptions {
@@ -221,6 +224,19 @@ export function checkSet(files: LoadedFile[], manifests: LoadedManifest[], cli: 
     run(tg.name, typedGraphParts(tg), d.options, d.severity, (o, l) => checkTypedGraph(tg, o, l));
   }
 
+  // 1c. Datasets of many graphs (core/datasets): their files are claimed and checked per graph.
+  const datasets = checkDatasetsIn(files.filter((f) => f.result && !claimed.has(normalise(f.path))),
+    (p) => ({ ...definedOnly(cli.defaults ?? {}), ...defaultsFor(p).options, ...definedOnly(cli) }), focus);
+  for (const d of datasets) {
+    for (const p of d.files) { claimed.add(normalise(p)); if (d.checked && focus) inChecked.add(normalise(p)); }
+    for (const { file, problem } of d.problems) {
+      const r = reports.get(normalise(file));
+      const q = applySeverity(problem, { ...defaultsFor(file).severity, ...(cli.severity ?? {}) });
+      if (r && q) r.problems.push(q);
+    }
+    if (d.summary) { const r = reports.get(normalise(d.summary.file)); if (r) r.dataset = d.summary.summary; }
+  }
+
   // 2. Everything else: containers and sibling groups, folder by folder.
   const byDir = new Map<string, LoadedFile[]>();
   for (const f of files) {
@@ -287,7 +303,7 @@ export function checkSet(files: LoadedFile[], manifests: LoadedManifest[], cli: 
     r.problems.sort(byImportance);
   }
 
-  return { files: reported.map((f) => reports.get(normalise(f.path))!), graphs, manifestProblems };
+  return { files: reported.map((f) => reports.get(normalise(f.path))!), graphs, manifestProblems, ...(datasets.length ? { datasets } : {}) };
 }
 
 function applySeverity(p: Problem, overrides: SeverityOverrides): Problem | undefined {

@@ -11,7 +11,7 @@
  * stays as it is (negative or ≥ the graph's node count) for the checks to report; analyses use
  * `inRange` (check.ts) and never see such an edge.
  */
-import type { TensorData } from '../formats/types';
+import type { TensorData, TextLocator } from '../formats/types';
 
 /** A per-node, per-edge or per-graph tensor of the dataset, row-major, with where it came from. */
 export interface DatasetColumn {
@@ -49,6 +49,17 @@ export interface Dataset {
   graphLabels?: DatasetColumn;
   /** Graph indices (0-based) of each split, when the dataset states splits. */
   splits?: { train?: Int32Array; val?: Int32Array; test?: Int32Array };
+  /** Where the edge entries sit, for locations: a 2 × E tensor ('columns') or an E × 2 one ('rows'). */
+  edgeTensor?: { file: string; tensor: string; layout: 'columns' | 'rows'; locator?: TextLocator };
+  /** When the edges were regrouped by graph: the entry's position in `edgeTensor` (else the same position). */
+  edgeColumn?: Int32Array;
+  /**
+   * Edge entries (positions into src/dst, increasing) whose endpoints lie in two graphs (layouts with
+   * global ids): the entry is kept in its sender's graph, its receiver id relative to that graph.
+   */
+  crossGraph?: Int32Array;
+  /** Graph ids were given per node (a batch vector) and were not sorted: nodes were regrouped. */
+  nodeOrder?: Int32Array;
 }
 
 /** Nodes of graph g. */

@@ -1,0 +1,47 @@
+/**
+ * The check set's hook for datasets of many graphs: finds them among the files not yet claimed,
+ * checks each per graph, and says which files they claim (the one-graph checks then leave those
+ * alone), which problems go on which file and which file carries the dataset summary.
+ */
+import type { DatasetSummary, Problem } from '../../../../common/report';
+import type { Dataset } from './model';
+import { findDatasets, type DatasetInputFile } from './read';
+import { checkDataset, summarise, type DatasetCheckOptions } from './check';
+import type { FiledProblem } from './read-common';
+
+export interface CheckedDataset {
+  /** Undefined when the layout was recognised but could not be built (problems say why). */
+  dataset?: Dataset;
+  files: string[];
+  problems: FiledProblem[];
+  summary?: { file: string; summary: DatasetSummary };
+  /** False when a focus left it out: files claimed, nothing checked. */
+  checked: boolean;
+}
+
+export function checkDatasetsIn(
+  files: readonly DatasetInputFile[],
+  optionsFor: (path: string) => DatasetCheckOptions,
+  focus?: (path: string) => boolean,
+): CheckedDataset[] {
+  const out: CheckedDataset[] = [];
+  for (const found of findDatasets(files)) {
+    const checked = !focus || found.files.some(focus);
+    const item: CheckedDataset = { files: found.files, problems: [], checked };
+    if (!checked) { out.push(item); continue; }
+    item.problems.push(...found.problems);
+    if (found.dataset) {
+      const ds = found.dataset;
+      item.dataset = ds;
+      item.problems.push(...checkDataset(ds, optionsFor(ds.structureFile)));
+      item.summary = { file: ds.structureFile, summary: summarise(ds) };
+    }
+    out.push(item);
+  }
+  return out;
+}
+
+/** A dataset's problems without their files (for callers that want one list). */
+export function problemsOf(d: CheckedDataset): Problem[] {
+  return d.problems.map((p) => p.problem);
+}
