@@ -69,6 +69,11 @@ export interface ProblemLocation {
   detail?: string;
   /** In a dataset of many graphs: the graph (0-based) this occurrence is in. */
   graph?: number;
+  /**
+   * In a dataset read from lines of text: the lines (1-based, inclusive) holding that graph's
+   * edges, for the editor to point at the graph's slice.
+   */
+  graphLines?: { first: number; last: number };
 }
 
 export interface Problem {

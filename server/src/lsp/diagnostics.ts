@@ -7,6 +7,17 @@ import { DiagnosticSeverity, type Connection, type Diagnostic, type DiagnosticRe
 import { URI } from 'vscode-uri';
 import type { Problem } from '../core/formats/types';
 
+/**
+ * A dataset problem's message with the graph it is in, unless the message already names it:
+ * "… (graph 17)" or "… (graph 17 and 4 more graphs)".
+ */
+export function withGraph(p: Problem): string {
+  if (p.graph === undefined) return p.message;
+  if (new RegExp(`\\bgraphs? ${p.graph}\\b`).test(p.message)) return p.message;
+  const more = (p.graphs ?? 1) - 1;
+  return `${p.message} (graph ${p.graph}${more > 0 ? ` and ${more} more graph${more === 1 ? '' : 's'}` : ''})`;
+}
+
 export function toDiagnostic(p: Problem, file: string, docsUrl: string, relatedInfo: boolean): Diagnostic {
   const line = Math.max(0, (p.line ?? 1) - 1);
   const col = Math.max(0, (p.column ?? 1) - 1);
@@ -17,18 +28,32 @@ export function toDiagnostic(p: Problem, file: string, docsUrl: string, relatedI
     code: p.code,
     codeDescription: { href: docsUrl + p.code },
     source: 'hopscope',
-    message: p.message,
-    data: { count: p.count },
+    message: withGraph(p),
+    data: { count: p.count, ...(p.graph !== undefined ? { graph: p.graph, graphs: p.graphs ?? 1 } : {}) },
   };
-  if (relatedInfo && p.locations && p.locations.length > 1 && p.line !== undefined) {
+  // Dataset problems: every listed place in a graph, the first one included (the diagnostic's own
+  // range is only the first), each saying which graph; where a place gives its graph's slice of
+  // lines, that slice is pointed at too.
+  const inGraphs = p.locations?.some((l) => l.graph !== undefined) ?? false;
+  if (relatedInfo && p.locations && (p.locations.length > 1 || inGraphs) && p.line !== undefined) {
     const related: DiagnosticRelatedInformation[] = [];
-    for (const l of p.locations.slice(1, 50)) {
+    const uri = URI.file(file).toString();
+    const slices = new Set<number>();
+    for (const l of p.locations.slice(inGraphs ? 0 : 1, 50)) {
       if (l.line === undefined) continue;
       const c0 = (l.column ?? 1) - 1;
+      const where = l.graph !== undefined ? `graph ${l.graph}: ` : '';
       related.push({
-        location: { uri: URI.file(file).toString(), range: { start: { line: l.line - 1, character: c0 }, end: { line: l.line - 1, character: c0 + (l.length ?? 1) } } },
-        message: l.detail ?? `also here`,
+        location: { uri, range: { start: { line: l.line - 1, character: c0 }, end: { line: l.line - 1, character: c0 + (l.length ?? 1) } } },
+        message: where + (l.detail ?? `also here`),
       });
+      if (l.graph !== undefined && l.graphLines && !slices.has(l.graph)) {
+        slices.add(l.graph);
+        related.push({
+          location: { uri, range: { start: { line: l.graphLines.first - 1, character: 0 }, end: { line: l.graphLines.last, character: 0 } } },
+          message: `graph ${l.graph}: its lines ${l.graphLines.first}–${l.graphLines.last}`,
+        });
+      }
     }
     if (related.length) d.relatedInformation = related;
   }

@@ -7,6 +7,8 @@ import { isSupportedFile } from '../core/formats';
 import { CODES } from '../../../common/problem-codes';
 import type { ProblemCode } from '../core/formats/types';
 import type { NodeInfo } from '../../../common/protocol';
+import type { DatasetSummary, TypedSummary } from '../../../common/report';
+import type { CeilingResult } from '../../../common/ceiling';
 
 export interface Literal {
   text: string;
@@ -60,8 +62,57 @@ export function escapeMarkdown(s: string): string {
 }
 
 
+/** What the hover says of the accuracy ceiling: the worker's answer, still computing, or why there is none. */
+export type CeilingHover = CeilingResult | { computing: true } | { error: string };
+
+const pct = (x: number) => `${(100 * x).toFixed(x >= 0.9995 || x === 0 ? 0 : 1)}%`;
+const num = (x: number) => x.toLocaleString('en-US');
+const spread = (s: DatasetSummary['nodes']) => `${num(s.min)}–${num(s.max)} (mean ${s.mean.toFixed(1)})`;
+
+/** A dataset of many graphs in a few lines: graphs, nodes and edges per graph, label classes, splits. */
+export function datasetMarkdown(d: DatasetSummary): string[] {
+  const lines = [`**Dataset of ${num(d.graphs)} graph${d.graphs === 1 ? '' : 's'}** · nodes per graph ${spread(d.nodes)} · edge entries per graph ${spread(d.edges)}`, ''];
+  if (d.graphLabels) {
+    const shown = d.graphLabels.classes.slice(0, 10).map((c, i) => `${escapeMarkdown(c)}: ${num(d.graphLabels!.counts[i] ?? 0)}`);
+    const more = d.graphLabels.classes.length > 10 ? `, … ${d.graphLabels.classes.length - 10} more` : '';
+    lines.push(`Graph labels: ${d.graphLabels.classes.length} class${d.graphLabels.classes.length === 1 ? '' : 'es'} (${shown.join(', ')}${more})`, '');
+  } else lines.push('No graph labels.', '');
+  if (d.splits) lines.push(`Splits: train ${num(d.splits.train)} · val ${num(d.splits.val)} · test ${num(d.splits.test)}`, '');
+  return lines;
+}
+
+/** A typed graph: node types with counts, relations with their edge entries. */
+export function typedMarkdown(t: TypedSummary): string[] {
+  const types = Object.entries(t.nodeTypes);
+  const lines = [`**Typed graph**: ${types.map(([k, v]) => `${escapeMarkdown(k)} (${num(v)})`).join(', ')}`, ''];
+  if (t.relations.length) {
+    lines.push('| source | relation | target | edge entries |', '|---|---|---|---:|');
+    for (const r of t.relations.slice(0, 12)) lines.push(`| ${escapeMarkdown(r.source)} | ${escapeMarkdown(r.name)} | ${escapeMarkdown(r.target)} | ${num(r.edges)} |`);
+    if (t.relations.length > 12) lines.push(`| … ${t.relations.length - 12} more | | | |`);
+    lines.push('');
+  }
+  return lines;
+}
+
+/** The accuracy ceiling in one or two lines (what the number means, briefly). */
+export function ceilingMarkdown(c: CeilingHover): string[] {
+  if ('computing' in c) return ['Accuracy ceiling of message passing: computing… (hover again in a moment)', ''];
+  if ('error' in c) return [];
+  if (c.task === 'graph') {
+    if (c.ceiling === null) {
+      return [`Numeric targets: ${num(c.conflictingGroups)} group${c.conflictingGroups === 1 ? '' : 's'} of graphs 1-WL cannot tell apart hold different targets` +
+        (c.errorFloor ? ` (lowest reachable mean squared error ${c.errorFloor.mse.toPrecision(3)})` : '') + '.', ''];
+    }
+    return [`**Accuracy ceiling ${pct(c.ceiling)}**: no message-passing model without extra node features can classify more of these ${num(c.labelled)} labelled graphs correctly ` +
+      `(${num(c.conflictingGroups)} group${c.conflictingGroups === 1 ? '' : 's'} of 1-WL-equivalent graphs carry different labels).`, ''];
+  }
+  if (!c.perLayer.length) return [];
+  const steps = c.perLayer.map((l) => `L=${l.layers}: ${pct(l.ceiling)}`).join(' · ');
+  return [`**Accuracy ceiling by layers** (${num(c.labelled)} labelled nodes): ${steps}`, ''];
+}
+
 /** Markdown summary of a checked file, for hovers on its path. */
-export function fileSummaryMarkdown(name: string, report: FileReport, opts: { size?: number; graphFiles?: string[]; viewerCommand?: string; fieldCommand?: string } = {}): string {
+export function fileSummaryMarkdown(name: string, report: FileReport, opts: { size?: number; graphFiles?: string[]; viewerCommand?: string; fieldCommand?: string; ceiling?: CeilingHover } = {}): string {
   const lines: string[] = [];
   const size = opts.size !== undefined ? ` · ${formatBytes(opts.size)}` : '';
   lines.push(`**${escapeMarkdown(name)}** — ${report.format}${size}`, '');
@@ -73,6 +124,9 @@ export function fileSummaryMarkdown(name: string, report: FileReport, opts: { si
     if (report.tensors.length > 12) lines.push(`| … ${report.tensors.length - 12} more | | | |`);
     lines.push('');
   }
+  if (report.dataset) lines.push(...datasetMarkdown(report.dataset));
+  if (report.typed) lines.push(...typedMarkdown(report.typed));
+  if (opts.ceiling) lines.push(...ceilingMarkdown(opts.ceiling));
   const g = report.graph;
   if (g) {
     lines.push(`${g.nodes} nodes · ${g.edges} edge entries · ${g.directed ? 'directed' : 'undirected'} · ` +
