@@ -17,6 +17,7 @@ import { sendingRowOfLegacyFlow } from '../core/checks/manifest';
 import { influenceRow } from '../core/graph/propagation/influence';
 import { PairFieldWalker, type PairField } from '../core/graph/propagation/pair-field';
 import type { LoadedGraph } from '../node/graph-input';
+import { perHopByType, typedNodeId, typeOfId } from '../core/typed/field';
 
 const MAX_LAYERS = 64;
 const DEFAULT_TOP = 50;
@@ -31,7 +32,9 @@ how much of the graph that is, and which nodes weigh most in V's output under GC
 merged; Kipf & Welling 2017).
 
 Options:
-  --node V                    node id as written in the file (ids of a 1-based file stay 1-based)
+  --node V                    node id as written in the file (ids of a 1-based file stay 1-based);
+                              in a typed graph --node TYPE:ID (e.g. paper:3) counts the field per
+                              hop and per node type
   --pair U,V                  instead of --node: what the model sees of the pair U, V (link
                               prediction): each end's field, their union and overlap per hop,
                               whether the pair's own edge is in the message-passing graph, and
@@ -61,6 +64,8 @@ interface FieldArgs {
   file: string;
   /** The --node id, or the first end of --pair. */
   node: number;
+  /** `--node TYPE:ID` in a typed graph: the type (node is then the id within it). */
+  nodeType?: string;
   /** The second end of --pair (pair mode when set). */
   other?: number;
   layers: number;
@@ -96,21 +101,29 @@ function parseFieldArgs(argv: string[]): FieldArgs {
   if (v.node !== undefined && v.pair !== undefined) throw new UsageError('give either --node or --pair, not both');
   if (v.node === undefined && v.pair === undefined) throw new UsageError('--node is required (or --pair U,V for a node pair)');
   let node: number, other: number | undefined;
+  let nodeType: string | undefined;
   if (v.pair !== undefined) {
     [node, other] = pairOption(v.pair);
     for (const [flag, given] of [['--top', v.top], ['--random-walk', v['random-walk']], ['--curve', v.curve]] as const) {
       if (given !== undefined) throw new UsageError(`${flag} applies to --node only, not to --pair`);
     }
   } else {
-    if (/^-\d/.test(v.node!)) throw new UsageError(`--node must be a node id (0 or more), got "${v.node}"`);
-    node = wholeNumber('--node', v.node!);
+    const typed = /^(.+):([^:]*)$/.exec(v.node!);
+    if (typed) {
+      if (/^-\d/.test(typed[2]!)) throw new UsageError(`--node TYPE:ID takes an id of 0 or more, got "${v.node}"`);
+      nodeType = typed[1]!;
+      node = wholeNumber('--node', typed[2]!);
+    } else {
+      if (/^-\d/.test(v.node!)) throw new UsageError(`--node must be a node id (0 or more), got "${v.node}"`);
+      node = wholeNumber('--node', v.node!);
+    }
   }
   const layers = optionalWhole('--layers', v.layers, 0, MAX_LAYERS);
   if (layers === undefined) throw new UsageError('--layers is required');
   const top = optionalWhole('--top', v.top);
   const sendingRow = sendingRowOption(v['sending-row'], v.flow);
   return {
-    file: files[0]!, node, layers, options: graphOptions(v), ...(other !== undefined ? { other } : {}),
+    file: files[0]!, node, layers, options: graphOptions(v), ...(other !== undefined ? { other } : {}), ...(nodeType !== undefined ? { nodeType } : {}),
     symmetrise: v.symmetrise === true || v.symmetrize === true, randomWalk: v['random-walk'] === true, curve: v.curve === true, json: v.json === true,
     ...(sendingRow !== undefined ? { sendingRow } : {}), ...(top !== undefined ? { top } : {}),
   };
@@ -144,6 +157,13 @@ function run(argv: string[], io: CliIo): number {
 function fieldReport(argv: string[], io: CliIo): number {
   const args = parseFieldArgs(argv);
   const g = loadGraph(args.file, args.options);
+  if (args.nodeType !== undefined) {
+    // `--node TYPE:ID`: the id within its type, mapped into the types-forgotten graph.
+    if (!g.types) { io.err(`hopscope field: --node ${args.nodeType}:${args.node} names a node type, but ${args.file} is not a typed graph (give a plain id)\n`); return 2; }
+    const u = typedNodeId(g.types, args.nodeType, args.node);
+    if (typeof u !== 'number') { io.err(`hopscope field: --node ${u.error}\n`); return 2; }
+    return typedFieldReport(args, g, u, io);
+  }
   const base = g.figures.indexBase;
   const v = args.node - base;
   if (g.n === 0) { io.err(`hopscope field: ${args.file} has no nodes\n`); return 2; }
@@ -211,6 +231,60 @@ function fieldReport(argv: string[], io: CliIo): number {
     lines.push(c('dim', '  layers   median    90th pct'));
     curve.layers.forEach((L, i) => lines.push(`  ${String(L).padStart(6)}   ${pct(curve.median[i]!).padStart(6)}   ${pct(curve.p90[i]!).padStart(9)}`));
   }
+  io.out(lines.join('\n') + '\n');
+  return 0;
+}
+
+/**
+ * `--node TYPE:ID` in a typed graph: the field per hop and per type, and the strongest influences
+ * named by type and id (the types-forgotten graph's GCN propagation).
+ */
+function typedFieldReport(args: FieldArgs, g: LoadedGraph, v: number, io: CliIo): number {
+  const space = g.types!;
+  const errors = g.problems.filter((p) => p.severity === 'error').length;
+  if (errors) {
+    io.err(`hopscope field: note: ${args.file} has ${errors} error${errors === 1 ? '' : 's'} (see hopscope check); the analysis uses the edges that are in range\n`);
+  }
+  const sendingRow: SendingRow = args.sendingRow ?? g.options.sendingRow ?? 0;
+  const field = new FieldWalker(g).field(v, args.layers, { sendingRow, symmetrise: args.symmetrise });
+  const byType = perHopByType(space, field.nodes, field.hops, args.layers);
+  const top = args.top ?? (args.json ? DEFAULT_TOP : DEFAULT_TOP_TABLE);
+  const infl = influenceRow(g, v, args.layers, { top, norm: args.randomWalk ? 'random-walk' : 'gcn' });
+  const named = (u: number) => { const t = typeOfId(space.offsets, u); return { nodeType: space.names[t]!, id: u - space.offsets[t]! }; };
+  const influence = Array.from(infl.topNodes, (u, i) => ({ ...named(u), weight: infl.topWeights[i]! }));
+  const centre = `${args.nodeType}:${args.node}`;
+  if (args.json) {
+    const perHopByTypeJson = Object.fromEntries(space.names.map((t, ti) => [t, byType.map((row) => row[ti]!)]));
+    const totalByType = Object.fromEntries(space.names.map((t, ti) => [t, byType.reduce((a, row) => a + row[ti]!, 0)]));
+    const out = {
+      node: centre, nodeType: args.nodeType, id: args.node, layers: args.layers, sendingRow, symmetrised: args.symmetrise,
+      perHop: field.perHop, perHopByType: perHopByTypeJson, total: field.total, totalByType, coverage: field.coverage,
+      nodeTypes: Object.fromEntries(space.names.map((t, ti) => [t, space.counts[ti]!])), influence,
+    };
+    io.out(JSON.stringify(out, null, 2) + '\n');
+    return 0;
+  }
+  const c = styler(io);
+  const how = args.symmetrise ? 'both ways along every edge' : `from row ${sendingRow} to row ${1 - sendingRow} of each relation`;
+  const w = Math.max(7, ...space.names.map((t) => t.length));
+  const lines: string[] = [];
+  lines.push(c('bold', `Node ${centre}, ${args.layers} layer${args.layers === 1 ? '' : 's'}`) +
+    c('dim', `  (${args.file}: ${space.names.map((t, ti) => `${space.counts[ti]} ${t}`).join(', ')}; messages ${how})`));
+  lines.push('');
+  lines.push(c('dim', `  hop   ${'all'.padStart(7)}   ${space.names.map((t) => t.padStart(w)).join('   ')}`));
+  field.perHop.forEach((count, k) => {
+    lines.push(`  ${String(k).padStart(3)}   ${String(count).padStart(7)}   ${byType[k]!.map((x) => String(x).padStart(w)).join('   ')}`);
+  });
+  const totals = space.names.map((_, ti) => byType.reduce((a, row) => a + row[ti]!, 0));
+  lines.push(c('dim', `  all   ${String(field.total).padStart(7)}   ${totals.map((x) => String(x).padStart(w)).join('   ')}`));
+  lines.push('');
+  lines.push(`  Within ${args.layers} layer${args.layers === 1 ? '' : 's'}, node ${centre} hears from ` +
+    space.names.map((t, ti) => `${totals[ti]} of ${space.counts[ti]} ${t} nodes`).join(', ') + ' (itself included).');
+  const silent = space.names.filter((_, ti) => totals[ti] === 0);
+  if (silent.length) lines.push(c('yellow', `  No ${silent.join(' or ')} node reaches it: those types add nothing to its output at this depth.`));
+  lines.push('');
+  lines.push(c('bold', `Strongest influence on node ${centre}`) + c('dim', `  (${influence.length} of ${infl.support} nodes, types forgotten)`));
+  for (const x of influence) lines.push(`  ${`${x.nodeType}:${x.id}`.padStart(w + 8)}   ${x.weight.toFixed(6)}`);
   io.out(lines.join('\n') + '\n');
   return 0;
 }

@@ -14,7 +14,10 @@ import * as fs from 'node:fs';
 import * as path from 'node:path';
 import type { CheckSetOptions } from '../core/checks/check-set';
 import type { DenseTensor } from '../core/formats/types';
-import { DEFAULT_MAX_EDGES, FieldAnalyzer, smoothingSummary } from '../core/graph/field-view';
+import { DEFAULT_MAX_EDGES, FieldAnalyzer, smoothingSummary, type FieldView } from '../core/graph/field-view';
+import { FieldWalker } from '../core/graph/propagation/field';
+import type { TypeSpace } from '../core/typed/check';
+import { perHopByType, typedNodeId, typeOfId } from '../core/typed/field';
 import { PairFieldWalker } from '../core/graph/propagation/pair-field';
 import { StructureAnalyzer } from '../core/graph/structure-view';
 import { labelVector } from '../core/graph/propagation/homophily';
@@ -22,7 +25,7 @@ import type { Cancel } from '../core/cancel';
 import { GraphLoadError, loadGraph, type LoadedGraph } from './graph-input';
 import { manifestsAbove } from './load';
 import type {
-  BottlenecksPayload, FieldOptions, FieldViewPayload, FieldViewRequest, PairFieldPayload, PairFieldRequest, SmoothingPayload, WlClassesPayload,
+  BottlenecksPayload, FieldNodeTypes, FieldOptions, FieldViewPayload, FieldViewRequest, PairFieldPayload, PairFieldRequest, SmoothingPayload, WlClassesPayload,
 } from '../../../common/protocol';
 import type { SendingRow } from '../../../common/report';
 import type { AnalysisError } from './worker-methods';
@@ -42,6 +45,8 @@ interface Entry {
   stamp: string;
   graph: LoadedGraph;
   field: FieldAnalyzer;
+  /** A typed graph's walker for the per-type counts (made on first use). */
+  typeWalker?: FieldWalker;
   /** The pair view's walker (made on first use, sharing `field`). */
   pair?: PairFieldWalker;
   structure: StructureAnalyzer;
@@ -84,12 +89,13 @@ export class AnalysisService {
     if ('error' in e) return e;
     const g = e.graph;
     const base = g.figures.indexBase;
-    const v = this.node(g, p.node);
+    const v = p.nodeType !== undefined ? typedNode(g, p.nodeType, p.node) : this.node(g, p.node);
     if (typeof v !== 'number') return v;
     const o = fieldOptions(g, p);
     if ('error' in o) return o;
     const { sendingRow, symmetrise, selfLoops, maxNodes } = o;
     const view = e.field.view(v, p.layers, { sendingRow, symmetrise, selfLoops, maxNodes, ...(cancel ? { cancel } : {}) });
+    const nodeTypes = g.types ? fieldNodeTypes(g.types, e, v, view, { sendingRow, symmetrise, selfLoops }, cancel) : undefined;
     const key = `${sendingRow}|${symmetrise}|${selfLoops}`;
     let coverageCurve = e.coverage.get(key);
     if (!coverageCurve) {
@@ -108,6 +114,7 @@ export class AnalysisService {
       edges: Array.from(view.edgeEnds), edgeDirs: Array.from(view.edgeDirs), edgesTotal: view.edgesTotal,
       coverageCurve, hasFeatures: g.features !== undefined,
       fileErrors: g.problems.filter((x) => x.severity === 'error').length,
+      ...(nodeTypes ? { nodeTypes } : {}),
     };
   }
 
@@ -235,6 +242,41 @@ export class AnalysisService {
     }
     return entry;
   }
+}
+
+/** `nodeType` + id within it → the types-forgotten graph's id, or a message. */
+function typedNode(g: LoadedGraph, nodeType: string, node: number): number | AnalysisError {
+  if (!g.types) return { error: `${path.basename(g.file)} is not a typed graph: give the node without a type.` };
+  const u = typedNodeId(g.types, nodeType, node);
+  return typeof u === 'number' ? u : { error: `${u.error[0]!.toUpperCase()}${u.error.slice(1)}.` };
+}
+
+/**
+ * The node types of a field answer (common/protocol.ts FieldNodeTypes): each drawn node's type and
+ * id within it, and the members per hop and per type. With self-loops the members are the ball the
+ * walker gives; without, the walk frontier of exactly `layers` steps, each at its shortest distance.
+ */
+function fieldNodeTypes(space: TypeSpace, e: Entry, v: number, view: FieldView,
+  o: { sendingRow: SendingRow; symmetrise: boolean; selfLoops: boolean }, cancel?: Cancel): FieldNodeTypes {
+  const walker = (e.typeWalker ??= new FieldWalker(e.graph));
+  const ball = walker.field(v, view.layers, { sendingRow: o.sendingRow, symmetrise: o.symmetrise, ...(cancel ? { cancel } : {}) });
+  let nodes: ArrayLike<number> = ball.nodes, hops: ArrayLike<number> = ball.hops;
+  if (!o.selfLoops) {
+    const frontier = Int32Array.from(e.field.walkFrontier(v, view.layers, o.sendingRow, o.symmetrise, undefined, cancel));
+    nodes = frontier;
+    hops = Int32Array.from(frontier, (u) => walker.hopOf(u));
+  }
+  const typeOf: number[] = [], localIds: number[] = [];
+  for (const u of view.ids) {
+    const t = typeOfId(space.offsets, u);
+    typeOf.push(t);
+    localIds.push(u - space.offsets[t]!);
+  }
+  const c = typeOfId(space.offsets, v);
+  return {
+    names: space.names, counts: space.counts, offsets: space.offsets, typeOf, localIds,
+    perHop: perHopByType(space, nodes, hops, view.layers), centre: { type: space.names[c]!, id: v - space.offsets[c]! },
+  };
 }
 
 /** mtime and size of every file of the graph and of the manifests above it. */

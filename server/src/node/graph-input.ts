@@ -9,6 +9,7 @@ import type { DenseTensor, Problem } from '../core/formats/types';
 import type { CheckSetOptions } from '../core/checks/check-set';
 import type { GraphFigures, GraphOptions } from '../core/checks/graph-check';
 import { checkPaths, type LoadOptions } from './load';
+import { isTypedCheck, type TypeSpace } from '../core/typed/check';
 
 export interface LoadedGraph {
   file: string;
@@ -28,6 +29,8 @@ export interface LoadedGraph {
   options: GraphOptions;
   /** The files the graph was read from (absolute): the structure file, siblings, manifest parts. */
   files: string[];
+  /** A typed graph (core/typed): how its node types share the id space of this (types-forgotten) graph. */
+  types?: TypeSpace;
 }
 
 export class GraphLoadError extends Error {
@@ -50,7 +53,9 @@ export function loadGraph(file: string, options: CheckSetOptions = {}, load: Loa
   const unreadable = report?.problems.find((p) => p.code === 'unreadable');
   if (!report || unreadable) throw new GraphLoadError(unreadable?.message ?? `${file}: could not be read`);
   const abs = path.resolve(file);
-  const g = r.graphs.find((x) => x.check.structureFile !== null && path.resolve(x.check.structureFile) === abs && x.check.structure);
+  const g = r.graphs.find((x) => x.check.structureFile !== null && path.resolve(x.check.structureFile) === abs && x.check.structure) ??
+    // A typed graph of sibling files is found from any of its files.
+    r.graphs.find((x) => isTypedCheck(x.check) && x.check.structure && x.files.some((f) => path.resolve(f) === abs));
   if (!g || !g.check.structure || !g.check.figures) {
     throw new GraphLoadError(`${file}: no edge index or adjacency matrix found (tensors: ${report.tensors.map((t) => `${t.name} ${t.role}`).join(', ') || 'none'})`);
   }
@@ -58,13 +63,15 @@ export function loadGraph(file: string, options: CheckSetOptions = {}, load: Loa
   if (s.ids) throw new GraphLoadError(tooManyNodes(file, g.check.figures, s.ids));
   const parts = g.check.parts;
   const dense = (role: string) => parts.find((p) => p.guess.role === role && p.tensor.kind === 'dense')?.tensor as DenseTensor | undefined;
-  const features = dense('features');
-  const labels = dense('labels');
+  // A typed graph's per-node tensors are per type: none of them covers the types-forgotten graph.
+  const features = isTypedCheck(g.check) ? undefined : dense('features');
+  const labels = isTypedCheck(g.check) ? undefined : dense('labels');
   return {
     file, n: s.figures.nodes, src: s.src, dst: s.dst, fwd: s.fwd, rev: s.rev,
     ...(features ? { features } : {}), ...(labels ? { labels } : {}),
     figures: g.check.figures, problems: report.problems, options: g.check.options,
     files: g.files.map((f) => path.resolve(f)),
+    ...(isTypedCheck(g.check) ? { types: g.check.typed.space } : {}),
   };
 }
 

@@ -10,6 +10,8 @@ import { withoutGraphTensors } from '../core/formats/json';
 import { checkSet, type CheckSetOptions, type CheckSetResult, type LoadedFile, type LoadedManifest } from '../core/checks/check-set';
 import { ManifestError, parseManifest } from '../core/checks/manifest';
 import { roleFromName } from '../core/checks/roles';
+import { isTypedFileName } from '../core/typed/recognise';
+import { typedManifestFiles } from '../core/typed/manifest';
 import { timed } from '../core/timing';
 import { readNpyStreaming } from './npy-stream';
 import { collectGarbage } from './collect-garbage';
@@ -372,7 +374,7 @@ export function checkPaths(inputs: string[], options: CheckSetOptions = {}, load
   const declared = new Set<string>();
   for (const m of manifests) {
     for (const g of m.manifest?.graphs ?? []) {
-      for (const ref of g.parts) {
+      for (const ref of [...g.parts, ...(g.typed ? typedManifestFiles(g.typed) : [])]) {
         const f = path.resolve(path.dirname(m.path), ref.file);
         filePaths.add(f);
         declared.add(f);
@@ -486,7 +488,7 @@ function siblings(dir: string): string[] {
     return [];
   }
   return names
-    .filter((n) => readerFor(n) && roleFromName(n.replace(/\.[^.]*(\.gz)?$/, '')) !== undefined)
+    .filter((n) => readerFor(n) && (roleFromName(n.replace(/\.[^.]*(\.gz)?$/, '')) !== undefined || isTypedFileName(n)))
     .map((n) => path.join(dir, n))
     .filter(isRegularFile); // as folder scans do: a pipe named x.npy is not read
 }

@@ -129,3 +129,8 @@ export function typedFromManifest(name: string, m: TypedManifestGraph, lookup: (
   for (const t of nodeTypes) t.parts.forEach((p) => files.add(p.file));
   return { graph: { name, layout: 'manifest', structureFile: relations[0]!.edges.file, files: [...files], nodeTypes, relations }, missing };
 }
+
+/** Every file a typed manifest graph names (read as the manifest says, like a graph's parts). */
+export function typedManifestFiles(m: TypedManifestGraph): TypedRef[] {
+  return [...m.nodeTypes.flatMap((t) => t.refs), ...m.relations.flatMap((r) => [r.edges, ...r.refs])];
+}

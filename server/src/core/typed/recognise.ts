@@ -19,7 +19,7 @@
  */
 import type { Problem, ReadResult, Tensor } from '../formats/types';
 import { typedFromManifest, type TypedManifestGraph } from './manifest';
-import { guessRole, isIntegerDType, type RoleGuess } from '../checks/roles';
+import { guessRole, isIntegerDType, roleFromName, type RoleGuess } from '../checks/roles';
 import { baseOf, dirOf } from '../paths';
 import type { NodeType, Relation, TypedGraph, TypedLayout, TypedPart } from './model';
 import { relationKey } from './model';
@@ -228,4 +228,11 @@ export function typedGraphsIn(files: ReadFile[], manifests: ManifestGraphs[], lo
   }
   out.push(...findTypedGraphs(files.filter((f) => !taken.has(f.path))));
   return out;
+}
+
+/** Whether a file name (`author__writes__paper.npy`, `paper__x.npy`) is a typed sibling's, read beside a file given alone. */
+export function isTypedFileName(fileName: string): boolean {
+  const p = parseTypedName(baseOf(fileName).replace(/\.[^.]*(\.gz)?$/, ''));
+  if (p === null || p.form !== 'names' || p.prefix !== '') return false;
+  return p.kind === 'relation' || p.key === 'num_nodes' || roleFromName(p.key) !== undefined;
 }
