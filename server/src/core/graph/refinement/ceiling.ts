@@ -646,7 +646,7 @@ function perLayer(
   labelled: number, layers: number, cancel?: Cancel,
 ): { perLayer: NodeCeilingLayer[]; stableAfter: number | null } {
   const ref = new Refiner(g, cancel);
-  let cur: Int32Array = start.colours, k = start.classes, next: Int32Array = new Int32Array(g.n);
+  let cur: Int32Array = start.colours.slice(), k = start.classes, next: Int32Array = new Int32Array(g.n);
   const out: NodeCeilingLayer[] = [nodeLayerFigures(cur, k, cls, C, 0, labelled)];
   let stableAfter: number | null = null;
   for (let L = 1; L <= layers; L++) {
