@@ -20,6 +20,7 @@ import { readArriving } from './file-stream';
 import { assertEdgeListText, NotEdgeListError, notEdgeListReason, readEdgeList, type EdgeListReadResult } from '../core/formats/edgelist';
 import { assertText, wideEncoding } from '../core/formats/text/encoding';
 import { throwIfCancelled, type Cancel } from '../core/cancel';
+import { isDatasetText, readColumnsText } from '../core/datasets/text-files';
 
 /** What loadFile consults before reading a file again (the graph store's LRU). */
 export interface FileCache {
@@ -182,8 +183,10 @@ export function loadFile(p: string, opts: LoadOptions = {}, asEdgeList = false):
     const limits = opts.limits ?? DEFAULT_LIMITS;
     stamp = { abs, mtimeMs: st.mtimeMs, size };
     opts.onRead?.(abs);
-    probeText(p, reader.format, size, asEdgeList);
-    const result = timed('read', () => readLarge(p, reader.format, size, limits, asEdgeList))
+    // Text files of a dataset folder (a graph indicator, counts per graph): numeric tables, not edge lists.
+    const table = !asEdgeList && datasetText(p) ? timed('read', () => readColumnsText(readWhole(p, size), p, limits)) : undefined;
+    if (!table) probeText(p, reader.format, size, asEdgeList);
+    const result = table ?? timed('read', () => readLarge(p, reader.format, size, limits, asEdgeList))
       ?? timed('read', () => reader.format === 'edgelist'
         ? readEdgeList(readWhole(p, size), p, limits, undefined, { asEdgeList })
         : reader.read(readWhole(p, size), p, limits));
@@ -480,6 +483,11 @@ function tensorBytes(f: LoadedFile): number {
   return b;
 }
 
+/** Whether a text file belongs to a dataset folder (core/datasets/text-files.ts). */
+function datasetText(p: string): boolean {
+  return isDatasetText(path.resolve(p).replace(/\\/g, '/'), (q) => isRegularFile(q));
+}
+
 function siblings(dir: string): string[] {
   let names: string[];
   try {
@@ -488,7 +496,7 @@ function siblings(dir: string): string[] {
     return [];
   }
   return names
-    .filter((n) => readerFor(n) && (roleFromName(n.replace(/\.[^.]*(\.gz)?$/, '')) !== undefined || isTypedFileName(n)))
+    .filter((n) => readerFor(n) && (roleFromName(n.replace(/\.[^.]*(\.gz)?$/, '')) !== undefined || isTypedFileName(n) || datasetText(path.join(dir, n))))
     .map((n) => path.join(dir, n))
     .filter(isRegularFile); // as folder scans do: a pipe named x.npy is not read
 }
