@@ -11,6 +11,7 @@
  */
 import { NotificationType, RequestType, RequestType0 } from 'vscode-languageserver-protocol';
 import type { FileReport, SendingRow } from './report';
+import type { CeilingResult } from './ceiling';
 
 /** Request, client → server: everything known about one graph file (from the cache when fresh). */
 export namespace FileSummaryRequest {
@@ -243,8 +244,6 @@ export interface FieldViewPayload extends FieldHeader, DrawnEdges {
   weights: number[];
   /** Per drawn node, the value of the label tensor when the graph has one. */
   labels?: Array<string | number | null>;
-  /** In a typed graph: the type of each drawn node and the field's members per hop and type. */
-  types?: FieldTypes;
   /** When the request named a graph of a dataset: that graph (0-based) and how many the dataset holds. */
   graph?: { index: number; of: number };
   /** Drawn field members ("showing shown of total"). */
@@ -256,16 +255,6 @@ export interface FieldViewPayload extends FieldHeader, DrawnEdges {
   hasFeatures: boolean;
   /** In a typed graph: the node types, each drawn node's type and the per-hop counts per type. */
   nodeTypes?: FieldNodeTypes;
-}
-
-/** Node types of a typed graph's field (FieldViewPayload.types). */
-export interface FieldTypes {
-  /** Node type names, in the order their indices refer to. */
-  names: string[];
-  /** Per drawn node (parallel to `ids`): index into `names`. */
-  ofDrawn: number[];
-  /** perHop[k][t]: field members at hop distance k of type names[t] (all members, not only the drawn). */
-  perHop: number[][];
 }
 
 /**
@@ -310,7 +299,7 @@ export interface PairFieldPayload extends FieldHeader, DrawnEdges {
 export namespace WlClassesRequest {
   export const method = 'hopscope/wlClasses';
   export const type = new RequestType<Params, WlClassesPayload, void>(method);
-  export interface Params { uri: string; nodes: number[] }
+  export interface Params { uri: string; nodes: number[]; graph?: number }
 }
 export interface WlClassesPayload {
   classesPerRound: number[];
@@ -330,7 +319,7 @@ export namespace BottlenecksRequest {
   export const method = 'hopscope/bottlenecks';
   export const type = new RequestType<Params, BottlenecksPayload, void>(method);
   /** `edges`: node id pairs, flattened. */
-  export interface Params { uri: string; edges: number[] }
+  export interface Params { uri: string; edges: number[]; graph?: number }
 }
 export interface BottlenecksPayload {
   /** Per requested pair; null where the pair is not an edge (or balanced Forman was skipped). */
@@ -348,7 +337,7 @@ export interface BottlenecksPayload {
 export namespace SmoothingRequest {
   export const method = 'hopscope/smoothing';
   export const type = new RequestType<Params, SmoothingPayload | null, void>(method);
-  export interface Params { uri: string; steps?: number }
+  export interface Params { uri: string; steps?: number; graph?: number }
 }
 export interface SmoothingPayload {
   /** Degree-normalised energy (Cai & Wang 2020) after k = 0..steps steps of Â. */
@@ -397,17 +386,16 @@ export interface DatasetTable {
   problemCodes: Array<{ code: string; graphs: number }>;
 }
 
-/** Request, client → server: the accuracy ceiling of message passing for a file (bounded in time). */
+/**
+ * Request, client → server: the accuracy ceiling of message passing for a file (common/ceiling.ts):
+ * graph-level for a dataset with graph labels, per layer count for one graph with node labels.
+ * Null when the file has neither; a request error carries the sentence saying why not.
+ */
 export namespace CeilingRequest {
   export const method = 'hopscope/ceiling';
-  export const type = new RequestType<Params, CeilingSummary | null, void>(method);
-  export interface Params { uri: string; layers?: number; graph?: number }
+  export const type = new RequestType<Params, CeilingResult | null, void>(method);
+  export interface Params { uri: string; layers?: number }
 }
-/** What the panel and the hover show of the ceiling: node-level per layer count, or graph-level. */
-export type CeilingSummary =
-  | { task: 'node'; perLayer: Array<{ layers: number; ceiling: number; conflictingNodes: number }>; labelled?: number }
-  | { task: 'graph'; ceiling: number; graphs: number; conflictingGroups: number }
-  | { task: 'none'; reason: string };
 
 /** Initialization options the client sends: the `hopscope.*` settings the server uses (common/settings.ts). */
 export { DEFAULT_SETTINGS, type ServerSettings } from './settings';

@@ -11,9 +11,10 @@
 import { LSPErrorCodes, ResponseError, type CancellationToken, type Connection } from 'vscode-languageserver/node';
 import { URI } from 'vscode-uri';
 import {
-  BottlenecksRequest, FieldViewRequest, PairFieldRequest, SmoothingRequest, WlClassesRequest,
+  BottlenecksRequest, DatasetTableRequest, FieldViewRequest, PairFieldRequest, SmoothingRequest, WlClassesRequest,
 } from '../../../common/protocol';
 import { WorkerCancelled, type AnalysisError, type CallOptions, type WorkerApi } from '../node/worker-methods';
+import { graphKey } from '../node/graph-key';
 
 /** Longest id list a request may carry (the panel draws at most 20,000 nodes). */
 const MAX_IDS = 200_000;
@@ -37,31 +38,43 @@ function ids(xs: unknown, what: string): number[] {
   return xs as number[];
 }
 
-export function registerAnalysisRequests(connection: Connection, api: Pick<WorkerApi, 'fieldView' | 'pairField' | 'wlClasses' | 'bottlenecks' | 'smoothing'>): void {
-  const file = (uri: string) => URI.parse(uri).fsPath;
+/** A graph index as a request may give it: absent, or a whole number from 0. */
+function graphOf(g: unknown): number | undefined {
+  if (g === undefined || g === null) return undefined;
+  if (typeof g !== 'number' || !Number.isInteger(g) || g < 0) throw new ResponseError(LSPErrorCodes.RequestFailed, `graph must be a whole number from 0, got ${String(g)}`);
+  return g;
+}
+
+export function registerAnalysisRequests(connection: Connection, api: Pick<WorkerApi, 'fieldView' | 'pairField' | 'wlClasses' | 'bottlenecks' | 'smoothing' | 'datasetTable'>): void {
+  /** The analysed graph's key: the file, or graph g of the dataset in it (node/dataset-views.ts). */
+  const file = (uri: string, graph?: unknown) => graphKey(URI.parse(uri).fsPath, graphOf(graph));
   /** The token, ahead of queued workspace checks, superseding the last request of this kind for the file. */
   const options = (kind: string, path: string, token: CancellationToken): CallOptions => ({ token, priority: 'high', supersedeKey: `${kind}:${path}` });
   connection.onRequest(FieldViewRequest.type, (p, token) => {
-    const { uri, ...rest } = p;
-    const path = file(uri);
+    const { uri, graph, ...rest } = p;
+    const path = file(uri, graph);
     return unwrap(api.fieldView({ path, ...rest }, options('field', path, token)));
   });
   connection.onRequest(PairFieldRequest.type, (p, token) => {
-    const { uri, ...rest } = p;
-    const path = file(uri);
+    const { uri, graph, ...rest } = p;
+    const path = file(uri, graph);
     // The same supersede key as the single-node field: the panel shows one or the other.
     return unwrap(api.pairField({ path, ...rest }, options('field', path, token)));
   });
   connection.onRequest(WlClassesRequest.type, (p, token) => {
-    const path = file(p.uri);
+    const path = file(p.uri, p.graph);
     return unwrap(api.wlClasses({ path, nodes: ids(p.nodes, 'nodes') }, options('wl', path, token)));
   });
   connection.onRequest(BottlenecksRequest.type, (p, token) => {
-    const path = file(p.uri);
+    const path = file(p.uri, p.graph);
     return unwrap(api.bottlenecks({ path, edges: ids(p.edges, 'edges') }, options('bottlenecks', path, token)));
   });
   connection.onRequest(SmoothingRequest.type, (p, token) => {
-    const path = file(p.uri);
+    const path = file(p.uri, p.graph);
     return unwrap(api.smoothing({ path, ...(p.steps !== undefined ? { steps: p.steps } : {}) }, options('smoothing', path, token)));
+  });
+  connection.onRequest(DatasetTableRequest.type, (p, token) => {
+    const path = file(p.uri);
+    return unwrap(api.datasetTable({ path }, options('datasetTable', path, token)));
   });
 }

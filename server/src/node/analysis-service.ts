@@ -24,6 +24,7 @@ import { labelVector } from '../core/graph/propagation/homophily';
 import type { Cancel } from '../core/cancel';
 import { GraphLoadError, loadGraph, type LoadedGraph } from './graph-input';
 import { manifestsAbove } from './load';
+import { datasetGraphOf } from './dataset-views';
 import type {
   BottlenecksPayload, FieldNodeTypes, FieldOptions, FieldViewPayload, FieldViewRequest, PairFieldPayload, PairFieldRequest, SmoothingPayload, WlClassesPayload,
 } from '../../../common/protocol';
@@ -115,6 +116,7 @@ export class AnalysisService {
       coverageCurve, hasFeatures: g.features !== undefined,
       fileErrors: g.problems.filter((x) => x.severity === 'error').length,
       ...(nodeTypes ? { nodeTypes } : {}),
+      ...(datasetGraphOf(g) ? { graph: datasetGraphOf(g)! } : {}),
     };
   }
 

@@ -23,7 +23,7 @@ import { guessRole } from '../core/checks/roles';
 import { columnStats } from '../core/checks/stats';
 import type { Cancel } from '../core/cancel';
 import { checkPaths, collect, type FileCache, type LoadOptions } from './load';
-import { loadGraph } from './graph-input';
+import { datasetTable, findDatasetFor, forgetDataset, loadAnalysisGraph } from './dataset-views';
 import { AnalysisService } from './analysis-service';
 import { describeFixedCopy, writeFixedCopy } from './fixed-copy';
 import { globMatcher } from './glob';
@@ -86,7 +86,8 @@ export class GraphStore implements MethodHandlers {
     this.limitBytes = opts.limitBytes ?? 768 * 1024 ** 2;
     this.onRead = opts.onRead;
     this.analysis = new AnalysisService({}, opts.analysisGraphs ?? 2,
-      (file, options, cancel) => loadGraph(file, options, this.loadOptions(cancel)));
+      // A key naming graph g of a dataset (dataset-views.ts graphKey) reads that graph alone.
+      (file, options, cancel) => loadAnalysisGraph(file, options, this.loadOptions(cancel)));
   }
 
   // ---- requests (worker-methods.ts) ---------------------------------------------------------------
@@ -160,6 +161,7 @@ export class GraphStore implements MethodHandlers {
       if (entryBytes(e) >= 8 * 1024 ** 2) collectGarbage();
     }
     this.analysis.forget(abs);
+    forgetDataset(abs);
   }
 
   nodeInfo(p: ParamsOf<'nodeInfo'>): NodeInfo | null {
@@ -267,6 +269,15 @@ export class GraphStore implements MethodHandlers {
     const r = this.analysis.smoothing(p.path, p.steps, cancel);
     this.evict(from);
     return r;
+  }
+
+  datasetTable(p: { path: string }, cancel: Cancel = NOT_CANCELLED): ResultOf<'datasetTable'> {
+    const file = path.resolve(p.path);
+    if (this.excluded(file)) return { error: `${path.basename(file)} is left out by the files.exclude or hopscope.exclude setting.` };
+    const from = this.clock + 1;
+    const found = findDatasetFor(file, this.options, this.loadOptions(cancel));
+    this.evict(from);
+    return found ? datasetTable(found) : null;
   }
 
   fixedCopyPlan(p: { path: string }): ResultOf<'fixedCopyPlan'> {

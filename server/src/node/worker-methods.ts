@@ -16,7 +16,7 @@
 import type { CheckSetOptions, FileReport } from '../core/checks/check-set';
 import type { Csr } from '../core/graph/structure/csr';
 import type {
-  BottlenecksPayload, FieldViewPayload, FieldViewRequest, FixedCopyResult, NodeInfo, PairFieldPayload, PairFieldRequest,
+  BottlenecksPayload, DatasetTable, FieldViewPayload, FieldViewRequest, FixedCopyResult, NodeInfo, PairFieldPayload, PairFieldRequest,
   SmoothingPayload, TensorPage, TensorStats, WlClassesPayload,
 } from '../../../common/protocol';
 
@@ -117,6 +117,8 @@ export const WORKER_METHODS = {
   wlClasses: method<PathParams & { nodes: number[] }, WlClassesPayload | AnalysisError>(true),
   bottlenecks: method<PathParams & { edges: number[] }, BottlenecksPayload | AnalysisError>(true),
   smoothing: method<PathParams & { steps?: number }, SmoothingPayload | AnalysisError | null>(true),
+  /** The viewer's table of graphs of a dataset of many graphs (dataset-views.ts); null when the file holds none. */
+  datasetTable: method<PathParams, DatasetTable | AnalysisError | null>(true),
   /** What a corrected copy would change (nothing written). */
   fixedCopyPlan: method<PathParams, FixedCopyResult>(true),
   /** Writes the corrected copy to `target` (or the suggested name); never over an existing file. */
