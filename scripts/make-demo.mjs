@@ -4,6 +4,7 @@
 import { mkdirSync, readdirSync, writeFileSync, rmSync } from 'node:fs';
 import { join } from 'node:path';
 import { deflateRawSync } from 'node:zlib';
+import { writeTypedDemo } from './make-demo-typed.mjs';
 
 const root = new URL('../demo/', import.meta.url).pathname;
 
@@ -215,6 +216,9 @@ write('rides/monthly/val_data.npz', npz({
   edge_label_index: npy('<i8', [2, 4], cols([[0, 3], [1, 4], [2, 5], [0, 2]])),
   edge_label: npy('<f4', [3], Float32Array.from([1, 0, 0])),
 }));
+
+// --- the typed graph: citywide/citywide.npz (scripts/make-demo-typed.mjs) -------------------------
+writeTypedDemo({ write, npy, npz, i64, bool });
 
 // --- the manifest --------------------------------------------------------------------------------
 write('hopscope.json', JSON.stringify({

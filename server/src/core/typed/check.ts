@@ -161,7 +161,7 @@ export function checkTypedGraph(g: TypedGraph, opts: GraphOptions = {}, limits: 
     if (!receives[i]) {
       report(at, 'type-never-receives',
         `Node type ${t.name} (${counts[i]} nodes) is the target of no relation: its nodes never receive a message, so a model sees only their own features` +
-        (labels ? `, yet ${labels.tensor.name} labels them: predictions for ${t.name} come from its own features alone. Add a relation into ${t.name} (e.g. the reverse of one it sends).` : '.'),
+        (labels ? `, yet ${labels.tensor.name} labels them: predictions for ${t.name} come from its own features alone. Add a relation into ${t.name}${sends[i] ? ' (e.g. the reverse of one it sends)' : ''}.` : '.'),
         counts[i]!, [], labels ? 'warning' : CODES['type-never-receives'].severity);
     }
     if (!sends[i]) {
@@ -274,9 +274,10 @@ function keepRelation(r: Relation, e: EdgeSource, nSrc: number, nDst: number, sr
     if (count === 0) continue;
     const ex = locs.slice(0, EXAMPLES_IN_MESSAGE).map(describe).join('; ');
     const row = side === 0 ? `row 0 (the ${type} sources)` : `row 1 (the ${type} targets)`;
+    const one = otherValid === 1;
     const hint = otherValid > 0
-      ? ` ${otherValid === count ? (count === 1 ? 'It is' : 'All of them are') : `${otherValid} of them are`} valid ${other} id${otherValid === 1 ? '' : 's'} (0..${otherN - 1}): ` +
-        `${other} ids written where ${type} ids belong? A check over all nodes at once would pass them.`
+      ? ` ${otherValid === count ? (count === 1 ? 'It is a' : 'All of them are') : `${otherValid} of them ${one ? 'is a' : 'are'}`} valid ${other} id${one ? '' : 's'} (0..${otherN - 1}): ` +
+        `${one ? `a ${other} id written where a ${type} id belongs` : `${other} ids written where ${type} ids belong`}? A bound over all nodes at once would pass ${one ? 'it' : 'them'}.`
       : '';
     report(asPartOf(r), 'index-out-of-range',
       `${r.key}: ${count} entr${count === 1 ? 'y' : 'ies'} of ${row} ${count === 1 ? `is not a ${type} id` : `are not ${type} ids`}: ${ex}. ` +
