@@ -20,7 +20,7 @@ import { readArriving } from './file-stream';
 import { assertEdgeListText, NotEdgeListError, notEdgeListReason, readEdgeList, type EdgeListReadResult } from '../core/formats/edgelist';
 import { assertText, wideEncoding } from '../core/formats/text/encoding';
 import { throwIfCancelled, type Cancel } from '../core/cancel';
-import { isDatasetText, readColumnsText } from '../core/datasets/text-files';
+import { isDatasetText, isSplitFileName, readColumnsText } from '../core/datasets/text-files';
 
 /** What loadFile consults before reading a file again (the graph store's LRU). */
 export interface FileCache {
@@ -496,7 +496,7 @@ function siblings(dir: string): string[] {
     return [];
   }
   return names
-    .filter((n) => readerFor(n) && (roleFromName(n.replace(/\.[^.]*(\.gz)?$/, '')) !== undefined || isTypedFileName(n) || datasetText(path.join(dir, n))))
+    .filter((n) => readerFor(n) && (roleFromName(n.replace(/\.[^.]*(\.gz)?$/, '')) !== undefined || isTypedFileName(n) || isSplitFileName(n) || datasetText(path.join(dir, n))))
     .map((n) => path.join(dir, n))
     .filter(isRegularFile); // as folder scans do: a pipe named x.npy is not read
 }

@@ -165,13 +165,13 @@ export function checkDataset(ds: Dataset, opts: DatasetCheckOptions = {}): Filed
 
   if (oor.count) {
     report('index-out-of-range', oor,
-      `${plural(oor.count, 'edge entry', 'edge entries')} ${inGraphs(oor)} use a node id outside their own graph (${quoted(oor)}). ` +
+      `${plural(oor.count, 'edge entry', 'edge entries')} ${inGraphs(oor)} ${oor.count === 1 ? 'uses' : 'use'} a node id outside their own graph (${quoted(oor)}). ` +
       'In a dataset each graph numbers its nodes from 0 to its node count − 1; an id that is valid for the whole batch is still wrong here. ' +
       'These edges are left out of the analyses; fix the ids (or the node offsets) of those graphs.');
   }
   if (cross.count) {
     report('cross-graph-edges', cross,
-      `${plural(cross.count, 'edge entry', 'edge entries')} join nodes of two different graphs (${quoted(cross)}), ${inGraphs(cross)}. ` +
+      `${plural(cross.count, 'edge entry', 'edge entries')} ${cross.count === 1 ? 'joins' : 'join'} nodes of two different graphs (${quoted(cross)}), ${inGraphs(cross)}. ` +
       'Messages would leak between graphs that should be independent; the batch vector or the edge ids are wrong. These edges are left out of the analyses.');
   }
   if (loops.count) {
@@ -206,7 +206,7 @@ export function checkDataset(ds: Dataset, opts: DatasetCheckOptions = {}): Filed
   }
   if (iso.count) {
     report('isolated-nodes', iso,
-      `${plural(iso.count, 'node')} ${inGraphs(iso)} have no edges (${quoted(iso)}). A message-passing layer gives them only their own features.`);
+      `${plural(iso.count, 'node')} ${inGraphs(iso)} ${iso.count === 1 ? 'has' : 'have'} no edges (${quoted(iso)}). A message-passing layer gives them only their own features.`);
   }
   if (noNodes.count || noEdges.count) {
     const t = new Tally();

@@ -79,6 +79,12 @@ export function datasetCompanions(path: string, namesInDir: readonly string[]): 
   return [];
 }
 
+/** A file whose name says it holds a dataset's split (rides_split.pt, split_idx.pt, splits.npz): read beside a file given alone. */
+export function isSplitFileName(name: string): boolean {
+  const stem = baseOf(name).toLowerCase().replace(/\.[^.]*(\.gz)?$/, '');
+  return /(^|[_-])splits?([_-]|$)/.test(stem);
+}
+
 /** Where each row of a table read from text starts. */
 class RowLocator {
   constructor(private readonly lines: Int32Array, private readonly columns: number) {}
