@@ -208,7 +208,8 @@ function build(graphs: Array<{ nodes: number; edges: number[][] }>, colours?: nu
 }
 
 describe('exact isomorphism test against networkx.is_isomorphic', () => {
-  it.each(expected.isomorphismPairs.map((p: { name: string }) => [p.name, p]))('%s', (_name, p: { nodes: number[]; a: number[][]; b: number[][]; isomorphic: boolean }) => {
+  type Pair = { name: string; nodes: number[]; a: number[][]; b: number[][]; isomorphic: boolean };
+  it.each(expected.isomorphismPairs as Pair[])('$name', (p) => {
     const ds = build([{ nodes: p.nodes[0]!, edges: p.a }, { nodes: p.nodes[1]!, edges: p.b }]);
     const sg = simpleGraphs(ds);
     const { a } = refinedColours(ds, sg, 3);
