@@ -36,7 +36,7 @@ import { describe, EXAMPLES_IN_MESSAGE } from '../checks/rules/locations';
 import { analyseStructure } from '../graph/structure/figures';
 import { duplicateExamples } from '../graph/structure/figures';
 import { sortedCsr } from '../graph/structure/csr';
-import { denseNodeLimit } from '../graph/structure/compact';
+import { compactIds, denseNodeLimit } from '../graph/structure/compact';
 import type { NodeType, Relation, TypedGraph, TypedPart } from './model';
 import { allParts } from './model';
 
@@ -60,7 +60,9 @@ const asPart = (p: TypedPart): GraphPart => ({ file: p.file, tensor: p.tensor, g
 function stamped(problems: FileProblem[], about: { relation?: string; nodeType?: string }): Reporter {
   const base = reporterInto(problems);
   return (part, code, message, count, locations, severity) => {
-    base(part, code, message, count, locations, severity);
+    // The per-node rules speak of "the graph"; here the count is the node type's.
+    const text = about.nodeType !== undefined ? message.replace('the graph has', `node type ${about.nodeType} has`) : message;
+    base(part, code, text, count, locations, severity);
     Object.assign(problems[problems.length - 1]!.problem, about);
   };
 }
@@ -276,15 +278,18 @@ function keepRelation(r: Relation, e: EdgeSource, nSrc: number, nDst: number, sr
     const row = side === 0 ? `row 0 (the ${type} sources)` : `row 1 (the ${type} targets)`;
     const one = otherValid === 1;
     const hint = otherValid > 0
-      ? ` ${otherValid === count ? (count === 1 ? 'It is a' : 'All of them are') : `${otherValid} of them ${one ? 'is a' : 'are'}`} valid ${other} id${one ? '' : 's'} (0..${otherN - 1}): ` +
-        `${one ? `a ${other} id written where a ${type} id belongs` : `${other} ids written where ${type} ids belong`}? A bound over all nodes at once would pass ${one ? 'it' : 'them'}.`
+      ? ` ${otherValid === count ? (count === 1 ? 'It is' : 'All of them are') : `${otherValid} of them ${one ? 'is' : 'are'}`} ${one ? `${an(`valid ${other}`)} id` : `valid ${other} ids`} (0..${otherN - 1}): ` +
+        `${one ? `${an(other)} id written where ${an(type)} id belongs` : `${other} ids written where ${type} ids belong`}? A bound over all nodes at once would pass ${one ? 'it' : 'them'}.`
       : '';
     report(asPartOf(r), 'index-out-of-range',
-      `${r.key}: ${count} entr${count === 1 ? 'y' : 'ies'} of ${row} ${count === 1 ? `is not a ${type} id` : `are not ${type} ids`}: ${ex}. ` +
+      `${r.key}: ${count} entr${count === 1 ? 'y' : 'ies'} of ${row} ${count === 1 ? `is not ${an(type)} id` : `are not ${type} ids`}: ${ex}. ` +
       `${type} ids must lie in 0..${n - 1} (${n} ${type} nodes from ${side === 0 ? srcText : dstText}).${hint} ` +
       'Those entries are left out of the graph figures; gather/scatter on them fails or reads another node\'s row.',
       count, locs);
   }
+  // Ids beyond int32 that are in range (only under a declared count that large) are not kept either:
+  // the whole-graph figures are skipped for such a graph, and the pair checks work on int32 ids.
+  if (e.flags) for (let k = 0; k < E; k++) if (e.flags[k]! & 12) bad[k] = 1;
   for (let k = 0; k < E; k++) if (bad[k]) dropped++;
   if (dropped === 0) return { src: e.src, dst: e.dst, orig: null };
   const m = E - dropped;
@@ -296,14 +301,25 @@ function keepRelation(r: Relation, e: EdgeSource, nSrc: number, nDst: number, sr
 
 const asPartOf = (r: Relation): GraphPart => asPart(r.edges);
 
+/** "a dock", "an author". */
+const an = (word: string): string => `${/^[aeiou]/i.test(word) ? 'an' : 'a'} ${word}`;
+
 /** Duplicate entries of one relation, and self-loops when its source and target types are equal. */
 function relationPairs(r: Relation, e: EdgeSource, k: { src: Int32Array; dst: Int32Array; orig: Int32Array | null }, nSrc: number, report: Reporter, opts: GraphOptions): void {
-  const { src, dst, orig } = k;
+  const { orig } = k;
+  let { src, dst } = k;
   const E = src.length;
   if (E === 0) return;
-  const fwd = sortedCsr(nSrc, src, dst);
+  // A source type far larger than the relation's entries (a large declared count): pairs are compared
+  // over the ids the entries touch (renumbered in order, so equal pairs stay equal).
+  let rows = nSrc;
+  if (nSrc > 4 * E + 1024) {
+    const c = compactIds(src, dst);
+    src = c.src; dst = c.dst; rows = c.ids.length;
+  }
+  const fwd = sortedCsr(rows, src, dst);
   let duplicates = 0;
-  for (let u = 0; u < nSrc; u++) {
+  for (let u = 0; u < rows; u++) {
     const end = fwd.indptr[u + 1]!;
     for (let p = fwd.indptr[u]! + 1; p < end; p++) if (fwd.indices[p] === fwd.indices[p - 1]) duplicates++;
   }
@@ -318,7 +334,7 @@ function relationPairs(r: Relation, e: EdgeSource, k: { src: Int32Array; dst: In
     });
     report(asPartOf(r), 'duplicate-edges',
       `${r.key}: ${duplicates} duplicate edge entr${duplicates === 1 ? 'y' : 'ies'} (${locs.slice(0, EXAMPLES_IN_MESSAGE).map(describe).join('; ')}). ` +
-      `Sum aggregation counts such a ${r.source} neighbour several times; coalesce the relation's edges.`, duplicates, locs);
+      'Sum aggregation counts such a neighbour several times; coalesce the relation\'s edges.', duplicates, locs);
   }
   if (r.source !== r.target) return;
   let loops = 0;

@@ -115,11 +115,16 @@ function build(name: string, layout: TypedLayout, entries: Entry[]): TypedGraph 
   });
   // Relations first (their edge indices), then their edge tensors, then node tensors.
   const tupleForm = entries.some((e) => e.parsed.kind === 'relation' && e.parsed.form === 'object');
+  const isIndex = (p: Parsed & { kind: 'relation' }, e: Entry) =>
+    p.key === null || p.key.toLowerCase() === 'edge_index' || roleOfKey(e.tensor, p.key, e.file.path).role === 'edge-index';
+  // A bare SRC__REL__DST name makes the group typed only as an integer edge index; once the group
+  // is typed, such a name with float ids is a relation too (its ids are then reported).
+  const typed = entries.some((e) => e.parsed.kind === 'relation' && isIndex(e.parsed, e) && looksLikeEdgeIndex(e.tensor, e.parsed.key === null));
+  if (!typed) return null;
   for (const e of entries) {
     const p = e.parsed;
     if (p.kind !== 'relation') continue;
-    const isIndex = p.key === null || p.key.toLowerCase() === 'edge_index' || roleOfKey(e.tensor, p.key, e.file.path).role === 'edge-index';
-    if (!isIndex || !looksLikeEdgeIndex(e.tensor, p.key === null)) continue;
+    if (!isIndex(p, e) || !looksLikeEdgeIndex(e.tensor, false)) continue;
     const key = relationKey(p.source, p.name, p.target);
     if (byKey.has(key)) continue;
     const r: Relation = { source: p.source, name: p.name, target: p.target, key, edges: part(e, p.key ?? 'edge_index', { role: 'edge-index', reason: 'name' }), edgeParts: [] };
