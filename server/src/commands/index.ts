@@ -9,6 +9,7 @@ import { wlCommand } from './wl';
 import { compareCommand } from './compare';
 import { bottlenecksCommand } from './bottlenecks';
 import { spectrumCommand } from './spectrum';
+import { ceilingCommand } from './ceiling';
 
 export const COMMANDS: Command[] = [
   checkCommand,
@@ -17,4 +18,5 @@ export const COMMANDS: Command[] = [
   compareCommand,
   bottlenecksCommand,
   spectrumCommand,
+  ceilingCommand,
 ];

@@ -29,6 +29,11 @@ export interface LoadedDataset {
  * (broken offsets) is left out: `hopscope check` reports why.
  */
 export async function loadDatasets(paths: string[], opts: DatasetLoadOptions = {}): Promise<LoadedDataset[]> {
+  return readDatasets(paths, opts);
+}
+
+/** `loadDatasets` for synchronous callers (the command line's commands, the worker's handlers). */
+export function readDatasets(paths: string[], opts: DatasetLoadOptions = {}): LoadedDataset[] {
   const { check, ...load } = opts;
   const result = checkPaths(paths, check ?? {}, load);
   const out: LoadedDataset[] = [];

@@ -357,9 +357,9 @@ function groupFigures(
   for (let i = 0; i < shown; i++) {
     const q = order[i]!;
     slot[q] = i;
-    const gr: CeilingGroup = { size: size[q]!, graphs: [] };
-    if (labels.kind === 'classes') gr.labels = {};
-    else { gr.spread = spread![q]!; gr.min = new Array<number>(labels.width).fill(Infinity); gr.max = new Array<number>(labels.width).fill(-Infinity); }
+    const gr: CeilingGroup = labels.kind === 'classes'
+      ? { size: size[q]!, labels: {}, graphs: [] }
+      : { size: size[q]!, spread: spread![q]!, min: new Array<number>(labels.width).fill(Infinity), max: new Array<number>(labels.width).fill(-Infinity), graphs: [] };
     groups.push(gr);
   }
   for (let g = 0; g < G; g++) {

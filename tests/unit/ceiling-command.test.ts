@@ -1,0 +1,82 @@
+/**
+ * `hopscope ceiling` through the CLI entry point (main(argv, io)), on the files written by
+ * tests/fixtures/make_ceiling_fixtures.py: csl.pt is torch.save of (data, slices) by the real
+ * PyTorch 1.13 (stand-in data class at the graph-learning library's import path), the .npz files by
+ * NumPy; the expected figures are NetworkX WL-hash groupings and the script's own Python
+ * refinement (see the script's docstring). The circular skip-link ceiling of 10% is the published
+ * value for message-passing baselines (Murphy et al. 2019; Dwivedi et al. 2020; docs/references.md).
+ */
+import * as fs from 'node:fs';
+import * as path from 'node:path';
+import { describe, expect, it } from 'vitest';
+import { main } from '../../server/src/cli';
+
+const DIR = path.join(__dirname, '..', 'fixtures', 'ceiling');
+const expected = JSON.parse(fs.readFileSync(path.join(DIR, 'expected.json'), 'utf8'));
+const f = (name: string) => path.join(DIR, name);
+
+function run(...argv: string[]): { code: number; out: string; err: string } {
+  let out = '', err = '';
+  const code = main(['ceiling', ...argv], { out: (s) => { out += s; }, err: (s) => { err += s; }, color: false });
+  return { code, out, err };
+}
+
+describe('hopscope ceiling', () => {
+  it('a saved (data, slices) dataset of circular skip-link graphs: 10%, and what counts add', () => {
+    const r = run(f('csl.pt'), '--with', 'triangles', '--with', 'cycles:4,cycles:6', '--json');
+    expect(r.code).toBe(0);
+    const j = JSON.parse(r.out);
+    expect(j.task).toBe('graph');
+    expect(j.graphs).toBe(150);
+    expect(j.ceiling).toBe(0.1);
+    expect(j.conflictingGroups).toBe(1);
+    expect(Object.keys(j.groups[0])).toEqual(['size', 'labels', 'graphs']);
+    expect(j.groups[0].graphs).toHaveLength(20);
+    expect(j.with.map((w: { with: string }) => w.with)).toEqual(['triangles', 'cycles:4', 'cycles:6']);
+    for (const w of j.with) expect(w.ceiling, w.with).toBe(expected.csl[w.with].ceiling);
+  });
+
+  it('text: the ceilings side by side, what the number means and what raises it, the mixed groups', () => {
+    const r = run(f('triangles_hexagon.npz'), '--with', 'triangles');
+    expect(r.code).toBe(0);
+    expect(r.out).toMatch(/structure alone\s+50\.0%/);
+    expect(r.out).toMatch(/\+ triangles\s+100\.0%/);
+    expect(r.out).toMatch(/No message-passing model whose only inputs are the structure/);
+    expect(r.out).toMatch(/hopscope spectrum --out/);
+    expect(r.out).toMatch(/Look-alike groups with mixed labels/);
+    expect(r.out).toMatch(/\n\s+2\s+0: 1\s+1: 1\s+0 1\n/);
+  });
+
+  it('node features of a dataset (NumPy batch vector + node label column), against NetworkX hashes', () => {
+    const j = JSON.parse(run(f('random.npz'), '--features', '--json').out);
+    expect(j.start).toBe('features');
+    expect(j.ceiling).toBe(expected.random.features.ceiling);
+    expect(j.groupCount).toBe(expected.random.features.groupCount);
+    const u = JSON.parse(run(f('random.npz'), '--json').out);
+    expect(u.ceiling).toBe(expected.random.uniform.ceiling);
+  });
+
+  it("one graph with node classes: the karate club's ceiling per layer count", () => {
+    const r = run(f('karate.npz'), '--with', 'triangles', '--layers', '4', '--json');
+    expect(r.code).toBe(0);
+    const j = JSON.parse(r.out);
+    expect(j.task).toBe('node');
+    expect(j.perLayer).toEqual(expected.karate.uniform);
+    expect(j.with[0].perLayer).toEqual(expected.karate.triangles);
+    const t = run(f('karate.npz'), '--layers', '3');
+    expect(t.out).toMatch(/structure alone\s+50\.0%\s+64\.7%\s+100\.0%/);
+    expect(t.out).toMatch(/stop changing after round 2/);
+  });
+
+  it('refuses what it cannot bound, with exit code 2', () => {
+    const none = run(path.join(__dirname, '..', 'fixtures', 'structure', 'bull.npy'));
+    expect(none.code).toBe(2);
+    expect(none.err).toMatch(/no node labels found/);
+    const bad = run(f('karate.npz'), '--with', 'cycles:12');
+    expect(bad.code).toBe(2);
+    expect(bad.err).toMatch(/cycle lengths go from 3 up to 8/);
+    expect(run(f('karate.npz'), '--with').code).toBe(2);
+    expect(run(f('karate.npz'), '--layers', 'x').code).toBe(2);
+    expect(run().code).toBe(2);
+  });
+});
