@@ -128,6 +128,7 @@ function check(args: CheckArgs, io: CliIo): number {
     io.err(`HOPSCOPE_TIMINGS ${JSON.stringify({
       read: round(ph.read ?? 0), build: round(build), checks: round((ph.checks ?? 0) - build),
       ...(ph.splits !== undefined ? { splits: round(ph.splits) } : {}),
+      ...(ph.datasets !== undefined ? { datasets: round(ph.datasets) } : {}),
       total: round(total), bytes, peakRssMiB: round(process.resourceUsage().maxRSS / 1024),
     })}\n`);
   }
