@@ -50,7 +50,7 @@ function checkOne(name: string): { report: FileReport; files: FileReport[] } {
 }
 
 describe('typed graphs written by NumPy and PyTorch (NetworkX figures)', () => {
-  for (const name of ['clean.npz', 'dict.pt', 'nested.pt', 'object.pt', 'siblings', 'dirty.npz']) {
+  for (const name of ['clean.npz', 'clean.safetensors', 'clean.json', 'dict.pt', 'nested.pt', 'object.pt', 'siblings', 'dirty.npz']) {
     it(`${name}: types, relations and the types-forgotten figures equal NetworkX's`, () => {
       const e = expected[name] as Expect;
       const { report, files } = checkOne(name);
@@ -140,6 +140,37 @@ describe('typed graphs written by NumPy and PyTorch (NetworkX figures)', () => {
       }
     });
   }
+});
+
+describe('hopscope check on a typed graph', () => {
+  const run = (args: string[]) => {
+    let out = '', err = '';
+    const code = main(args, { out: (s) => { out += s; }, err: (s) => { err += s; }, color: false });
+    return { code, out, err };
+  };
+
+  it('--json: files[].typed, problems with relation / nodeType, graph with types forgotten (crosstype.npz, NumPy-counted)', () => {
+    const e = expected['crosstype.npz'];
+    const r = run(['check', path.join(dir, 'crosstype.npz'), '--json']);
+    expect(r.code).toBe(1);
+    const f = JSON.parse(r.out).files[0];
+    expect(f.typed.nodeTypes).toEqual(e.nodeTypes);
+    expect(f.typed.relations).toEqual([{ source: 'author', name: 'writes', target: 'paper', edges: e.relations[0].edges }]);
+    expect(f.typed.offsets).toEqual({ author: 0, paper: e.nodeTypes.author });
+    expect(f.graph.nodes).toBe(e.graph.nodes);
+    const oor = f.problems.find((p: Problem) => p.code === 'index-out-of-range');
+    expect(oor.relation).toBe('author__writes__paper');
+    expect(oor.count).toBe(e.outOfRange.row1);
+    expect(f.problems.find((p: Problem) => p.code === 'type-never-receives').nodeType).toBe('author');
+  });
+
+  it('text: lists the node types with where each count comes from, and the relations', () => {
+    const e = expected['clean.npz'] as Expect;
+    const r = run(['check', path.join(dir, 'clean.npz')]);
+    expect(r.out).toContain(`node types: author ${e.nodeTypes.author} (declared), paper ${e.nodeTypes.paper} (feature rows)`);
+    expect(r.out).toContain(`relation author —writes→ paper: ${e.relations[0]!.edges} edge entries`);
+    expect(r.out).toContain(`graph (types forgotten): ${e.graph.nodes} nodes`);
+  });
 });
 
 describe('hopscope field --node TYPE:ID', () => {
