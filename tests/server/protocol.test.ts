@@ -76,6 +76,24 @@ describe('language server over stdio', () => {
     expect(diags('rides/monthly/val_data.npz').map((x) => x.code)).toEqual(['pair-labels-mismatch']);
   });
 
+  it('a typed graph: the cross-type id, the one-way relation and the per-type codes are diagnostics on its file', async () => {
+    // demo/citywide/citywide.npz (scripts/make-demo-typed.mjs): rider 21 written as a dock id, no
+    // relation back from district to dock, labelled depots that no relation touches.
+    const d = diags('citywide/citywide.npz');
+    expect(d.map((x) => x.code).sort()).toEqual(['index-out-of-range', 'isolated-nodes', 'one-way-relation', 'type-never-receives',
+      'type-never-sends', 'type-never-sends']);
+    const oor = d.find((x) => x.code === 'index-out-of-range')!;
+    expect(oor.severity).toBe(1);
+    expect(oor.message).toMatch(/rider__rides_from__dock: 1 entry of row 1 .* = 21/);
+    expect(oor.message).toMatch(/valid rider id/);
+    expect(d.find((x) => x.code === 'type-never-receives')!.severity).toBe(2); // depot carries labels
+    expect(d.find((x) => x.code === 'one-way-relation')!.codeDescription!.href).toMatch(/#problem-one-way-relation$/);
+    const summary = await conn.sendRequest(FileSummaryRequest.type, { uri: uri('citywide/citywide.npz'), wait: true });
+    expect(summary.report!.typed!.nodeTypes).toEqual({ rider: 30, dock: 12, district: 4, depot: 3 });
+    expect(summary.report!.typed!.relations.map((r) => `${r.source}__${r.name}__${r.target}`)).toEqual([
+      'rider__rides_from__dock', 'dock__rev_rides_from__rider', 'dock__near__dock', 'dock__located_in__district']);
+  });
+
   it('text diagnostics carry code, link and the exact range of the bad value', () => {
     const d = diags('lanes/lanes.csv');
     const oor = d.find((x) => x.code === 'index-out-of-range')!;
