@@ -10,6 +10,8 @@ import * as fs from 'node:fs';
 import * as path from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { main } from '../../server/src/cli';
+import { GraphStore } from '../../server/src/node/graph-store';
+import { AnalysisCancelled } from '../../server/src/core/cancel';
 
 const DIR = path.join(__dirname, '..', 'fixtures', 'ceiling');
 const expected = JSON.parse(fs.readFileSync(path.join(DIR, 'expected.json'), 'utf8'));
@@ -78,5 +80,28 @@ describe('hopscope ceiling', () => {
     expect(run(f('karate.npz'), '--with').code).toBe(2);
     expect(run(f('karate.npz'), '--layers', 'x').code).toBe(2);
     expect(run().code).toBe(2);
+  });
+});
+
+describe('the worker\'s ceiling request (graph-store.ts)', () => {
+  it('answers the same figures as the command line, and a sentence for a file without labels', () => {
+    const store = new GraphStore();
+    const g = store.ceiling({ path: f('csl.pt'), with: ['triangles'] }, { isCancellationRequested: false });
+    expect('error' in g).toBe(false);
+    if ('error' in g || g.task !== 'graph') throw new Error('graph-level answer expected');
+    expect(g.ceiling).toBe(0.1);
+    expect(g.with![0]!.ceiling).toBe(expected.csl.triangles.ceiling);
+    const n = store.ceiling({ path: f('karate.npz'), layers: 2 }, { isCancellationRequested: false });
+    if ('error' in n || n.task !== 'node') throw new Error('node-level answer expected');
+    expect(n.perLayer).toEqual(expected.karate.uniform.slice(0, 3));
+    const none = store.ceiling({ path: path.join(__dirname, '..', 'fixtures', 'structure', 'bull.npy') }, { isCancellationRequested: false });
+    expect(none).toEqual({ error: expect.stringMatching(/^bull\.npy: no node labels found/) });
+    const bad = store.ceiling({ path: f('karate.npz'), with: ['cycles:2'] }, { isCancellationRequested: false });
+    expect(bad).toEqual({ error: expect.stringMatching(/cycle lengths go from 3 up to 8/) });
+  });
+
+  it('a cancelled request stops with AnalysisCancelled', () => {
+    const store = new GraphStore();
+    expect(() => store.ceiling({ path: f('csl.pt') }, { isCancellationRequested: true })).toThrow(AnalysisCancelled);
   });
 });

@@ -4,18 +4,18 @@
  * (read by graph-input.ts, like the other analyses) the node-level ceiling per layer count.
  */
 import * as path from 'node:path';
-import type { CeilingResult } from '../../../common/ceiling';
+import type { CeilingParams, CeilingResult } from '../../../common/ceiling';
 import type { CheckSetOptions } from '../core/checks/check-set';
 import type { DenseTensor } from '../core/formats/types';
 import {
-  CeilingInputError, graphCeiling, nodeCeiling, nodeClasses,
+  CeilingInputError, graphCeiling, nodeCeiling, nodeClasses, parseAugmentation,
   type Augmentation, type CeilingOptions,
 } from '../core/graph/refinement/ceiling';
 import { undirectedView } from '../core/graph/structure/undirected';
 import type { LoadedFile } from '../core/checks/check-set';
 import type { FileCache, LoadOptions } from './load';
 import { readDatasets } from './dataset-load';
-import { loadGraph } from './graph-input';
+import { GraphLoadError, loadGraph } from './graph-input';
 
 export interface CeilingRequest extends Omit<CeilingOptions, 'with'> {
   with?: Augmentation[];
@@ -93,4 +93,25 @@ export function computeCeiling(file: string, request: CeilingRequest, check: Che
     ...(request.layers !== undefined ? { layers: request.layers } : {}),
   }, request);
   return { result, notes };
+}
+
+/**
+ * The worker's `ceiling` request (worker-methods.ts): `with` as strings, and a sentence instead of
+ * an exception for a file that cannot be bounded or read (the LSP turns it into a request error).
+ */
+export function ceilingAnswer(
+  file: string, params: Omit<CeilingParams, 'path'>, check: CheckSetOptions, load: LoadOptions,
+): CeilingResult | { error: string } {
+  try {
+    const augs = (params.with ?? []).map(parseAugmentation);
+    return computeCeiling(file, {
+      with: augs,
+      ...(params.layers !== undefined ? { layers: params.layers } : {}),
+      ...(params.features ? { features: true } : {}),
+      ...(load.cancel ? { cancel: load.cancel } : {}),
+    }, check, load).result;
+  } catch (e) {
+    if (e instanceof CeilingInputError || e instanceof GraphLoadError) return { error: `${path.basename(file)}: ${e.message}` };
+    throw e;
+  }
 }

@@ -24,6 +24,7 @@ import { columnStats } from '../core/checks/stats';
 import type { Cancel } from '../core/cancel';
 import { checkPaths, collect, type FileCache, type LoadOptions } from './load';
 import { datasetTable, findDatasetFor, forgetDataset, loadAnalysisGraph } from './dataset-views';
+import { ceilingAnswer } from './ceiling-input';
 import { AnalysisService } from './analysis-service';
 import { describeFixedCopy, writeFixedCopy } from './fixed-copy';
 import { globMatcher } from './glob';
@@ -278,6 +279,18 @@ export class GraphStore implements MethodHandlers {
     const found = findDatasetFor(file, this.options, this.loadOptions(cancel));
     this.evict(from);
     return found ? datasetTable(found) : null;
+  }
+
+  ceiling(p: ParamsOf<'ceiling'>, cancel: Cancel = NOT_CANCELLED): ResultOf<'ceiling'> {
+    const { path: file, ...rest } = p;
+    const abs = path.resolve(file);
+    if (this.excluded(abs)) return { error: `${path.basename(abs)} is left out by the files.exclude or hopscope.exclude setting.` };
+    const from = this.clock + 1;
+    try {
+      return ceilingAnswer(abs, rest, this.options, this.loadOptions(cancel));
+    } finally {
+      this.evict(from);
+    }
   }
 
   fixedCopyPlan(p: { path: string }): ResultOf<'fixedCopyPlan'> {

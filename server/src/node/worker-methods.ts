@@ -19,6 +19,7 @@ import type {
   BottlenecksPayload, DatasetTable, FieldViewPayload, FieldViewRequest, FixedCopyResult, NodeInfo, PairFieldPayload, PairFieldRequest,
   SmoothingPayload, TensorPage, TensorStats, WlClassesPayload,
 } from '../../../common/protocol';
+import type { CeilingParams, CeilingResult } from '../../../common/ceiling';
 
 /** A sentence for the user when a file or a node cannot be analysed (the LSP turns it into a request error). */
 export interface AnalysisError { error: string }
@@ -119,6 +120,8 @@ export const WORKER_METHODS = {
   smoothing: method<PathParams & { steps?: number }, SmoothingPayload | AnalysisError | null>(true),
   /** The viewer's table of graphs of a dataset of many graphs (dataset-views.ts); null when the file holds none. */
   datasetTable: method<PathParams, DatasetTable | AnalysisError | null>(true),
+  /** The accuracy ceiling of message passing (ceiling-input.ts): a dataset's, or one graph's per layer count. */
+  ceiling: method<CeilingParams, CeilingResult | AnalysisError>(true),
   /** What a corrected copy would change (nothing written). */
   fixedCopyPlan: method<PathParams, FixedCopyResult>(true),
   /** Writes the corrected copy to `target` (or the suggested name); never over an existing file. */
