@@ -109,6 +109,13 @@ export function readBatch(input: BatchInput): FoundDataset {
     return result;
   }
   const N = graphOf.length;
+  if (G === 0 && E > 0) {
+    const v = batch ?? ptr!;
+    problems.push({ file: v.file, problem: problem('bad-graph-offsets',
+      `${v.tensor.name} describes no graph at all, but ${edges.tensor.name} has ${E} edge entr${E === 1 ? 'y' : 'ies'}; the edges cannot be given to graphs.`,
+      { tensor: v.tensor.name }) });
+    return result;
+  }
 
   // 2. Each edge entry goes to its sender's graph (its receiver's when the sender is no node).
   const edgeGraph = new Int32Array(E);
