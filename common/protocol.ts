@@ -12,6 +12,11 @@
 import { NotificationType, RequestType, RequestType0 } from 'vscode-languageserver-protocol';
 import type { FileReport, SendingRow } from './report';
 import type { CeilingResult } from './ceiling';
+/** The accuracy ceiling's result types (defined in common/ceiling.ts, shared with the worker and the CLI). */
+export type {
+  CeilingGroup, CeilingParams, CeilingResult, ErrorFloor, GraphCeilingAugmented, GraphCeilingResult,
+  NodeCeilingAugmented, NodeCeilingLayer, NodeCeilingResult,
+} from './ceiling';
 
 /** Request, client → server: everything known about one graph file (from the cache when fresh). */
 export namespace FileSummaryRequest {
