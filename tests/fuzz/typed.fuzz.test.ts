@@ -32,15 +32,16 @@ describe('typed graphs: random containers', () => {
       fc.array(relation, { minLength: 1, maxLength: 4 }),
       fc.record({ rider: fc.integer({ min: 0, max: 8 }), dock: fc.integer({ min: 0, max: 8 }), zone: fc.integer({ min: 0, max: 8 }) }),
       fc.array(fc.constantFrom(...TYPES), { maxLength: 3 }),
-      (rels, counts, withFeatures) => {
+      (rels, countsByType, withFeatures) => {
+        const counts: Record<string, number> = countsByType;
         const seen = new Set<string>();
         const unique = rels.filter((r) => { const k = `${r.source}__${r.name}__${r.target}`; return !seen.has(k) && seen.add(k); });
         const tensors: Tensor[] = unique.map((r) => ei(`${r.source}__${r.name}__${r.target}`, r.pairs));
         const declared = new Set<string>();
         for (const t of TYPES) {
-          if (withFeatures.includes(t)) tensors.push({ kind: 'dense', name: `${t}__x`, dtype: 'float32', shape: [counts[t], 2], data: new Float32Array(counts[t] * 2) });
+          if (withFeatures.includes(t)) tensors.push({ kind: 'dense', name: `${t}__x`, dtype: 'float32', shape: [counts[t]!, 2], data: new Float32Array(counts[t]! * 2) });
           else if (unique.some((r) => r.source === t || r.target === t)) {
-            tensors.push({ kind: 'dense', name: `${t}__num_nodes`, dtype: 'int64', shape: [], data: Int32Array.of(counts[t]) });
+            tensors.push({ kind: 'dense', name: `${t}__num_nodes`, dtype: 'int64', shape: [], data: Int32Array.of(counts[t]!) });
             declared.add(t);
           }
         }
@@ -51,7 +52,7 @@ describe('typed graphs: random containers', () => {
         let kept = 0;
         for (const rel of unique) {
           const key = `${rel.source}__${rel.name}__${rel.target}`;
-          const ns = counts[rel.source as keyof typeof counts], nd = counts[rel.target as keyof typeof counts];
+          const ns = counts[rel.source]!, nd = counts[rel.target]!;
           const row0 = rel.pairs.filter(([a]) => a < 0 || a >= ns).length;
           const row1 = rel.pairs.filter(([, b]) => b < 0 || b >= nd).length;
           const oor = f.problems.filter((p) => p.code === 'index-out-of-range' && p.relation === key);
@@ -65,9 +66,9 @@ describe('typed graphs: random containers', () => {
           expect(f.problems.filter((p) => p.code === 'self-loops' && p.relation === key).reduce((a, p) => a + p.count, 0)).toBe(loops);
         }
         const typesSeen = Object.keys(f.typed!.nodeTypes);
-        for (const t of typesSeen) expect(f.typed!.nodeTypes[t]).toBe(counts[t as keyof typeof counts]);
+        for (const t of typesSeen) expect(f.typed!.nodeTypes[t]).toBe(counts[t]!);
         expect(f.graph!.edges).toBe(kept);
-        expect(f.graph!.nodes).toBe(typesSeen.reduce((a, t) => a + counts[t as keyof typeof counts], 0));
+        expect(f.graph!.nodes).toBe(typesSeen.reduce((a, t) => a + counts[t]!, 0));
         for (const p of f.problems) expect(p.count).toBeGreaterThanOrEqual(0);
       }), { numRuns: runs(300) });
   });

@@ -20,6 +20,7 @@ import { parseTypedName } from '../../server/src/core/typed/recognise';
 import { FieldWalker } from '../../server/src/core/graph/propagation/field';
 import { perHopByType } from '../../server/src/core/typed/field';
 import { AnalysisService } from '../../server/src/node/analysis-service';
+import { describeFixedCopy, writeFixedCopy } from '../../server/src/node/fixed-copy';
 import type { FileReport, Problem, ProblemCode } from '../../common/report';
 
 const dir = path.join(__dirname, '../fixtures/typed');
@@ -231,6 +232,23 @@ describe('hopscope field --node TYPE:ID', () => {
     const q = svc.field(path.join(dir, 'clean.npz'), { node: Number(id), nodeType: type, layers: f.layers, selfLoops: false });
     if ('error' in q) throw new Error(q.error);
     q.perHop.forEach((n, k) => expect(q.nodeTypes!.perHop[k]!.reduce((a, b) => a + b, 0)).toBe(n));
+  });
+});
+
+describe('corrected copies', () => {
+  it('are not written for a typed graph (its relations count ids in their own types)', () => {
+    const file = path.join(dir, 'crosstype.npz');
+    const report = checkPaths([file]).files[0];
+    const r = describeFixedCopy(file, report);
+    expect(r.changes).toHaveLength(1);
+    expect(r.changes[0]).toContain('not written for typed graphs');
+    const tmp = fs.mkdtempSync(path.join(os.tmpdir(), 'hopscope-typed-'));
+    try {
+      expect(() => writeFixedCopy(file, path.join(tmp, 'copy.npz'), report)).toThrow(/typed graphs/);
+      expect(fs.existsSync(path.join(tmp, 'copy.npz'))).toBe(false);
+    } finally {
+      fs.rmSync(tmp, { recursive: true, force: true });
+    }
   });
 });
 

@@ -22,6 +22,7 @@ import { encodeZip, replaceSafetensor, type ZipMember } from '../core/formats/wr
 import { encodeNpyInt64 } from '../core/formats/npy-write';
 import { checkPaths, type LoadOptions } from './load';
 import type { FixedCopyResult } from '../../../common/protocol';
+import { isTypedCheck } from '../core/typed/check';
 
 export function suggestedTarget(file: string): string {
   const dir = path.dirname(file);
@@ -53,6 +54,7 @@ function plan(file: string, report: FileReport | undefined, load: LoadOptions): 
   const s = g?.check.structure;
   const structurePart = g?.check.parts.find((p) => p.tensor.name === g.check.structureTensor);
   if (!g || !s || !structurePart) return { changes: [], unsupported: 'no edge index found in this file' };
+  if (isTypedCheck(g.check)) return { changes: [], unsupported: 'corrected copies are not written for typed graphs (each relation counts ids in its own node types); fix the relations named in the problems' };
   if (structurePart.guess.role !== 'edge-index') return { changes: [], unsupported: 'corrected copies are written for edge indices; this file holds an adjacency matrix' };
   const problems = r.files[0]?.problems ?? [];
   const has = (code: string) => problems.some((p) => p.code === code);
