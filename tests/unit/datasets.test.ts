@@ -17,6 +17,8 @@ import { checkDataset } from '../../server/src/core/datasets/check';
 import { offsetsFault } from '../../server/src/core/datasets/read-common';
 import type { Dataset } from '../../server/src/core/datasets/model';
 import type { FileReport, Problem } from '../../common/report';
+import * as os from 'node:os';
+import { encodeNpyInt64 } from '../../server/src/core/formats/npy-write';
 
 const dir = path.join(__dirname, '../fixtures/datasets');
 const expected = JSON.parse(fs.readFileSync(path.join(dir, 'expected.json'), 'utf8'));
@@ -186,6 +188,35 @@ describe('folder layouts', () => {
     expect(ds.layout).toBe('count-csv');
     expectShape(ds, want);
     expect(isomorphismClasses(ds).classes).toEqual(want.isomorphicClasses);
+  });
+});
+
+describe('a dataset declared in hopscope.json', () => {
+  // The manifest keys are our own (schemas/hopscope.schema.json); the files are the ptr fixture's
+  // (written by NumPy) under names that say nothing, so only the manifest makes them a dataset.
+  it('"nodeOffsets" with global edge ids, graph splits, and a missing file reported on the manifest', async () => {
+    const tmp = fs.mkdtempSync(path.join(os.tmpdir(), 'hopscope-ds-manifest-'));
+    try {
+      fs.copyFileSync(path.join(dir, 'ptr/edge_index.npy'), path.join(tmp, 'links.npy'));
+      fs.copyFileSync(path.join(dir, 'ptr/ptr.npy'), path.join(tmp, 'cuts.npy'));
+      fs.copyFileSync(path.join(dir, 'ptr/x.npy'), path.join(tmp, 'x.npy'));
+      fs.writeFileSync(path.join(tmp, 'tr.npy'), encodeNpyInt64([3], [0, 1, 2]));
+      fs.writeFileSync(path.join(tmp, 'te.npy'), encodeNpyInt64([2], [3, 4]));
+      fs.writeFileSync(path.join(tmp, 'hopscope.json'), JSON.stringify({ graphs: [{ name: 'docks', edges: 'links.npy', nodeOffsets: 'cuts.npy', features: 'x.npy', splits: { train: 'tr.npy', test: 'te.npy' } }] }));
+      const ds = (await loadDatasets([tmp]))[0]!.dataset;
+      expect(ds.layout).toBe('manifest');
+      expectShape(ds, expected['ptr/edge_index.npy']);
+      expect(Array.from(ds.splits!.test!)).toEqual([3, 4]);
+      const r = checkPaths([tmp]);
+      expect(r.manifestProblems).toEqual([]);
+      expect(r.files.find((f) => f.path.endsWith('links.npy'))!.dataset).toMatchObject({ graphs: 5, splits: { train: 3, val: 0, test: 2 } });
+      fs.writeFileSync(path.join(tmp, 'hopscope.json'), JSON.stringify({ graphs: [{ edges: 'links.npy', nodeOffsets: 'gone.npy' }] }));
+      expect(checkPaths([tmp]).manifestProblems[0]!.problem.message).toMatch(/gone\.npy \(nodeOffsets\) was not found/);
+      fs.writeFileSync(path.join(tmp, 'hopscope.json'), JSON.stringify({ graphs: [{ edges: 'links.npy', nodeCounts: 'cuts.npy' }] }));
+      expect(checkPaths([tmp]).manifestProblems[0]!.problem.message).toMatch(/nodeCounts needs "edgeCounts"/);
+    } finally {
+      fs.rmSync(tmp, { recursive: true, force: true });
+    }
   });
 });
 

@@ -21,6 +21,7 @@ import { assertEdgeListText, NotEdgeListError, notEdgeListReason, readEdgeList, 
 import { assertText, wideEncoding } from '../core/formats/text/encoding';
 import { throwIfCancelled, type Cancel } from '../core/cancel';
 import { isDatasetText, isSplitFileName, readColumnsText } from '../core/datasets/text-files';
+import { datasetManifestFiles } from '../core/datasets/manifest';
 
 /** What loadFile consults before reading a file again (the graph store's LRU). */
 export interface FileCache {
@@ -377,7 +378,7 @@ export function checkPaths(inputs: string[], options: CheckSetOptions = {}, load
   const declared = new Set<string>();
   for (const m of manifests) {
     for (const g of m.manifest?.graphs ?? []) {
-      for (const ref of [...g.parts, ...(g.typed ? typedManifestFiles(g.typed) : [])]) {
+      for (const ref of [...g.parts, ...(g.typed ? typedManifestFiles(g.typed) : []), ...(g.dataset ? datasetManifestFiles(g.dataset) : [])]) {
         const f = path.resolve(path.dirname(m.path), ref.file);
         filePaths.add(f);
         declared.add(f);

@@ -26,6 +26,7 @@ import type { GraphOptions, SelfLoopPolicy, SendingRow } from './graph-check';
 import type { Split } from './roles';
 import { DECLARED_PAIRS, type PairRole } from '../splits/edge-splits';
 import { parseTypedGraph, type TypedManifestGraph } from '../typed/manifest';
+import { DATASET_KEYS, isDatasetEntry, parseDatasetGraph, type DatasetManifestGraph } from '../datasets/manifest';
 
 export type SeverityOverride = Severity | 'off';
 export type SeverityOverrides = Partial<Record<ProblemCode, SeverityOverride>>;
@@ -46,6 +47,8 @@ export interface ManifestGraph {
   options: GraphOptions;
   /** A typed graph ("nodeTypes" and "relations", core/typed/manifest.ts); `parts` is then empty. */
   typed?: TypedManifestGraph;
+  /** A dataset of many graphs ("graphIds", "nodeOffsets" or "nodeCounts", core/datasets/manifest.ts); `parts` is then empty. */
+  dataset?: DatasetManifestGraph;
 }
 
 export interface Manifest {
@@ -74,7 +77,7 @@ export function sendingRowOfLegacyFlow(value: unknown): SendingRow | undefined {
 }
 
 const GRAPH_KEYS = new Set<string>(['name', 'edges', 'adjacency', 'features', 'labels', 'splits', 'edgeSplits',
-  'edgeWeights', 'edgeFeatures', 'nodeTypes', 'relations', ...OPTION_KEYS, LEGACY_FLOW.key]);
+  'edgeWeights', 'edgeFeatures', 'nodeTypes', 'relations', ...DATASET_KEYS, ...OPTION_KEYS, LEGACY_FLOW.key]);
 const TOP_KEYS = new Set<string>(['$schema', 'graphs', 'severity', ...OPTION_KEYS, LEGACY_FLOW.key]);
 const PART_ROLES: ReadonlyArray<[string, Role]> = [
   ['edges', 'edge-index'], ['adjacency', 'adjacency'], ['features', 'features'], ['labels', 'labels'],
@@ -117,6 +120,10 @@ function parseGraph(g: unknown, i: number, renamed: string[]): ManifestGraph {
   for (const k of Object.keys(g)) if (!GRAPH_KEYS.has(k)) throw new ManifestError(`${at}: unknown key "${k}".`);
   const name = g.name === undefined ? `graph ${i + 1}` : g.name;
   if (typeof name !== 'string') throw new ManifestError(`${at}.name must be a string.`);
+  if (isDatasetEntry(g)) {
+    const dataset = parseDatasetGraph(g, at, parseRef, (m) => { throw new ManifestError(m); });
+    return { name, parts: [], options: parseOptions(g, `${at}.`, renamed), dataset };
+  }
   if (g.nodeTypes !== undefined || g.relations !== undefined) {
     const typed = parseTypedGraph(g, at, parseRef, (m) => { throw new ManifestError(m); });
     return { name, parts: [], options: parseOptions(g, `${at}.`, renamed), typed };

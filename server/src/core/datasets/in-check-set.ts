@@ -8,6 +8,16 @@ import type { Dataset } from './model';
 import { findDatasets, type DatasetInputFile } from './read';
 import { checkDataset, summarise, type DatasetCheckOptions } from './check';
 import type { FiledProblem } from './read-common';
+import { datasetFromManifest, type DatasetManifestGraph, type LookedUp } from './manifest';
+import type { FoundDataset } from './read-slices';
+
+/** The manifests' dataset entries, and how to find the files they name. */
+export interface DatasetManifests {
+  manifests: ReadonlyArray<{ path: string; manifest: { graphs: ReadonlyArray<{ name: string; dataset?: DatasetManifestGraph }> } }>;
+  lookup: (manifestPath: string, file: string) => LookedUp | undefined;
+  /** Problems of the manifests themselves (a named file missing) go here. */
+  problems: Array<{ path: string; problem: Problem }>;
+}
 
 export interface CheckedDataset {
   /** Undefined when the layout was recognised but could not be built (problems say why). */
@@ -23,9 +33,20 @@ export function checkDatasetsIn(
   files: readonly DatasetInputFile[],
   optionsFor: (path: string) => DatasetCheckOptions,
   focus?: (path: string) => boolean,
+  declared?: DatasetManifests,
 ): CheckedDataset[] {
   const out: CheckedDataset[] = [];
-  for (const found of findDatasets(files)) {
+  const fromManifests: FoundDataset[] = [];
+  for (const m of declared?.manifests ?? []) {
+    for (const g of m.manifest.graphs) {
+      if (!g.dataset) continue;
+      const r = datasetFromManifest(g.name, g.dataset, (f) => declared!.lookup(m.path, f));
+      for (const message of r.missing) declared!.problems.push({ path: m.path, problem: { code: 'unreadable', severity: 'error', count: 1, message } });
+      if (r.found) fromManifests.push(r.found);
+    }
+  }
+  const taken = new Set(fromManifests.flatMap((f) => f.files));
+  for (const found of [...fromManifests, ...findDatasets(files.filter((f) => !taken.has(f.path)))]) {
     const checked = !focus || found.files.some(focus);
     const item: CheckedDataset = { files: found.files, problems: [], checked };
     if (!checked) { out.push(item); continue; }
