@@ -29,6 +29,7 @@ import { AnalysisService } from './analysis-service';
 import { describeFixedCopy, writeFixedCopy } from './fixed-copy';
 import { globMatcher } from './glob';
 import { nodeInfoOf, shareStructure, type SharedStructure } from './shared-structure';
+import { isTypedCheck } from '../core/typed/check';
 import { collectGarbage } from './collect-garbage';
 import type { NodeInfo, TensorPage, TensorStats } from '../../../common/protocol';
 import type {
@@ -121,7 +122,8 @@ export class GraphStore implements MethodHandlers {
     const structures: CheckOutcome['structures'] = [];
     for (const g of r.graphs) {
       const s = g.check.structure;
-      if (g.check.structureFile && s && g.check.figures) {
+      // A typed graph's structure numbers nodes across types: ids written in its relations are not its node ids.
+      if (g.check.structureFile && s && g.check.figures && !isTypedCheck(g.check)) {
         const file = path.resolve(g.check.structureFile);
         const info = shareStructure({ n: g.check.figures.nodes, fwd: s.fwd, rev: s.rev, indexBase: g.check.figures.indexBase, ...(s.ids ? { ids: s.ids } : {}) });
         structures.push({ file, structure: info });
