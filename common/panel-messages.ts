@@ -4,10 +4,11 @@
  * The host relays requests to the language server; the webview draws what comes back.
  */
 import type { BottlenecksPayload, FieldViewPayload, PairFieldPayload, SmoothingPayload, WlClassesPayload } from './protocol';
+import type { CeilingResult } from './ceiling';
 import type { SendingRow } from './report';
 
 export type { SendingRow } from './report';
-export type ViewMode = 'hops' | 'wl' | 'bottlenecks';
+export type ViewMode = 'hops' | 'wl' | 'bottlenecks' | 'types';
 
 /** What the webview asks the server for (through the host). */
 export interface FieldQuery {
@@ -28,12 +29,15 @@ export type PanelRequest =
   | { type: 'wl'; seq: number; nodes: number[] }
   | { type: 'bottlenecks'; seq: number; edges: number[] }
   | { type: 'smoothing' }
+  /** The accuracy ceiling by layer count 0..layers (node labels); answered once per file. */
+  | { type: 'ceiling'; layers: number }
   | { type: 'exportSvg'; text: string; name: string }
   | { type: 'exportPng'; bytes: Uint8Array; name: string };
 
 /** Extension host → webview. */
 export type PanelMessage =
-  | { type: 'init'; file: { uri: string; name: string }; node?: number; maxNodes: number }
+  /** `file.graph`: the panel shows a graph of a dataset of many graphs (0-based). */
+  | { type: 'init'; file: { uri: string; name: string; graph?: number }; node?: number; maxNodes: number }
   | { type: 'field'; seq: number; view: FieldViewPayload }
   /** The answer to a pair-mode field question. */
   | { type: 'pair'; seq: number; data: PairFieldPayload }
@@ -41,6 +45,8 @@ export type PanelMessage =
   | { type: 'bottlenecks'; seq: number; data: BottlenecksPayload }
   /** `note`: why there is no curve (e.g. the feature matrix does not fit the graph). */
   | { type: 'smoothing'; data: SmoothingPayload | null; note?: string }
+  /** null: no ceiling for this graph (no node labels; `note` may say why). */
+  | { type: 'ceiling'; data: CeilingResult | null; note?: string }
   | { type: 'error'; seq?: number; message: string }
   /** The file changed on disk: ask again. */
   | { type: 'changed' }
@@ -50,6 +56,8 @@ export type PanelMessage =
 export interface PanelState {
   uri?: string;
   name?: string;
+  /** A graph of a dataset of many graphs (0-based): the panel is about that graph alone. */
+  graph?: number;
   node?: number;
   /** Second end of the pair in pair mode (link prediction), else absent. */
   pair?: number;

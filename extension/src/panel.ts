@@ -13,7 +13,7 @@
 import * as vscode from 'vscode';
 import type { LanguageClient } from 'vscode-languageclient/node';
 import {
-  BottlenecksRequest, FieldViewRequest, FileSummaryRequest, PairFieldRequest, SmoothingRequest, WlClassesRequest,
+  BottlenecksRequest, CeilingRequest, FieldViewRequest, FileSummaryRequest, PairFieldRequest, SmoothingRequest, WlClassesRequest,
 } from '../../common/protocol';
 import { PANEL_VIEW_TYPE, type PanelMessage, type PanelRequest, type PanelState } from '../../common/panel-messages';
 import { makeNonce, panelHtml } from './panel-html';
@@ -27,29 +27,34 @@ type ClientGetter = () => LanguageClient | undefined;
 
 export function registerPanel(context: vscode.ExtensionContext, getClient: ClientGetter): void {
   const hosts = new Map<string, FieldPanelHost>();
-  const open = (panel: vscode.WebviewPanel, uri: vscode.Uri, node: number | undefined) => {
-    const host = new FieldPanelHost(panel, uri, node, context.extensionUri, getClient);
-    hosts.set(uri.toString(), host);
-    panel.onDidDispose(() => { if (hosts.get(uri.toString()) === host) hosts.delete(uri.toString()); });
+  // One panel per graph file, and per graph of a dataset of many graphs.
+  const keyOf = (uri: vscode.Uri, graph: number | undefined) => (graph === undefined ? uri.toString() : `${uri.toString()}#graph=${graph}`);
+  const open = (panel: vscode.WebviewPanel, uri: vscode.Uri, node: number | undefined, graph: number | undefined) => {
+    const host = new FieldPanelHost(panel, uri, node, graph, context.extensionUri, getClient);
+    const key = keyOf(uri, graph);
+    hosts.set(key, host);
+    panel.onDidDispose(() => { if (hosts.get(key) === host) hosts.delete(key); });
   };
 
   context.subscriptions.push(
-    vscode.commands.registerCommand(OPEN_FIELD_PANEL, async (arg?: vscode.Uri | string, nodeArg?: number) => {
+    vscode.commands.registerCommand(OPEN_FIELD_PANEL, async (arg?: vscode.Uri | string, nodeArg?: number, graphArg?: number) => {
       const uri = typeof arg === 'string' ? vscode.Uri.parse(arg) : arg instanceof vscode.Uri ? arg : await pickGraphFile();
       if (!uri) return;
-      const existing = hosts.get(uri.toString());
+      // graphArg: a graph of a dataset of many graphs (the viewer's table of graphs), 0-based.
+      const graph = typeof graphArg === 'number' && Number.isInteger(graphArg) && graphArg >= 0 ? graphArg : undefined;
+      const existing = hosts.get(keyOf(uri, graph));
       const node = typeof nodeArg === 'number' ? nodeArg : await askNode(uri, getClient());
       if (node === undefined) return;
       if (existing) { existing.show(node); return; }
-      const panel = vscode.window.createWebviewPanel(PANEL_VIEW_TYPE, panelTitle(uri), vscode.ViewColumn.Beside, webviewOptions(context.extensionUri));
-      open(panel, uri, node);
+      const panel = vscode.window.createWebviewPanel(PANEL_VIEW_TYPE, panelTitle(uri, undefined, graph), vscode.ViewColumn.Beside, webviewOptions(context.extensionUri));
+      open(panel, uri, node, graph);
     }),
     vscode.window.registerWebviewPanelSerializer(PANEL_VIEW_TYPE, {
       async deserializeWebviewPanel(panel: vscode.WebviewPanel, state: PanelState | undefined) {
         if (!state?.uri) { panel.dispose(); return; }
         // Reset the options so the restored page gets this install's resource roots.
         panel.webview.options = webviewOptions(context.extensionUri);
-        open(panel, vscode.Uri.parse(state.uri), undefined);
+        open(panel, vscode.Uri.parse(state.uri), undefined, state.graph);
       },
     }),
   );
@@ -63,8 +68,8 @@ function webviewOptions(extensionUri: vscode.Uri): vscode.WebviewPanelOptions & 
   };
 }
 
-function panelTitle(uri: vscode.Uri, node?: number): string {
-  const name = uri.path.split('/').pop() ?? '';
+function panelTitle(uri: vscode.Uri, node?: number, graph?: number): string {
+  const name = (uri.path.split('/').pop() ?? '') + (graph !== undefined ? ` graph ${graph}` : '');
   return node === undefined ? `Receptive field · ${name}` : `Node ${node} · ${name}`;
 }
 
@@ -103,11 +108,12 @@ async function askNode(uri: vscode.Uri, client: LanguageClient | undefined): Pro
 }
 
 /** Which in-flight questions a new one makes stale: wl and bottlenecks answers belong to one field. */
-const SUPERSEDES: Record<'field' | 'wl' | 'bottlenecks' | 'smoothing', ReadonlyArray<'field' | 'wl' | 'bottlenecks' | 'smoothing'>> = {
+const SUPERSEDES: Record<'field' | 'wl' | 'bottlenecks' | 'smoothing' | 'ceiling', ReadonlyArray<'field' | 'wl' | 'bottlenecks' | 'smoothing' | 'ceiling'>> = {
   field: ['field', 'wl', 'bottlenecks'],
   wl: ['wl'],
   bottlenecks: ['bottlenecks'],
   smoothing: ['smoothing'],
+  ceiling: ['ceiling'],
 };
 type Question = keyof typeof SUPERSEDES;
 
@@ -122,6 +128,8 @@ class FieldPanelHost {
     private readonly panel: vscode.WebviewPanel,
     private readonly uri: vscode.Uri,
     node: number | undefined,
+    /** A graph of a dataset of many graphs (0-based), or undefined for a graph file. */
+    private readonly graph: number | undefined,
     extensionUri: vscode.Uri,
     private readonly client: ClientGetter,
   ) {
@@ -133,7 +141,7 @@ class FieldPanelHost {
       cspSource: webview.cspSource, nonce: makeNonce(),
       script: res('dist', 'webview', 'panel.js'), worker: res('dist', 'webview', 'panel-layout.js'), style: res('media', 'panel.css'),
     });
-    panel.title = panelTitle(uri, node);
+    panel.title = panelTitle(uri, node, graph);
     this.subs.push(webview.onDidReceiveMessage((m: PanelRequest) => { void this.handle(m); }));
 
     // The graph may span sibling files (x.npy next to edge_index.npy): follow the whole folder.
@@ -177,7 +185,7 @@ class FieldPanelHost {
   }
 
   private fileInfo() {
-    return { uri: this.uri.toString(), name: this.uri.path.split('/').pop() ?? '' };
+    return { uri: this.uri.toString(), name: this.uri.path.split('/').pop() ?? '', ...(this.graph !== undefined ? { graph: this.graph } : {}) };
   }
 
   private post(m: PanelMessage): void {
@@ -187,6 +195,8 @@ class FieldPanelHost {
   private async handle(m: PanelRequest): Promise<void> {
     const client = this.client();
     const uri = this.uri.toString();
+    /** Every question about a graph of a dataset names that graph. */
+    const g = this.graph !== undefined ? { graph: this.graph } : {};
     const seq = 'seq' in m ? m.seq : undefined;
     try {
       switch (m.type) {
@@ -215,34 +225,46 @@ class FieldPanelHost {
           if (pair !== undefined) {
             // Pair mode: what the model sees of (node, pair), drawn as the union of both fields.
             const { node, ...options } = query;
-            const data = await client.sendRequest(PairFieldRequest.type, { uri, ...options, u: node, v: pair, maxNodes: maxDrawn(this.uri) }, token);
+            const data = await client.sendRequest(PairFieldRequest.type, { uri, ...options, ...g, u: node, v: pair, maxNodes: maxDrawn(this.uri) }, token);
             if (token.isCancellationRequested) return;
             this.panel.title = `Pair ${data.u}, ${data.v} · ${this.uri.path.split('/').pop() ?? ''}`;
             this.post({ type: 'pair', seq: m.seq, data });
             break;
           }
-          const view = await client.sendRequest(FieldViewRequest.type, { uri, ...query, maxNodes: maxDrawn(this.uri) }, token);
+          const view = await client.sendRequest(FieldViewRequest.type, { uri, ...query, ...g, maxNodes: maxDrawn(this.uri) }, token);
           if (token.isCancellationRequested) return;
-          this.panel.title = panelTitle(this.uri, view.node);
+          this.panel.title = panelTitle(this.uri, view.node, this.graph);
           this.post({ type: 'field', seq: m.seq, view });
           break;
         }
         case 'wl': {
-          const data = await client.sendRequest(WlClassesRequest.type, { uri, nodes: m.nodes }, token);
+          const data = await client.sendRequest(WlClassesRequest.type, { uri, nodes: m.nodes, ...g }, token);
           if (!token.isCancellationRequested) this.post({ type: 'wl', seq: m.seq, data });
           break;
         }
         case 'bottlenecks': {
-          const data = await client.sendRequest(BottlenecksRequest.type, { uri, edges: m.edges }, token);
+          const data = await client.sendRequest(BottlenecksRequest.type, { uri, edges: m.edges, ...g }, token);
           if (!token.isCancellationRequested) this.post({ type: 'bottlenecks', seq: m.seq, data });
           break;
         }
         case 'smoothing': {
           try {
-            const data = await client.sendRequest(SmoothingRequest.type, { uri, steps: 8 }, token);
+            const data = await client.sendRequest(SmoothingRequest.type, { uri, steps: 8, ...g }, token);
             if (!token.isCancellationRequested) this.post({ type: 'smoothing', data });
           } catch (e) {
             if (!token.isCancellationRequested) this.post({ type: 'smoothing', data: null, note: (e as Error).message });
+          }
+          break;
+        }
+        case 'ceiling': {
+          // Node labels of one graph: the ceiling by layer count (not asked for a graph of a dataset).
+          if (this.graph !== undefined) { this.post({ type: 'ceiling', data: null }); break; }
+          try {
+            const data = await client.sendRequest(CeilingRequest.type, { uri, layers: m.layers }, token);
+            if (!token.isCancellationRequested) this.post({ type: 'ceiling', data });
+          } catch {
+            // No node labels (the common case) or no ceiling to give: the chart stays hidden.
+            if (!token.isCancellationRequested) this.post({ type: 'ceiling', data: null });
           }
           break;
         }

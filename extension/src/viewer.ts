@@ -4,7 +4,7 @@
  */
 import * as vscode from 'vscode';
 import type { LanguageClient } from 'vscode-languageclient/node';
-import { FileSummaryRequest, TensorPageRequest, TensorStatsRequest } from '../../common/protocol';
+import { DatasetTableRequest, FileSummaryRequest, TensorPageRequest, TensorStatsRequest } from '../../common/protocol';
 import type { ViewerMessage, ViewerRequest } from '../../common/viewer-messages';
 import { makeNonce, webviewPage } from './webview-page';
 
@@ -74,6 +74,21 @@ export class TensorViewerProvider implements vscode.CustomReadonlyEditorProvider
             break;
           case 'openFieldPanel':
             await vscode.commands.executeCommand('hopscope.openFieldPanel', document.uri);
+            break;
+          case 'datasetTable': {
+            // Packed columns (one base64 string each) go to the page as they came; it unpacks them.
+            if (!c) { send({ type: 'datasetTable', table: null, note: 'The Hopscope language server is not running.' }); break; }
+            try {
+              const table = await c.sendRequest(DatasetTableRequest.type, { uri: document.uri.toString() });
+              send({ type: 'datasetTable', table });
+            } catch (e) {
+              send({ type: 'datasetTable', table: null, note: `The table of graphs could not be read: ${(e as Error).message}` });
+            }
+            break;
+          }
+          case 'openGraph':
+            // Centre node 0 of the chosen graph; the panel's node box moves it.
+            await vscode.commands.executeCommand('hopscope.openFieldPanel', document.uri, 0, m.graph);
             break;
         }
       } catch (e) {

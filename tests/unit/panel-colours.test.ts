@@ -189,3 +189,52 @@ describe('no bundled palettes', () => {
     }
   });
 });
+
+describe('node-type palette (typed graphs)', () => {
+  // The chart colours of VS Code's Dark+ theme (charts.orange #d18616, charts.purple #b180d7,
+  // charts.green #89d185, charts.yellow #cca700, charts.red #f14c4c; recalled from memory).
+  const DARK_PLUS_CHARTS = ['#d18616', '#b180d7', '#89d185', '#cca700', '#f14c4c'];
+
+  it('keeps 3:1 contrast with every default background, for our hues and the theme\'s', async () => {
+    const { typeColour, typeHues, TYPE_HUES } = await import('../../webview/src/panel-colours');
+    const themed = typeHues(DARK_PLUS_CHARTS)!;
+    for (const t of THEMES) {
+      for (const hues of [TYPE_HUES, themed]) {
+        for (let i = 0; i < 2 * hues.length; i++) {
+          const c = typeColour(i, t.dark, hues);
+          expect(contrastRatio(c, t.background), `${t.kind} type ${i} ${c}`).toBeGreaterThanOrEqual(3);
+        }
+      }
+    }
+  });
+
+  it('never reads as a hop colour: hues at least 40° from the hop ramp, and apart from each other', async () => {
+    const { typeColour, typeHues, TYPE_HUES, TYPE_HOP_GAP } = await import('../../webview/src/panel-colours');
+    const dist = (a: number, b: number) => { const d = Math.abs(a - b) % 360; return d > 180 ? 360 - d : d; };
+    for (const hues of [TYPE_HUES, typeHues(DARK_PLUS_CHARTS)!]) {
+      for (const dark of [false, true]) {
+        const colours = hues.map((_, i) => typeColour(i, dark, hues));
+        for (const c of colours) {
+          expect(dist(hue(c), HOP_HUE)).toBeGreaterThanOrEqual(TYPE_HOP_GAP - 3);
+          for (let k = 0; k <= 4; k++) expect(deltaE(c, hopColour(k, 4, dark))).toBeGreaterThan(0.08);
+        }
+        // Every pair of the first round differs clearly (ΔE_OK well above the ~0.02 just-noticeable difference).
+        for (let a = 0; a < colours.length; a++) for (let b = a + 1; b < colours.length; b++) expect(deltaE(colours[a]!, colours[b]!)).toBeGreaterThan(0.07);
+        // The second round repeats the hues at another lightness.
+        expect(Math.abs(lightness(typeColour(hues.length, dark, hues)) - lightness(colours[0]!))).toBeGreaterThan(5);
+      }
+    }
+  });
+
+  it('takes the theme\'s chart hues, leaves out greys and near hues, and fills up with ours', async () => {
+    const { typeHues, TYPE_HUES } = await import('../../webview/src/panel-colours');
+    const themed = typeHues([...DARK_PLUS_CHARTS, '#808080', '', '#3ab8c4'])!;
+    expect(themed.length).toBe(TYPE_HUES.length);
+    // Orange, purple, green, red in the theme's order; yellow is within 40° of orange and left out;
+    // the grey has no hue and the teal #3ab8c4 is the hop ramp's family; our indigo fills the fifth place.
+    const kept = ['#d18616', '#b180d7', '#89d185', '#f14c4c'];
+    for (let i = 0; i < kept.length; i++) expect(themed[i]).toBeCloseTo(hue(kept[i]!), 6);
+    expect(themed[4]).toBe(265);
+    expect(typeHues(['', 'not a colour'])).toBeUndefined();
+  });
+});

@@ -41,7 +41,7 @@ export function drawHopBars(hopChart: HTMLElement, v: FieldViewPayload | undefin
   hopChart.append(el('p', { class: 'muted small' }, `Total ${v.total.toLocaleString('en-US')} (${pct(v.coverage)} of the graph)${v.sampled ? `; ${v.shown.toLocaleString('en-US')} drawn` : ''}.`));
 }
 
-function lineChart(fig: HTMLElement, opts: {
+export function lineChart(fig: HTMLElement, opts: {
   caption: string; label: string; xs: number[]; series: Array<{ ys: number[]; cls: string; name: string }>;
   yLog?: boolean; yMax?: number; marker?: number; point?: { x: number; y: number; name: string };
 }): void {

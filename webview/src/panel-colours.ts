@@ -10,7 +10,13 @@
  *    steps apart so neighbouring groups differ in hue, at two lightness levels that alternate;
  *    the next ten use the same hues at the other level (twenty colours, then they repeat);
  *  - curvature: a diverging scale whose negative side is both warmer and darker/brighter than
- *    the neutral middle.
+ *    the neutral middle;
+ *  - node types (typed graphs): categorical hues taken from the theme's chart colours
+ *    (--vscode-charts-orange, -purple, -green, -yellow, -red) where the theme defines them, else
+ *    our own list, each kept at least TYPE_HOP_GAP degrees from the hop ramp's hue and redrawn at
+ *    our own OKLCH lightness (one level per background, a second level for the next round), so a
+ *    type colour never reads as a hop distance and keeps its contrast whatever the theme's chart
+ *    colours are.
  * Every data colour keeps a WCAG 2.x contrast ratio of at least 3:1 with the theme background
  * (tests/unit/panel-colours.test.ts). Theme colours come from the VS Code CSS variables.
  */
@@ -31,6 +37,8 @@ export interface Theme {
   edgeOpacity: number;
   fontFamily: string;
   fontSize: number;
+  /** OKLCH hues of the theme's chart colours usable for node types (typeHues); absent: our own list. */
+  typeHues?: number[];
 }
 
 /** Current theme from the body classes and CSS variables (fallbacks for a plain page). */
@@ -55,6 +63,7 @@ export function readTheme(doc: Document = document): Theme {
     edgeOpacity: hc ? 0.7 : 0.28,
     fontFamily: v('--vscode-font-family', 'system-ui, sans-serif'),
     fontSize: parseFloat(v('--vscode-font-size', '13')) || 13,
+    typeHues: typeHues(TYPE_CHART_VARIABLES.map((name) => css.getPropertyValue(name).trim())),
   };
 }
 
@@ -237,4 +246,63 @@ export function mix(a: string, b: string, w: number): string {
   const x = rgb(a), y = rgb(b);
   if (Number.isNaN(x.r) || Number.isNaN(y.r)) return a;
   return rgb(x.r * w + y.r * (1 - w), x.g * w + y.g * (1 - w), x.b * w + y.b * (1 - w)).formatHex();
+}
+
+// ---- node types (typed graphs) ----------------------------------------------------------------------------
+
+/** The theme's chart colours a node-type palette starts from, in order (blue is left out: it is the hop ramp's family). */
+export const TYPE_CHART_VARIABLES = ['--vscode-charts-orange', '--vscode-charts-purple', '--vscode-charts-green', '--vscode-charts-yellow', '--vscode-charts-red'];
+/** Our own hues when the theme has no chart colours: vermilion, green, magenta, amber, indigo (at least 50° apart). */
+export const TYPE_HUES = [25, 125, 315, 75, 265];
+/** Least hue distance (degrees) between a type colour and the hop ramp's hue, and between two type hues. */
+export const TYPE_HOP_GAP = 40;
+const TYPE_MIN_SPACING = 40;
+/** OKLCH lightness per background: the first round of hues, then the second. */
+const TYPE_LIGHT: [number, number] = [0.56, 0.45];
+const TYPE_DARK: [number, number] = [0.76, 0.64];
+
+const hueDistance = (a: number, b: number) => { const d = Math.abs(a - b) % 360; return d > 180 ? 360 - d : d; };
+
+/**
+ * Hues for node types from the theme's chart colours (CSS colour strings; empty or unparsable ones
+ * skipped): a hue too near the hop ramp or too near a hue already taken is left out, and our own
+ * hues (TYPE_HUES) fill the list up to its length. Undefined when the theme gives none.
+ */
+export function typeHues(colours: string[]): number[] | undefined {
+  const out: number[] = [];
+  for (const c of colours) {
+    if (!c) continue;
+    const [L, a, b] = oklab(c);
+    if (!Number.isFinite(L) || Math.hypot(a, b) < 0.04) continue; // grey: no hue to take
+    const h = ((Math.atan2(b, a) * 180) / Math.PI + 360) % 360;
+    if (hueDistance(h, HOP_HUE) < TYPE_HOP_GAP || out.some((x) => hueDistance(x, h) < TYPE_MIN_SPACING)) continue;
+    out.push(h);
+  }
+  if (!out.length) return undefined;
+  for (const h of TYPE_HUES) {
+    if (out.length >= TYPE_HUES.length) break;
+    if (!out.some((x) => hueDistance(x, h) < TYPE_MIN_SPACING)) out.push(h);
+  }
+  return out;
+}
+
+const typeCache = new Map<string, string>();
+
+/**
+ * Colour of node type i: hue i of the theme's type hues (or ours), at our lightness for the
+ * background; after every hue was used once, the same hues at the second lightness level.
+ */
+export function typeColour(i: number, dark: boolean, hues: number[] = TYPE_HUES): string {
+  const list = hues.length ? hues : TYPE_HUES;
+  const n = Math.max(0, Math.floor(i)) % (2 * list.length);
+  const h = list[n % list.length]!;
+  const round = n >= list.length ? 1 : 0;
+  const key = `${h}/${round}/${dark}`;
+  let c = typeCache.get(key);
+  if (c === undefined) {
+    const L = (dark ? TYPE_DARK : TYPE_LIGHT)[round]!;
+    c = oklchHex(L, Math.min(0.15, 0.9 * maxChroma(L, h)), h);
+    typeCache.set(key, c);
+  }
+  return c;
 }

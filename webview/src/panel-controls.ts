@@ -10,7 +10,7 @@ import '@vscode-elements/elements/dist/vscode-radio-group/index.js';
 import '@vscode-elements/elements/dist/vscode-textfield/index.js';
 import type { SendingRow, ViewMode } from '../../common/panel-messages';
 import { custom, el } from './dom';
-import type { PanelModel } from './panel-model';
+import { viewMode, type PanelModel } from './panel-model';
 import { plural } from './panel-numbers';
 
 /** Most layers the slider offers. */
@@ -73,7 +73,9 @@ export function createControls(model: PanelModel, act: ControlActions): Controls
   const modeGroup = custom('vscode-radio-group', { id: 'mode', 'aria-label': 'Colour by' },
     custom('vscode-radio', { name: 'mode', value: 'hops', label: 'Hop distance', checked: '' }, 'Hop distance'),
     custom('vscode-radio', { name: 'mode', value: 'wl', label: '1-WL classes' }, '1-WL classes'),
-    custom('vscode-radio', { name: 'mode', value: 'bottlenecks', label: 'Bottlenecks' }, 'Bottlenecks'));
+    custom('vscode-radio', { name: 'mode', value: 'bottlenecks', label: 'Bottlenecks' }, 'Bottlenecks'),
+    // Typed graphs only (shown when the field has node types).
+    custom('vscode-radio', { name: 'mode', value: 'types', label: 'Node types', id: 'mode-types', hidden: '' }, 'Node types'));
   const findInput = custom('vscode-textfield', { id: 'find', type: 'number', min: '0', placeholder: 'find id', 'aria-label': 'Find a node in the drawing', size: '7' }) as HTMLElement & { value: string };
   const fitButton = custom('vscode-button', { id: 'fit', secondary: '', title: 'Fit the drawing to the view (0)' }, 'Fit');
   const svgButton = custom('vscode-button', { id: 'export-svg', secondary: '' }, 'Save SVG…');
@@ -125,7 +127,7 @@ export function createControls(model: PanelModel, act: ControlActions): Controls
   symmetriseBox.addEventListener('change', () => { model.save({ symmetrise: symmetriseBox.checked }); act.requestField(); });
   modeGroup.addEventListener('change', () => {
     const v = checkedValue(modeGroup) as ViewMode | undefined;
-    if ((v === 'hops' || v === 'wl' || v === 'bottlenecks') && v !== (model.state.mode ?? 'hops')) { model.save({ mode: v }); act.modeChanged(); }
+    if ((v === 'hops' || v === 'wl' || v === 'bottlenecks' || v === 'types') && v !== viewMode(model)) { model.save({ mode: v }); act.modeChanged(); }
   });
   onEnter(findInput, () => act.find(readNode(findInput.value)));
   fitButton.addEventListener('click', () => act.fit());
@@ -144,7 +146,10 @@ export function createControls(model: PanelModel, act: ControlActions): Controls
       layersInput.setAttribute('aria-valuetext', plural(state.layers ?? 2, 'layer'));
       selfLoopsBox.checked = state.selfLoops !== false;
       symmetriseBox.checked = state.symmetrise === true;
-      const mode = state.mode ?? 'hops';
+      const mode = viewMode(model);
+      const typed = model.view?.nodeTypes !== undefined;
+      const typesRadio = modeGroup.querySelector('#mode-types') as HTMLElement | null;
+      if (typesRadio) typesRadio.hidden = !typed;
       for (const r of modeGroup.querySelectorAll('vscode-radio')) (r as Checkable).checked = r.getAttribute('value') === mode;
       const row = state.sendingRow ?? model.view?.sendingRow;
       for (const r of sendingRowGroup.querySelectorAll('vscode-radio')) (r as Checkable).checked = r.getAttribute('value') === String(row);

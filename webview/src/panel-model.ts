@@ -6,12 +6,14 @@
 import type { BottlenecksPayload, FieldViewPayload, PairFieldPayload, SmoothingPayload, WlClassesPayload } from '../../common/protocol';
 import type { PanelState, ViewMode } from '../../common/panel-messages';
 import type { Theme } from './panel-colours';
+import type { CeilingResult } from '../../common/ceiling';
 
 export interface PanelModel {
   /** Kept across reloads of the webview; change it only through save(). */
   state: PanelState;
   save(patch: Partial<PanelState>): void;
-  file: { uri: string; name: string } | undefined;
+  /** `graph`: a graph of a dataset of many graphs (0-based). */
+  file: { uri: string; name: string; graph?: number } | undefined;
   /** Number of the latest field request; answers to older ones are dropped. */
   seq: number;
   /** What the stage draws: the field, or in pair mode the pair's union (panel-pair.ts pairAsView). */
@@ -23,8 +25,18 @@ export interface PanelModel {
   /** null: no smoothing curve for this file (smoothingNote may say why). */
   smoothing: SmoothingPayload | null | undefined;
   smoothingNote: string | undefined;
+  /** The accuracy ceiling by layers (node labels); null: none for this graph (ceilingNote may say why). */
+  ceiling: CeilingResult | null | undefined;
+  ceilingNote: string | undefined;
   theme: Theme;
 }
 
-/** The colouring chosen in the panel (hop distance unless changed). */
-export const viewMode = (m: PanelModel): ViewMode => m.state.mode ?? 'hops';
+/**
+ * The colouring chosen in the panel: hop distance unless changed; a typed graph's nodes are coloured
+ * by type until another colouring is chosen. Node types need a field that has them.
+ */
+export const viewMode = (m: PanelModel): ViewMode => {
+  const typed = m.view?.nodeTypes !== undefined;
+  const mode = m.state.mode ?? (typed ? 'types' : 'hops');
+  return mode === 'types' && !typed ? 'hops' : mode;
+};

@@ -13,6 +13,7 @@ import { custom, el, type Child } from './dom';
 import { curvatureColour, groupColour, hopColour, isDarkBackground, mix, pairEdgeColour } from './panel-colours';
 import { PAIR_EDGE_NOTE, pairEdgeIndex, pairNodeTitle } from './panel-pair';
 import { swatch } from './panel-charts';
+import { typedName, typeFills, typeLegend } from './panel-types';
 import type { LayoutResult, LayoutRunner } from './panel-layout-runner';
 import { viewMode, type PanelModel } from './panel-model';
 import { num, pct, plural } from './panel-numbers';
@@ -154,7 +155,7 @@ export class Stage {
       const t = pairNodeTitle(this.model.pair, i);
       return wl && viewMode(this.model) === 'wl' && wl.colours[i]! >= 0 ? `${t} · 1-WL class of ${plural(wl.classSizes[i]!, 'node')} in the graph` : t;
     }
-    const parts = [`node ${v.ids[i]}`, i === 0 ? 'centre' : `hop ${v.hops[i]}`, `influence ${num(v.weights[i]!)}`];
+    const parts = [v.nodeTypes ? `${typedName(v.nodeTypes, i)} (node ${v.ids[i]})` : `node ${v.ids[i]}`, i === 0 ? 'centre' : `hop ${v.hops[i]}`, `influence ${num(v.weights[i]!)}`];
     const label = v.labels?.[i];
     if (label !== undefined && label !== null) parts.push(`label ${String(label)}`);
     if (wl && viewMode(this.model) === 'wl' && wl.colours[i]! >= 0) parts.push(`1-WL class of ${plural(wl.classSizes[i]!, 'node')} in the graph`);
@@ -177,6 +178,8 @@ export class Stage {
         const gi = groupIndex.get(wl.colours[i]!);
         return gi === undefined ? neutral : groupColour(gi, dark);
       });
+    } else if (mode === 'types' && v.nodeTypes) {
+      nodeFill = typeFills(v.nodeTypes, theme);
     } else if (mode !== 'hops') {
       nodeFill = v.ids.map(() => neutral);
     }
@@ -384,7 +387,7 @@ export class Stage {
     }
     const total = view.weights.reduce((a, b) => a + b, 0);
     const parts: Child[] = [
-      el('b', {}, `Node ${view.ids[i]}`),
+      el('b', {}, view.nodeTypes ? `${typedName(view.nodeTypes, i)} (node ${view.ids[i]})` : `Node ${view.ids[i]}`),
       i === 0 ? ' — the centre' : ` — hop ${view.hops[i]}`,
       `, influence ${num(view.weights[i]!)}${total > 0 ? ` (${pct(view.weights[i]! / total)} of the drawn weight)` : ''}`,
     ];
@@ -420,6 +423,8 @@ export class Stage {
       const items = view.perHop.map((c, k) => el('span', { class: 'item' }, swatch(hopColour(k, Math.max(1, view.layers), dark)), k === 0 ? 'centre' : `hop ${k}`, el('span', { class: 'muted' }, ` ${view.shownPerHop[k]}${view.sampled && view.shownPerHop[k] !== c ? `/${c}` : ''}`)));
       legend.append(el('span', { class: 'muted' }, 'Colour = hops from the centre; size = influence on it. '), ...items);
       if (view.edgeDirs.some((d) => d !== 3)) legend.append(el('span', { class: 'muted' }, ' Arrows: one-way edges, pointing where messages go.'));
+    } else if (mode === 'types') {
+      legend.append(...typeLegend(view, theme));
     } else if (mode === 'wl') {
       legend.append(el('span', { class: 'muted' }, wl
         ? 'Same colour = 1-WL cannot tell these nodes apart: without distinguishing node features every message-passing network gives them the same output. Grey: no other drawn node has its colour.'

@@ -22,6 +22,7 @@ import { pct, plural } from './panel-numbers';
 import { pngBytes, svgText } from './panel-render';
 import { nodeRadii, Stage } from './panel-stage';
 import { pairAsView, pairSummary } from './panel-pair';
+import { drawCeiling, drawTypeHops } from './panel-types';
 
 interface VsCodeApi {
   postMessage(m: PanelRequest): void;
@@ -37,6 +38,7 @@ const model: PanelModel = {
   save: (patch) => { model.state = { ...model.state, ...patch }; vscode.setState(model.state); },
   file: undefined, seq: 0,
   view: undefined, pair: undefined, wl: undefined, bottlenecks: undefined, smoothing: undefined, smoothingNote: undefined,
+  ceiling: undefined, ceilingNote: undefined,
   theme: readTheme(),
 };
 const save = (patch: Partial<PanelState>) => model.save(patch);
@@ -65,6 +67,10 @@ const status = el('p', { id: 'status', class: 'muted' });
 const hopChart = el('figure', { id: 'hop-bars', class: 'chart' });
 const coverageChart = el('figure', { id: 'coverage-chart', class: 'chart' });
 const smoothingChart = el('figure', { id: 'smoothing-chart', class: 'chart', hidden: '' });
+const typeHopsChart = el('figure', { id: 'type-hops', class: 'chart', hidden: '' });
+const ceilingChart = el('figure', { id: 'ceiling-chart', class: 'chart', hidden: '' });
+/** Layers the ceiling chart covers (the slider's range). */
+const CEILING_LAYERS = 8;
 const modeInfo = el('section', { id: 'mode-info' });
 const layouts = new LayoutRunner(workerUrl);
 const fieldLayouts = new FieldLayouts(layouts);
@@ -76,7 +82,7 @@ app.replaceChildren(
   summary, errorBox,
   el('div', { class: 'body' },
     el('div', { class: 'drawing' }, stage.element, stage.legend, stage.details, stage.keysHint),
-    el('aside', { class: 'side' }, hopChart, coverageChart, smoothingChart, modeInfo),
+    el('aside', { class: 'side' }, hopChart, typeHopsChart, ceilingChart, coverageChart, smoothingChart, modeInfo),
   ),
   status,
 );
@@ -165,14 +171,16 @@ function drawSummary(): void {
   const L = plural(v.layers, 'layer');
   const how = v.symmetrised ? 'messages both ways' : v.sendingRow === 0 ? 'row 0 sends to row 1' : 'row 1 sends to row 0';
   const rule = v.selfLoops ? 'every node within reach' : `only nodes with a walk of exactly ${L}`;
-  let text = `Node ${v.node} hears from ${plural(v.total, 'node')} — ${pct(v.coverage)} of ${v.graphNodes.toLocaleString('en-US')} — after ${L} (${how}; ${rule}).`;
+  const which = v.graph ? ` (graph ${v.graph.index} of ${v.graph.of.toLocaleString('en-US')})` : '';
+  const who = v.nodeTypes ? `${v.nodeTypes.centre.type} ${v.nodeTypes.centre.id} (node ${v.node})` : `Node ${v.node}`;
+  let text = `${who}${which} hears from ${plural(v.total, 'node')} — ${pct(v.coverage)} of ${v.graphNodes.toLocaleString('en-US')} — after ${L} (${how}; ${rule}).`;
   if (!v.centreInField) text += ` Without self-loops its own state does not survive ${L}.`;
   if (v.layers > 0 && v.perHop[v.layers] === 0 && v.total < v.graphNodes) text += ' The field stopped growing: no further node can reach it.';
   text += v.sampled ? ` Showing ${v.shown.toLocaleString('en-US')} of ${v.total.toLocaleString('en-US')} (a fixed sample).` : '';
   if (v.edgesTotal > v.edgeDirs.length) text += ` ${v.edgeDirs.length.toLocaleString('en-US')} of ${v.edgesTotal.toLocaleString('en-US')} edges among them are drawn, those nearest the centre.`;
   if (v.fileErrors) text += ` The file has ${plural(v.fileErrors, 'error')}; only in-range edges are used.`;
   summary.textContent = text;
-  title.textContent = `Receptive field of node ${v.node}`;
+  title.textContent = `Receptive field of ${v.nodeTypes ? `${v.nodeTypes.centre.type} ${v.nodeTypes.centre.id}` : `node ${v.node}`}${v.graph ? ` in graph ${v.graph.index}` : ''}`;
 }
 
 function drawSmoothing(): void {
@@ -185,6 +193,8 @@ function drawModeInfo(): void {
 
 function drawSide(): void {
   drawHopBars(hopChart, model.view, model.theme);
+  drawTypeHops(typeHopsChart, model.pair ? undefined : model.view, model.theme);
+  drawCeiling(ceilingChart, model.ceiling, model.ceilingNote, model.view?.layers ?? 0);
   // The coverage curve is a property of single nodes: hidden in pair mode.
   coverageChart.hidden = model.pair !== undefined;
   if (!model.pair) drawCoverage(coverageChart, model.view);
@@ -228,10 +238,11 @@ window.addEventListener('message', (e: MessageEvent<PanelMessage>) => {
   switch (m.type) {
     case 'init': {
       const sameFile = model.state.uri === m.file.uri;
+      const sameGraph = model.state.graph === m.file.graph;
       model.file = m.file;
-      fileLabel.textContent = m.file.name;
+      fileLabel.textContent = m.file.graph !== undefined ? `${m.file.name} · graph ${m.file.graph}` : m.file.name;
       fileLabel.title = m.file.uri;
-      if (!sameFile) save({ uri: m.file.uri, name: m.file.name, zoom: undefined, selected: undefined, sendingRow: undefined, pair: undefined });
+      if (!sameFile || !sameGraph) save({ uri: m.file.uri, name: m.file.name, graph: m.file.graph, zoom: undefined, selected: undefined, sendingRow: undefined, pair: undefined });
       if (m.node !== undefined && m.node === model.state.pair) save({ pair: undefined });
       if (m.node !== undefined) { if (m.node !== model.state.node) save({ zoom: undefined }); save({ node: m.node }); }
       if (model.state.node === undefined) save({ node: 0 });
@@ -239,6 +250,7 @@ window.addEventListener('message', (e: MessageEvent<PanelMessage>) => {
       controls.sync();
       requestField();
       post({ type: 'smoothing' });
+      post({ type: 'ceiling', layers: CEILING_LAYERS });
       break;
     }
     case 'pair':
@@ -250,7 +262,8 @@ window.addEventListener('message', (e: MessageEvent<PanelMessage>) => {
       const keep = model.state.selected !== undefined ? view.ids.indexOf(model.state.selected) : -1;
       stage.selected = keep;
       stage.highlight = null;
-      if (model.state.sendingRow === undefined) controls.sync();
+      // The file's own direction, and the node-type colouring offered only for a typed graph.
+      controls.sync();
       drawSummary();
       drawSide();
       ensureModeData();
@@ -272,10 +285,16 @@ window.addEventListener('message', (e: MessageEvent<PanelMessage>) => {
       model.smoothingNote = m.note;
       drawSmoothing();
       break;
+    case 'ceiling':
+      model.ceiling = m.data;
+      model.ceilingNote = m.note;
+      drawCeiling(ceilingChart, model.ceiling, model.ceilingNote, model.view?.layers ?? 0);
+      break;
     case 'changed':
       fieldLayouts.forget();
       requestField();
       post({ type: 'smoothing' });
+      post({ type: 'ceiling', layers: CEILING_LAYERS });
       break;
     case 'exported':
       status.textContent = `Saved ${m.path}`;

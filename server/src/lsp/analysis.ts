@@ -11,7 +11,7 @@
 import { LSPErrorCodes, ResponseError, type CancellationToken, type Connection } from 'vscode-languageserver/node';
 import { URI } from 'vscode-uri';
 import {
-  BottlenecksRequest, DatasetTableRequest, FieldViewRequest, PairFieldRequest, SmoothingRequest, WlClassesRequest,
+  BottlenecksRequest, CeilingRequest, DatasetTableRequest, FieldViewRequest, PairFieldRequest, SmoothingRequest, WlClassesRequest,
 } from '../../../common/protocol';
 import { WorkerCancelled, type AnalysisError, type CallOptions, type WorkerApi } from '../node/worker-methods';
 import { graphKey } from '../node/graph-key';
@@ -45,7 +45,7 @@ function graphOf(g: unknown): number | undefined {
   return g;
 }
 
-export function registerAnalysisRequests(connection: Connection, api: Pick<WorkerApi, 'fieldView' | 'pairField' | 'wlClasses' | 'bottlenecks' | 'smoothing' | 'datasetTable'>): void {
+export function registerAnalysisRequests(connection: Connection, api: Pick<WorkerApi, 'fieldView' | 'pairField' | 'wlClasses' | 'bottlenecks' | 'smoothing' | 'datasetTable' | 'ceiling'>): void {
   /** The analysed graph's key: the file, or graph g of the dataset in it (node/dataset-views.ts). */
   const file = (uri: string, graph?: unknown) => graphKey(URI.parse(uri).fsPath, graphOf(graph));
   /** The token, ahead of queued workspace checks, superseding the last request of this kind for the file. */
@@ -72,6 +72,11 @@ export function registerAnalysisRequests(connection: Connection, api: Pick<Worke
   connection.onRequest(SmoothingRequest.type, (p, token) => {
     const path = file(p.uri, p.graph);
     return unwrap(api.smoothing({ path, ...(p.steps !== undefined ? { steps: p.steps } : {}) }, options('smoothing', path, token)));
+  });
+  connection.onRequest(CeilingRequest.type, (p, token) => {
+    const path = file(p.uri);
+    const layers = p.layers === undefined ? undefined : Math.max(0, Math.min(16, Math.floor(Number(p.layers)) || 0));
+    return unwrap(api.ceiling({ path, ...(layers !== undefined ? { layers } : {}) }, options('ceiling', path, token)));
   });
   connection.onRequest(DatasetTableRequest.type, (p, token) => {
     const path = file(p.uri);

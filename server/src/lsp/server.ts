@@ -34,6 +34,7 @@ import { GraphWorkspace } from './workspace';
 import {
   codeExplanationMarkdown, fileSummaryMarkdown, integerAt, nodeInfoMarkdown, pathLiteralAt,
 } from './hover-text';
+import { CeilingHovers } from './ceiling-hover';
 
 /** Where each problem code is explained: the problem table of the README shipped with the extension. */
 export const DOCS_URL = `${URI.file(path.join(__dirname, '..', 'README.md')).toString()}#problem-`;
@@ -67,6 +68,8 @@ export function startServer(connection: Connection, workerScript: string): void 
   let folderEvents = false;
 
   const publisher = new DiagnosticsPublisher(connection);
+  /** The accuracy ceiling in path hovers, waited for briefly (ceiling-hover.ts). */
+  const ceilings = new CeilingHovers(service);
   const workspace = new GraphWorkspace(service, {
     publish: (file, problems) => publisher.publish(file, problems.map((p) => toDiagnostic(p, file, DOCS_URL, relatedInfo))),
     status: () => sendStatus(),
@@ -229,8 +232,10 @@ export function startServer(connection: Connection, workerScript: string): void 
     }
     const open = `command:hopscope.openViewer?${encodeURIComponent(JSON.stringify([URI.file(target).toString()]))}`;
     const field = `command:hopscope.openFieldPanel?${encodeURIComponent(JSON.stringify([URI.file(target).toString()]))}`;
+    const ceiling = await ceilings.get(target, summary.report);
+    if (token.isCancellationRequested) return null;
     return {
-      contents: { kind: 'markdown', value: fileSummaryMarkdown(path.basename(target), summary.report, { ...(summary.size !== undefined ? { size: summary.size } : {}), ...(summary.graphFiles ? { graphFiles: summary.graphFiles } : {}), viewerCommand: open, fieldCommand: field }) },
+      contents: { kind: 'markdown', value: fileSummaryMarkdown(path.basename(target), summary.report, { ...(summary.size !== undefined ? { size: summary.size } : {}), ...(summary.graphFiles ? { graphFiles: summary.graphFiles } : {}), viewerCommand: open, fieldCommand: field, ...(ceiling ? { ceiling } : {}) }) },
       range,
     };
   });
