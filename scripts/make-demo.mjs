@@ -5,6 +5,7 @@ import { mkdirSync, readdirSync, writeFileSync, rmSync } from 'node:fs';
 import { join } from 'node:path';
 import { deflateRawSync } from 'node:zlib';
 import { writeTypedDemo } from './make-demo-typed.mjs';
+import { writeDatasetDemo } from './make-demo-datasets.mjs';
 
 const root = new URL('../demo/', import.meta.url).pathname;
 
@@ -219,6 +220,9 @@ write('rides/monthly/val_data.npz', npz({
 
 // --- the typed graph: citywide/citywide.npz (scripts/make-demo-typed.mjs) -------------------------
 writeTypedDemo({ write, npy, npz, i64, bool });
+
+// --- datasets of many graphs: patterns/ (scripts/make-demo-datasets.mjs) --------------------------
+writeDatasetDemo({ write, npy, npz, i64 });
 
 // --- the manifest --------------------------------------------------------------------------------
 write('hopscope.json', JSON.stringify({

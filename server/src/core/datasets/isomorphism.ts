@@ -327,7 +327,7 @@ export function isomorphismProblems(ds: Dataset, labels: DatasetColumn | undefin
       out.push({ file: ds.structureFile, problem: {
         code: 'isomorphic-label-conflict', severity: CODES['isomorphic-label-conflict'].severity, count: conflicting, graph: first, graphs: graphsIn,
         ...(tensor ? { tensor } : {}), locations: locs,
-        message: `${conflicting} group${conflicting === 1 ? '' : 's'} of isomorphic graphs (node features included) carry different labels (${quoted.join('; ')}). ` +
+        message: `${conflicting} group${conflicting === 1 ? '' : 's'} of isomorphic graphs (node features included) ${conflicting === 1 ? 'carries' : 'carry'} different labels (${quoted.join('; ')}). ` +
           'No model that sees only the structure and these features can get every graph of such a group right; check the labels, or add the information that tells them apart.' + undecidedNote,
       } });
     }

@@ -27,6 +27,12 @@ export interface BatchInput {
   edgeFeatures?: BatchPart;
 }
 
+/** The line of a text tensor's element, for problems that point at it. */
+function lineOf(t: DenseTensor, flat: number): { line?: number; column?: number } {
+  const span = t.locator?.locate(flat);
+  return span ? { line: span.line, column: span.column } : {};
+}
+
 export function readBatch(input: BatchInput): FoundDataset {
   const { edges, batch, ptr } = input;
   const files = [...new Set([edges, batch, ptr, input.features, input.labels, input.edgeFeatures].filter((p): p is BatchPart => !!p).map((p) => p.file))];
@@ -75,7 +81,7 @@ export function readBatch(input: BatchInput): FoundDataset {
         `${batch.tensor.name} is not sorted: node ${firstUnsorted} belongs to graph ${b[firstUnsorted]} after node ${firstUnsorted - 1} of graph ${b[firstUnsorted - 1]} ` +
         `(${unsorted} place${unsorted === 1 ? '' : 's'} where the graph id goes down). Pooling by segments and per-graph offsets assume each graph's nodes are contiguous; ` +
         'sort the nodes by graph (and renumber the edge ids) before batching. The graphs were checked as if regrouped.',
-        { tensor: batch.tensor.name, count: unsorted, locations: [{ tensor: batch.tensor.name, index: firstUnsorted }] }) });
+        { tensor: batch.tensor.name, count: unsorted, locations: [{ tensor: batch.tensor.name, index: firstUnsorted }], ...lineOf(batch.tensor, firstUnsorted) }) });
       pos = new Int32Array(N);
       nodeOrder = new Int32Array(N);
       const next = nodeOffsets.slice(0, G);
