@@ -236,6 +236,13 @@ export function checkSet(files: LoadedFile[], manifests: LoadedManifest[], cli: 
       if (r && q) r.problems.push(q);
     }
     if (d.summary) { const r = reports.get(normalise(d.summary.file)); if (r) r.dataset = d.summary.summary; }
+    // Tensor tables: the dataset's roles; offsets, counts and graph ids are no node tensors.
+    for (const p of d.files) {
+      for (const t of byPath.get(normalise(p))?.result?.tensors ?? []) {
+        const role = d.roles.find((x) => normalise(x.file) === normalise(p) && x.tensor === t.name)?.role ?? 'unknown';
+        roleOverride.set(t, { role, reason: 'declared' });
+      }
+    }
   }
 
   // 2. Everything else: containers and sibling groups, folder by folder.

@@ -4,6 +4,7 @@
  * alone), which problems go on which file and which file carries the dataset summary.
  */
 import type { DatasetSummary, Problem } from '../../../../common/report';
+import type { Role } from '../formats/types';
 import type { Dataset } from './model';
 import { findDatasets, type DatasetInputFile } from './read';
 import { checkDataset, summarise, type DatasetCheckOptions } from './check';
@@ -27,6 +28,19 @@ export interface CheckedDataset {
   summary?: { file: string; summary: DatasetSummary };
   /** False when a focus left it out: files claimed, nothing checked. */
   checked: boolean;
+  /** The role each tensor plays in the dataset, for the tensor tables (file, tensor name, role). */
+  roles: Array<{ file: string; tensor: string; role: Role }>;
+}
+
+/** Roles of the dataset's tensors: edges, features, labels; everything else (offsets, counts) unknown. */
+function rolesOf(ds: Dataset): CheckedDataset['roles'] {
+  const out: CheckedDataset['roles'] = [];
+  if (ds.edgeTensor) out.push({ file: ds.edgeTensor.file, tensor: ds.edgeTensor.tensor, role: 'edge-index' });
+  if (ds.nodeFeatures) out.push({ file: ds.nodeFeatures.file, tensor: ds.nodeFeatures.tensor, role: 'features' });
+  if (ds.nodeLabels) out.push({ file: ds.nodeLabels.file, tensor: ds.nodeLabels.tensor, role: 'labels' });
+  if (ds.graphLabels) out.push({ file: ds.graphLabels.file, tensor: ds.graphLabels.tensor, role: 'labels' });
+  if (ds.edgeFeatures) out.push({ file: ds.edgeFeatures.file, tensor: ds.edgeFeatures.tensor, role: 'edge-features' });
+  return out;
 }
 
 export function checkDatasetsIn(
@@ -48,7 +62,7 @@ export function checkDatasetsIn(
   const taken = new Set(fromManifests.flatMap((f) => f.files));
   for (const found of [...fromManifests, ...findDatasets(files.filter((f) => !taken.has(f.path)))]) {
     const checked = !focus || found.files.some(focus);
-    const item: CheckedDataset = { files: found.files, problems: [], checked };
+    const item: CheckedDataset = { files: found.files, problems: [], checked, roles: found.dataset ? rolesOf(found.dataset) : [] };
     if (!checked) { out.push(item); continue; }
     item.problems.push(...found.problems);
     if (found.dataset) {

@@ -26,6 +26,9 @@ export function findDatasets(files: readonly DatasetInputFile[]): FoundDataset[]
   const out: FoundDataset[] = [];
   const taken = new Set<string>();
   const add = (f: FoundDataset) => { out.push(f); for (const p of f.files) taken.add(p); };
+  // A batch vector found by its name alone makes a dataset only when it holds two graphs or more
+  // (or something is wrong with it): one graph is better served by the one-graph checks.
+  const addBatch = (f: FoundDataset) => { if (f.problems.length || (f.dataset && f.dataset.graphs >= 2)) add(f); };
 
   // 1. Folder layouts (named files): graph-kernel text folders, per-dataset CSV folders.
   for (const f of readFolders(files)) add(f);
@@ -36,7 +39,7 @@ export function findDatasets(files: readonly DatasetInputFile[]): FoundDataset[]
     const sliced = readSlices(file);
     if (sliced.length) { add(merge(sliced)); continue; }
     const input = batchInContainer(file);
-    if (input) add(readBatch(input));
+    if (input) addBatch(readBatch(input));
   }
 
   // 3. A batch / ptr vector saved on its own, beside the one edge-index file of its folder.
@@ -49,7 +52,7 @@ export function findDatasets(files: readonly DatasetInputFile[]): FoundDataset[]
   }
   for (const [, dirFiles] of byDir) {
     const input = batchInFolder(dirFiles);
-    if (input) add(readBatch(input));
+    if (input) addBatch(readBatch(input));
   }
 
   // 4. Splits: graph-index vectors beside each dataset.
