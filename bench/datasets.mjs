@@ -1,7 +1,8 @@
 // Datasets of many graphs at scale, part of `npm run bench` (also `npm run bench:datasets`):
 // 100,000 graphs of 25 nodes (2.5M nodes, 5M edge entries) saved by PyTorch as a (data, slices)
 // tuple with a graph-index split beside it (bench/datasets_make.py, seeded), checked by
-// `hopscope check --json`: per-graph checks and the isomorphism checks (labels and splits present).
+// `hopscope check --json`: per-graph checks and the isomorphism checks (labels and splits present);
+// then `hopscope ceiling` on the same file beside a NetworkX baseline (bench/ceiling_baseline.py).
 // Prints figures; nothing is asserted about time. Needs /usr/bin/python3 with PyTorch and NumPy
 // (Debian's python3-torch, python3-numpy); skipped with the reason otherwise.
 //
@@ -52,6 +53,40 @@ try {
   console.log(`   problems: ${report ? report.problems.map((p) => `${p.code} ×${p.count}${p.graphs !== undefined ? ` in ${p.graphs} graphs` : ''}`).join(', ') || 'none' : '-'}`);
   console.log(`   hopscope dataset check (per-graph checks + isomorphism): ${((phases.datasets ?? NaN) / 1000).toFixed(2)} s`);
   console.log(`   hopscope check (whole run: read ${((phases.read ?? NaN) / 1000).toFixed(2)} s): ${secs.toFixed(2)} s wall, peak RSS ${(rss / 1024).toFixed(0)} MiB`);
+  ceilingRow(file);
 } finally {
   rmSync(dir, { recursive: true, force: true });
+}
+
+// The accuracy ceiling (`hopscope ceiling`) of the same file, beside NetworkX computing it the
+// per-graph way (bench/ceiling_baseline.py: one weisfeiler_lehman_graph_hash per graph, with as many
+// iterations as our refinement needed, plus one) in the same run. Figures only.
+function ceilingRow(file) {
+  const runs = [];
+  for (const extra of [[], ['--with', 'triangles']]) {
+    const t = performance.now();
+    const h = spawnSync('/usr/bin/time', ['-f', '%M', process.execPath, join(root, 'dist/cli.js'), 'ceiling', file, '--json', ...extra],
+      { encoding: 'utf8', maxBuffer: 512 * 1024 ** 2, env: { ...process.env, HOPSCOPE_TIMINGS: '1' } });
+    const secs = (performance.now() - t) / 1000;
+    if (h.status !== 0) throw new Error(`hopscope ceiling exited ${h.status}: ${h.stderr}`);
+    const phases = JSON.parse(/HOPSCOPE_TIMINGS (\{.*\})/.exec(h.stderr)?.[1] ?? '{}');
+    const rss = Number(h.stderr.trim().split('\n').pop());
+    const j = JSON.parse(h.stdout);
+    runs.push(j);
+    const w = j.with?.[0];
+    console.log(`   hopscope ceiling${extra.length ? ' ' + extra.join(' ') : ''}: ${(100 * j.ceiling).toFixed(3)}% over ${j.groupCount} look-alike groups ` +
+      `(${j.conflictingGroups} with mixed labels, ${j.rounds} rounds)${w ? `; + ${w.with}: ${w.ceiling === null ? w.skipped : `${(100 * w.ceiling).toFixed(3)}%`}` : ''}; ` +
+      `ceiling ${(phases.ceiling / 1000).toFixed(2)} s (read ${(phases.read / 1000).toFixed(2)} s, dataset checks ${(phases.datasets / 1000).toFixed(2)} s), ` +
+      `${secs.toFixed(2)} s wall, peak RSS ${(rss / 1024).toFixed(0)} MiB`);
+  }
+  const nxOk = spawnSync(python, ['-c', 'import networkx'], { stdio: 'ignore' }).status === 0;
+  if (!nxOk) { console.log('   NetworkX baseline: skipped (needs python3-networkx)'); return; }
+  const ours = runs[0];
+  const iterations = Math.max(1, ours.rounds) + 1;
+  const b = spawnSync(python, [join(root, 'bench/ceiling_baseline.py'), file, '--iterations', String(iterations)], { encoding: 'utf8', maxBuffer: 64 * 1024 ** 2 });
+  if (b.status !== 0) { console.log(`   NetworkX baseline failed: ${b.stderr.trim().split('\n').pop()}`); return; }
+  const x = JSON.parse(b.stdout.trim().split('\n').pop());
+  const same = x.groups === ours.groupCount && x.conflictingGroups === ours.conflictingGroups && Math.abs(x.ceiling - ours.ceiling) < 1e-12;
+  console.log(`   NetworkX per-graph weisfeiler_lehman_graph_hash (${iterations} iterations): ${(100 * x.ceiling).toFixed(3)}% over ${x.groups} groups ` +
+    `(${x.conflictingGroups} with mixed labels), ${x.seconds.toFixed(2)} s (after torch.load) — ${same ? 'same groups and ceiling' : 'DIFFERENT from hopscope'}`);
 }

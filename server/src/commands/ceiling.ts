@@ -13,6 +13,7 @@ import {
   CeilingInputError, DEFAULT_COUNT_BUDGET_MS, DEFAULT_LAYERS, parseAugmentation, type Augmentation,
 } from '../core/graph/refinement/ceiling';
 import { computeCeiling } from '../node/ceiling-input';
+import { phaseTotals } from '../core/timing';
 import type { CeilingGroup, GraphCeilingResult, NodeCeilingLayer, NodeCeilingResult } from '../../../common/ceiling';
 
 const GROUPS_SHOWN = 10;
@@ -102,6 +103,7 @@ function wrapSentence(line: string): string[] {
 const pct = (x: number | null): string => (x === null ? '—' : `${(100 * x).toFixed(1)}%`);
 
 function run(argv: string[], io: CliIo): number {
+  const started = performance.now();
   return guarded('ceiling', USAGE, io, () => {
     const taken = takeAugmentations(argv);
     const { values: v, positionals: files } = parseCommandLine(taken.rest, OPTIONS);
@@ -133,6 +135,11 @@ function run(argv: string[], io: CliIo): number {
     }
     const { result, notes } = outcome;
     for (const n of notes) io.err(`hopscope ceiling: note: ${n}\n`);
+    if (process.env.HOPSCOPE_TIMINGS) {
+      const ph = phaseTotals();
+      const ms = (x: number | undefined) => Math.round(x ?? 0);
+      io.err(`HOPSCOPE_TIMINGS ${JSON.stringify({ read: ms(ph.read), datasets: ms(ph.datasets), ceiling: ms(ph.ceiling), total: ms(performance.now() - started) })}\n`);
+    }
     if (v.json) {
       io.out(JSON.stringify({ file, ...result }, null, 2) + '\n');
       return 0;

@@ -12,6 +12,7 @@ import {
   type Augmentation, type CeilingOptions,
 } from '../core/graph/refinement/ceiling';
 import { undirectedView } from '../core/graph/structure/undirected';
+import { timed } from '../core/timing';
 import type { LoadedFile } from '../core/checks/check-set';
 import type { FileCache, LoadOptions } from './load';
 import { readDatasets } from './dataset-load';
@@ -61,7 +62,7 @@ export function computeCeiling(file: string, request: CeilingRequest, check: Che
     }
     const errors = pick.problems.filter((p) => p.severity === 'error').length;
     if (errors) notes.push(`${file}: the dataset has ${errors} error${errors === 1 ? '' : 's'} (see hopscope check); the ceiling uses the edges that lie within their graph`);
-    return { result: graphCeiling(pick.dataset, request), notes };
+    return { result: timed('ceiling', () => graphCeiling(pick.dataset, request)), notes };
   }
   const loaded = loadGraph(file, check, opts);
   const errors = loaded.problems.filter((p) => p.severity === 'error').length;
@@ -87,11 +88,11 @@ export function computeCeiling(file: string, request: CeilingRequest, check: Che
     features = { data: x.data, width: x.shape.length <= 1 ? 1 : x.shape.slice(1).reduce((a, b) => a * b, 1) };
   }
   const g = undirectedView(loaded.fwd, loaded.rev, request.cancel);
-  const result = nodeCeiling(g, {
+  const result = timed('ceiling', () => nodeCeiling(g, {
     cls, classCount: names.length,
     ...(features ? { features } : {}),
     ...(request.layers !== undefined ? { layers: request.layers } : {}),
-  }, request);
+  }, request));
   return { result, notes };
 }
 
