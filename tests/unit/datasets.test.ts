@@ -282,3 +282,14 @@ describe('offsets and per-graph ids (definitions)', () => {
     expect(p.message).toMatch(/graph 0 \(3 nodes\): edge 2 uses id 3/);
   });
 });
+
+describe('ids that look 1-based in every graph', () => {
+  it('are out of range, and the message says they look 1-based (definition: local ids run 0..n-1)', () => {
+    const ds = build([{ nodes: 3, edges: [[1, 2], [2, 1], [2, 3], [3, 2]] }, { nodes: 2, edges: [[1, 2], [2, 1]] }]);
+    const p = checkDataset(ds).map((q) => q.problem).find((q) => q.code === 'index-out-of-range')!;
+    expect(p).toMatchObject({ count: 4, graph: 0, graphs: 2 });
+    expect(p.message).toMatch(/look 1-based/);
+    const zeroBased = build([{ nodes: 3, edges: [[0, 1], [1, 3]] }]);
+    expect(checkDataset(zeroBased).map((q) => q.problem).find((q) => q.code === 'index-out-of-range')!.message).not.toMatch(/1-based/);
+  });
+});

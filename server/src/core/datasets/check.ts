@@ -77,6 +77,8 @@ export function checkDataset(ds: Dataset, opts: DatasetCheckOptions = {}): Filed
   const noNodes = new Tally(), noEdges = new Tally();
   /** Graphs with edges whose pairs all have their reverse (the dataset looks undirected when most do). */
   let symmetricGraphs = 0, graphsWithPairs = 0;
+  /** Whether any in-graph endpoint is 0, and whether every out-of-range id equals its graph's node count (ids that look 1-based). */
+  let zeroSeen = false, oorAtN = true;
   const asymByGraph: number[] = [];
   const keys = new Float64Array(Math.max(1, maxE));
   const touched = new Int32Array(Math.max(1, maxN));
@@ -101,8 +103,10 @@ export function checkDataset(ds: Dataset, opts: DatasetCheckOptions = {}): Filed
         if (cross.wantsExample()) cross.locs.push(edgeLocation(ds, j, g, `graph ${g}: edge ${j - e0} leaves the graph`));
         continue;
       }
+      if (u === 0 || v === 0) zeroSeen = true;
       if (u < 0 || u >= n || v < 0 || v >= n) {
         bad++;
+        if ((u !== n && (u < 0 || u >= n)) || (v !== n && (v < 0 || v >= n))) oorAtN = false;
         if (oor.wantsExample()) {
           const id = u < 0 || u >= n ? u : v;
           oor.locs.push(edgeLocation(ds, j, g, `graph ${g} (${plural(n, 'node')}): edge ${j - e0} uses id ${id === -2147483648 ? '(not a whole number in int32)' : id}`));
@@ -167,7 +171,8 @@ export function checkDataset(ds: Dataset, opts: DatasetCheckOptions = {}): Filed
     report('index-out-of-range', oor,
       `${plural(oor.count, 'edge entry', 'edge entries')} ${inGraphs(oor)} ${oor.count === 1 ? 'uses' : 'use'} a node id outside their own graph (${quoted(oor)}). ` +
       'In a dataset each graph numbers its nodes from 0 to its node count − 1; an id that is valid for the whole batch is still wrong here. ' +
-      'These edges are left out of the analyses; fix the ids (or the node offsets) of those graphs.');
+      'These edges are left out of the analyses; fix the ids (or the node offsets) of those graphs.' +
+      (!zeroSeen && oorAtN ? ' No graph uses id 0 and every such id equals its graph\'s node count: the ids look 1-based; subtract 1 from them.' : ''));
   }
   if (cross.count) {
     report('cross-graph-edges', cross,
