@@ -18,7 +18,7 @@ import * as path from 'node:path';
 import type { MessageConnection } from 'vscode-jsonrpc/node';
 import { DidOpenTextDocumentNotification, HoverRequest, type Hover } from 'vscode-languageserver-protocol';
 import { URI } from 'vscode-uri';
-import { CeilingRequest, DatasetTableRequest, FieldViewRequest, StatusNotification } from '../../common/protocol';
+import { CeilingRequest, DatasetTableRequest, FieldViewRequest } from '../../common/protocol';
 import { unpackColumn } from '../../common/columns';
 import { ROOT as root, startServer, stopServer, type ServerSession } from './lsp-client';
 
@@ -31,7 +31,6 @@ const typedExpected = JSON.parse(fs.readFileSync(path.join(fixtures, 'typed/expe
 let ws: string;
 let session: ServerSession | undefined;
 let conn: MessageConnection;
-const statuses: Array<{ busy: boolean; filesChecked: number }> = [];
 const uri = (rel: string) => URI.file(path.join(ws, rel)).toString();
 const CODE = [
   'import numpy as np',
@@ -63,7 +62,7 @@ beforeAll(async () => {
     fs.copyFileSync(path.join(fixtures, src), path.join(ws, dir, path.basename(src)));
   }
   fs.writeFileSync(path.join(ws, 'train.py'), CODE);
-  session = await startServer(ws, 'datasets', (c) => { c.onNotification(StatusNotification.type, (s) => statuses.push(s)); });
+  session = await startServer(ws, 'datasets');
   conn = session.conn;
   await conn.sendNotification(DidOpenTextDocumentNotification.type, { textDocument: { uri: uri('train.py'), languageId: 'python', version: 1, text: CODE } });
 }, 90_000);

@@ -74,3 +74,24 @@ describe('dataset views', () => {
     expect(Array.from(per)).toEqual([0, 1, 0, 0, 2]);
   });
 });
+
+describe('graph lines of a text dataset', () => {
+  it('each listed place of a graph problem learns the lines of its graph\'s edges', () => {
+    // The graph-kernel benchmark text layout (docs/references.md §11): NAME_A.txt one edge per line,
+    // 1-based global ids; NAME_graph_indicator.txt the graph of each node. Graph 1 = nodes 1-3 (lines
+    // 1-4 of A), graph 2 = nodes 4-6 (lines 5-8); line 3 joins node 3 (graph 1) to node 4 (graph 2).
+    const dir = fs.mkdtempSync(path.join(os.tmpdir(), 'hopscope-lines-'));
+    fs.writeFileSync(path.join(dir, 'TOY_A.txt'), '1, 2\n2, 1\n3, 4\n2, 3\n4, 5\n5, 4\n5, 6\n6, 5\n');
+    fs.writeFileSync(path.join(dir, 'TOY_graph_indicator.txt'), '1\n1\n1\n2\n2\n2\n');
+    fs.writeFileSync(path.join(dir, 'TOY_graph_labels.txt'), '0\n1\n');
+    const store = new GraphStore();
+    const out = store.check({ paths: [dir] });
+    const a = out.files.find((f) => f.path.endsWith('TOY_A.txt'))!;
+    const cross = a.problems.find((p) => p.code === 'cross-graph-edges');
+    expect(cross, JSON.stringify(a.problems.map((p) => p.code))).toBeDefined();
+    const loc = cross!.locations!.find((l) => l.line === 3)!;
+    expect(loc.graph).toBe(0);
+    expect(loc.graphLines).toEqual({ first: 1, last: 4 });
+    fs.rmSync(dir, { recursive: true, force: true });
+  });
+});

@@ -226,7 +226,7 @@ export class GraphTable {
       c[4]!.textContent = split ? SPLIT_NAMES[split[g]!] ?? '' : '';
       const p = problems[g]!;
       c[5]!.textContent = p ? String(p) : '';
-      c[5]!.className = p ? 'graph-cell num bad' : 'graph-cell num';
+      c[5]!.className = p ? 'graph-cell col-problems num bad' : 'graph-cell col-problems num';
       slot.row.setAttribute('aria-rowindex', String(r + 2));
       slot.row.dataset['graph'] = String(g);
       const sel = g === this.selected;

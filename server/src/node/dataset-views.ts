@@ -78,6 +78,50 @@ function cleanDataset(found: FoundDataset): Dataset {
   return inRange(found.dataset);
 }
 
+// ---- the lines of a graph (text layouts) ----------------------------------------------------------------
+
+/** Entries scanned per graph for its lines; beyond, the first and last entries' lines are taken. */
+const SCAN_LIMIT = 100_000;
+
+/**
+ * For datasets read from lines of text: each listed place of a problem that names a graph gets
+ * that graph's lines (`graphLines`: the first and last line holding its edges), so the editor can
+ * point at the graph's slice. Places are changed in place (the reports share them).
+ */
+export function addGraphLines(datasets: ReadonlyArray<{ dataset?: Dataset; problems: ReadonlyArray<{ problem: Problem }> }> | undefined): void {
+  for (const d of datasets ?? []) {
+    const ds = d.dataset, et = ds?.edgeTensor, locator = et?.locator;
+    if (!ds || !et || !locator) continue;
+    const known = new Map<number, { first: number; last: number } | null>();
+    const lineOf = (j: number) => {
+      const col = ds.edgeColumn ? ds.edgeColumn[j]! : j;
+      return locator.locate(et.layout === 'columns' ? col : 2 * col)?.line;
+    };
+    const linesOf = (g: number) => {
+      if (known.has(g)) return known.get(g)!;
+      let first = Infinity, last = -Infinity;
+      const e0 = ds.edgeOffsets[g] ?? 0, e1 = ds.edgeOffsets[g + 1] ?? 0;
+      const scan = e1 - e0 <= SCAN_LIMIT ? Array.from({ length: e1 - e0 }, (_, k) => e0 + k) : [e0, e1 - 1];
+      for (const j of scan) {
+        const line = lineOf(j);
+        if (line === undefined) continue;
+        if (line < first) first = line;
+        if (line > last) last = line;
+      }
+      const r = Number.isFinite(first) ? { first, last } : null;
+      known.set(g, r);
+      return r;
+    };
+    for (const { problem } of d.problems) {
+      for (const l of problem.locations ?? []) {
+        if (l.graph === undefined || l.line === undefined || l.graphLines || l.graph < 0 || l.graph >= ds.graphs) continue;
+        const r = linesOf(l.graph);
+        if (r) l.graphLines = r;
+      }
+    }
+  }
+}
+
 // ---- the table of graphs ------------------------------------------------------------------------------
 
 /** Per graph: how many of the problems list a place in it (or name it as their first graph). */

@@ -23,7 +23,7 @@ import { guessRole } from '../core/checks/roles';
 import { columnStats } from '../core/checks/stats';
 import type { Cancel } from '../core/cancel';
 import { checkPaths, collect, type FileCache, type LoadOptions } from './load';
-import { datasetTable, findDatasetFor, forgetDataset, loadAnalysisGraph } from './dataset-views';
+import { addGraphLines, datasetTable, findDatasetFor, forgetDataset, loadAnalysisGraph } from './dataset-views';
 import { ceilingAnswer } from './ceiling-input';
 import { AnalysisService } from './analysis-service';
 import { describeFixedCopy, writeFixedCopy } from './fixed-copy';
@@ -119,6 +119,8 @@ export class GraphStore implements MethodHandlers {
     const abs = p.paths.map((x) => path.resolve(x));
     // With `focus` (an editor's re-check of changed files) only their graphs are checked and reported.
     const r = checkPaths(abs, this.options, { ...this.loadOptions(cancel), ...(p.focus ? { focus: p.focus } : {}) });
+    // Dataset problems in text layouts: each listed place learns its graph's lines (the editor's related information).
+    addGraphLines(r.datasets);
     const structures: CheckOutcome['structures'] = [];
     for (const g of r.graphs) {
       const s = g.check.structure;
