@@ -29,6 +29,7 @@ const VALID: Record<string, string[]> = {
   compare: [KARATE, KARATE],
   bottlenecks: [KARATE],
   spectrum: [KARATE, '--k', '2'],
+  ceiling: [path.join(root, 'tests/fixtures/ceiling/karate.npz')], // karate club with its 'club' labels
 };
 
 describe('parseCommandLine', () => {
@@ -123,7 +124,7 @@ describe('hopscope check values', () => {
     const r = run('--help');
     expect(r.code).toBe(0);
     const listed = r.out.split('\n').filter((l) => /^ {2}\w/.test(l)).map((l) => l.trim().split(/\s+/)[0]);
-    expect(listed).toEqual(['check', 'field', 'wl', 'compare', 'bottlenecks', 'spectrum']);
+    expect(listed).toEqual(['check', 'field', 'wl', 'compare', 'bottlenecks', 'spectrum', 'ceiling']);
   });
 });
 
