@@ -109,7 +109,8 @@ export function checkDataset(ds: Dataset, opts: DatasetCheckOptions = {}): Filed
         if ((u !== n && (u < 0 || u >= n)) || (v !== n && (v < 0 || v >= n))) oorAtN = false;
         if (oor.wantsExample()) {
           const id = u < 0 || u >= n ? u : v;
-          oor.locs.push(edgeLocation(ds, j, g, `graph ${g} (${plural(n, 'node')}): edge ${j - e0} uses id ${id === -2147483648 ? '(not a whole number in int32)' : id}`));
+          const written = ds.globalIds && id !== -2147483648 ? ` (written ${id + base + ds.globalIds.base})` : '';
+          oor.locs.push(edgeLocation(ds, j, g, `graph ${g} (${plural(n, 'node')}): edge ${j - e0} uses id ${id === -2147483648 ? '(not a whole number in int32)' : id}${written}`));
         }
         continue;
       }
@@ -169,7 +170,7 @@ export function checkDataset(ds: Dataset, opts: DatasetCheckOptions = {}): Filed
 
   if (oor.count) {
     report('index-out-of-range', oor,
-      `${plural(oor.count, 'edge entry', 'edge entries')} ${inGraphs(oor)} ${oor.count === 1 ? 'uses' : 'use'} a node id outside their own graph (${quoted(oor)}). ` +
+      `${plural(oor.count, 'edge entry', 'edge entries')} ${inGraphs(oor)} ${oor.count === 1 ? 'uses' : 'use'} a node id outside ${oor.count === 1 ? 'its' : 'their'} own graph (${quoted(oor)}). ` +
       'In a dataset each graph numbers its nodes from 0 to its node count − 1; an id that is valid for the whole batch is still wrong here. ' +
       'These edges are left out of the analyses; fix the ids (or the node offsets) of those graphs.' +
       (!zeroSeen && oorAtN ? ' No graph uses id 0 and every such id equals its graph\'s node count: the ids look 1-based; subtract 1 from them.' : ''));

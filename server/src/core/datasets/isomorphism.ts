@@ -321,7 +321,9 @@ export function isomorphismProblems(ds: Dataset, labels: DatasetColumn | undefin
       if (first < 0 || cls[0]! < first) first = cls[0]!;
       const other = cls.find((_g, i) => texts[i] !== texts[0])!;
       if (quoted.length < 3) quoted.push(`graphs ${cls[0]} and ${other}: labels ${texts[0]} and ${labelText(labels, other)}${cls.length > 2 ? `, ${cls.length} graphs in the group` : ''}`);
-      for (const g of cls) if (locs.length < KEPT) locs.push({ graph: g, detail: `graph ${g} (label ${labelText(labels, g)}) isomorphic to graph ${cls[0]}`, ...(tensor ? { tensor } : {}) });
+      for (const g of cls) {
+        if (locs.length < KEPT) locs.push({ graph: g, detail: `graph ${g} (label ${labelText(labels, g)})${g === cls[0] ? '' : ` isomorphic to graph ${cls[0]}`}`, ...(tensor ? { tensor } : {}) });
+      }
     }
     if (conflicting) {
       out.push({ file: ds.structureFile, problem: {

@@ -58,6 +58,8 @@ export interface Dataset {
    * global ids): the entry is kept in its sender's graph, its receiver id relative to that graph.
    */
   crossGraph?: Int32Array;
+  /** The file holds global ids (batch, ptr, graph-kernel text): an id outside every graph was written as local + its graph's first node + `base`. */
+  globalIds?: { base: 0 | 1 };
   /** Graph ids were given per node (a batch vector) and were not sorted: nodes were regrouped. */
   nodeOrder?: Int32Array;
 }

@@ -156,6 +156,7 @@ export function readBatch(input: BatchInput): FoundDataset {
   }
   const ds: Dataset = {
     structureFile: edges.file, files, layout: batch ? 'batch' : 'ptr', graphs: G, nodeOffsets, edgeOffsets, src, dst,
+    globalIds: { base: 0 },
     edgeTensor: { file: edges.file, tensor: edges.tensor.name, layout: ends.layout, ...(edges.tensor.locator ? { locator: edges.tensor.locator } : {}) },
     ...(edgeColumn ? { edgeColumn } : {}),
     ...(cross.length ? { crossGraph: Int32Array.from(cross) } : {}),

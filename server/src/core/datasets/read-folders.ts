@@ -78,6 +78,7 @@ function readKernel(parts: Map<KernelPart, { path: string; tensor: DenseTensor }
   const ds = found.dataset;
   if (!ds) return found;
   ds.layout = 'graph-kernel-text';
+  ds.globalIds = { base: 1 };
   ds.files = found.files;
   if (graphLabels) ds.graphLabels = columnOf(graphLabels.path, graphLabels.tensor);
   const nl = parts.get('node_labels');
