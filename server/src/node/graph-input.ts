@@ -56,6 +56,10 @@ export function loadGraph(file: string, options: CheckSetOptions = {}, load: Loa
   const g = r.graphs.find((x) => x.check.structureFile !== null && path.resolve(x.check.structureFile) === abs && x.check.structure) ??
     // A typed graph of sibling files is found from any of its files.
     r.graphs.find((x) => isTypedCheck(x.check) && x.check.structure && x.files.some((f) => path.resolve(f) === abs));
+  const ds = !g ? r.datasets?.find((d) => d.dataset && d.files.some((f) => path.resolve(f) === abs)) : undefined;
+  if (ds?.dataset) {
+    throw new GraphLoadError(`${file} holds a dataset of ${ds.dataset.graphs} graphs (see hopscope check); this analysis takes one graph at a time (hopscope ceiling takes the whole dataset)`);
+  }
   if (!g || !g.check.structure || !g.check.figures) {
     throw new GraphLoadError(`${file}: no edge index or adjacency matrix found (tensors: ${report.tensors.map((t) => `${t.name} ${t.role}`).join(', ') || 'none'})`);
   }
