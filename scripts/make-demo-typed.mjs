@@ -3,7 +3,7 @@
 // tensors are named TYPE__key and SRC__REL__DST. All data here is invented.
 //
 // Node types: rider (30), dock (12), district (4), depot (3, planned service depots not linked yet).
-// Relations: rider__rides_from__dock (and its reverse dock__rev_rides_from__rider),
+// Relations: rider__rides_from__dock (and its reverse dock__serves__rider),
 // dock__near__dock (docks within walking distance, both directions), dock__located_in__district.
 // Planted:
 // - rider__rides_from__dock row 1 holds 21 once: a rider id (riders run 0..29) written where a dock
@@ -43,7 +43,7 @@ export function writeTypedDemo({ write, npy, npz, i64, bool }) {
 
   write('citywide/citywide.npz', npz({
     rider__rides_from__dock: rel(planted),
-    dock__rev_rides_from__rider: rel(reverse),
+    dock__serves__rider: rel(reverse),
     dock__near__dock: rel(near),
     dock__located_in__district: rel(locatedIn),
     rider__x: npy('<f4', [RIDERS, 3], f32(RIDERS, 3)),

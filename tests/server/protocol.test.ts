@@ -91,7 +91,7 @@ describe('language server over stdio', () => {
     const summary = await conn.sendRequest(FileSummaryRequest.type, { uri: uri('citywide/citywide.npz'), wait: true });
     expect(summary.report!.typed!.nodeTypes).toEqual({ rider: 30, dock: 12, district: 4, depot: 3 });
     expect(summary.report!.typed!.relations.map((r) => `${r.source}__${r.name}__${r.target}`)).toEqual([
-      'rider__rides_from__dock', 'dock__rev_rides_from__rider', 'dock__near__dock', 'dock__located_in__district']);
+      'rider__rides_from__dock', 'dock__serves__rider', 'dock__near__dock', 'dock__located_in__district']);
   });
 
   it('text diagnostics carry code, link and the exact range of the bad value', () => {

@@ -290,7 +290,7 @@ describe('the manifest form (nodeTypes / relations)', () => {
       // The sibling fixtures copied under names that say nothing; the manifest says what they are.
       const s = path.join(dir, 'siblings');
       fs.copyFileSync(path.join(s, 'author__writes__paper.npy'), path.join(tmp, 'w.npy'));
-      fs.copyFileSync(path.join(s, 'paper__rev_writes__author.npy'), path.join(tmp, 'rw.npy'));
+      fs.copyFileSync(path.join(s, 'paper__written_by__author.npy'), path.join(tmp, 'rw.npy'));
       fs.copyFileSync(path.join(s, 'paper__cites__paper.npy'), path.join(tmp, 'c.npy'));
       fs.copyFileSync(path.join(s, 'paper__x.npy'), path.join(tmp, 'px.npy'));
       const e = expected['clean.npz'] as Expect;
@@ -300,7 +300,7 @@ describe('the manifest form (nodeTypes / relations)', () => {
           nodeTypes: { author: { nodes: e.nodeTypes.author }, paper: { features: 'px.npy' } },
           relations: [
             { source: 'author', name: 'writes', target: 'paper', edges: 'w.npy' },
-            { source: 'paper', name: 'rev_writes', target: 'author', edges: 'rw.npy' },
+            { source: 'paper', name: 'written_by', target: 'author', edges: 'rw.npy' },
             { source: 'paper', name: 'cites', target: 'paper', edges: 'c.npy' },
           ],
         }],
@@ -315,14 +315,14 @@ describe('the manifest form (nodeTypes / relations)', () => {
       expect(f.graph!.components).toBe(e.graph.components);
       expect(r.manifestProblems).toEqual([]);
 
-      // A smaller declared author count: row 0 of writes and row 1 of rev_writes go out of range.
+      // A smaller declared author count: row 0 of writes and row 1 of written_by go out of range.
       manifest.graphs[0]!.nodeTypes.author.nodes = 5;
       fs.writeFileSync(path.join(tmp, 'hopscope.json'), JSON.stringify(manifest));
       const r2 = checkPaths([tmp]);
       const oor = problems(r2.files, 'index-out-of-range');
-      expect(oor.map((p) => p.relation).sort()).toEqual(['author__writes__paper', 'paper__rev_writes__author']);
+      expect(oor.map((p) => p.relation).sort()).toEqual(['author__writes__paper', 'paper__written_by__author']);
       expect(oor.find((p) => p.relation === 'author__writes__paper')!.message).toContain('row 0');
-      expect(oor.find((p) => p.relation === 'paper__rev_writes__author')!.message).toContain('row 1');
+      expect(oor.find((p) => p.relation === 'paper__written_by__author')!.message).toContain('row 1');
       // Both rows hold the same author ids (one relation is the other reversed): equal counts.
       expect(oor[0]!.count).toBe(oor[1]!.count);
     } finally {

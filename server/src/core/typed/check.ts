@@ -153,7 +153,7 @@ export function checkTypedGraph(g: TypedGraph, opts: GraphOptions = {}, limits: 
     if (g.relations.some((q) => q.source === r.target && q.target === r.source)) continue;
     stamped(problems, { relation: r.key })(asPart(r.edges), 'one-way-relation',
       `${r.key}: no relation goes back from ${r.target} to ${r.source}, so ${r.source} nodes never hear from ${r.target} nodes ` +
-      `(messages flow ${r.source} → ${r.target} only). Most pipelines add the reverse relation (e.g. ${r.target}__rev_${r.name}__${r.source}, the edge index with its rows swapped).`,
+      `(messages flow ${r.source} → ${r.target} only). Most pipelines add the reverse relation: the same edge index with its rows swapped, as a relation from ${r.target} to ${r.source}.`,
       1);
   }
   g.nodeTypes.forEach((t, i) => {
