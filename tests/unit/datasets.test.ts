@@ -293,3 +293,19 @@ describe('ids that look 1-based in every graph', () => {
     expect(checkDataset(zeroBased).map((q) => q.problem).find((q) => q.code === 'index-out-of-range')!.message).not.toMatch(/1-based/);
   });
 });
+
+describe('per-graph columns (definitions: one feature row per node of every graph, one row per edge entry)', () => {
+  it('NaN features are attributed to their graph; rows that do not add up are reported on the column', () => {
+    const ds = build([{ nodes: 2, edges: [[0, 1], [1, 0]] }, { nodes: 3, edges: [[0, 1], [1, 0], [1, 2], [2, 1]] }]);
+    ds.nodeFeatures = { file: 'x.npy', tensor: 'x', rows: 5, columns: 2, data: Float64Array.from([0, 0, 1, 1, 2, NaN, 3, 3, Infinity, 4]) };
+    let ps = checkDataset(ds).map((p) => p.problem);
+    const nf = ps.find((p) => p.code === 'non-finite-features')!;
+    expect(nf).toMatchObject({ count: 2, graph: 1, graphs: 1 });
+    expect(nf.locations!.map((l) => l.detail)).toEqual(['graph 1: node 0, column 1: NaN', 'graph 1: node 2, column 0: Infinity']);
+    ds.nodeFeatures = { file: 'x.npy', tensor: 'x', rows: 4, columns: 1, data: Float64Array.from([0, 1, 2, 3]) };
+    ds.edgeFeatures = { file: 'e.npy', tensor: 'e', rows: 5, columns: 1, data: Float64Array.from([0, 1, 2, 3, 4]) };
+    ds.graphLabels = { file: 'y.npy', tensor: 'y', rows: 3, columns: 1, data: Int32Array.from([0, 1, 0]) };
+    ps = checkDataset(ds).map((p) => p.problem);
+    expect(ps.map((p) => p.code).sort()).toEqual(['edge-features-rows-mismatch', 'feature-rows-mismatch', 'graph-labels-mismatch']);
+  });
+});
