@@ -247,7 +247,7 @@ export interface FieldViewPayload extends FieldHeader, DrawnEdges {
   hops: number[];
   /** Influence of each drawn node on the centre: row `node` of Â^L (GCN), or of (D^-1/2 A D^-1/2)^L without self-loops. */
   weights: number[];
-  /** Per drawn node, the value of the label tensor when the graph has one. */
+  /** Per drawn node, the value of the label tensor when the graph has one (in a typed graph, of the node's own type's labels; null for types without). */
   labels?: Array<string | number | null>;
   /** When the request named a graph of a dataset: that graph (0-based) and how many the dataset holds. */
   graph?: { index: number; of: number };

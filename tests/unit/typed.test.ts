@@ -228,6 +228,9 @@ describe('hopscope field --node TYPE:ID', () => {
       expect(u).toBeLessThan(nt.offsets[t + 1]!);
       expect(nt.localIds[i]).toBe(u - nt.offsets[t]!);
     });
+    // Labels per drawn node from its own type: paper__y (NumPy-written) for papers, none for authors.
+    const y = expected['clean.npz'].paperLabels as number[];
+    p.ids.forEach((_, i) => expect(p.labels![i]).toBe(nt.typeOf[i] === 1 ? y[nt.localIds[i]!] : null));
     // Without self-loops the members are the walk frontier: the per-type rows still sum to perHop.
     const q = svc.field(path.join(dir, 'clean.npz'), { node: Number(id), nodeType: type, layers: f.layers, selfLoops: false });
     if ('error' in q) throw new Error(q.error);

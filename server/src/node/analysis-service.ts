@@ -104,7 +104,7 @@ export class AnalysisService {
       e.coverage.set(key, coverageCurve);
     }
     const ids = Array.from(view.ids, (u) => u + base);
-    const labels = g.labels ? labelTexts(g.labels, view.ids, g.n) : undefined;
+    const labels = g.labels ? labelTexts(g.labels, view.ids, g.n) : g.types && g.typeLabels?.some((t) => t) ? typedLabelTexts(g, view.ids) : undefined;
     return {
       file: g.file, node: p.node, layers: p.layers, sendingRow, symmetrised: symmetrise, selfLoops,
       graphNodes: g.n, indexBase: base,
@@ -313,6 +313,21 @@ function clamp(x: number, lo: number, hi: number): number {
 }
 
 /** The label of each node: the string or number stored (one-hot rows give the class), null when absent. */
+/** In a typed graph: each drawn node's label from its own type's label tensor (null where its type has none). */
+function typedLabelTexts(g: LoadedGraph, ids: Int32Array): Array<string | number | null> {
+  const space = g.types!;
+  const out = new Array<string | number | null>(ids.length).fill(null);
+  space.names.forEach((_, t) => {
+    const tensor = g.typeLabels![t];
+    if (!tensor) return;
+    const at: number[] = [];
+    for (let i = 0; i < ids.length; i++) if (typeOfId(space.offsets, ids[i]!) === t) at.push(i);
+    const local = Int32Array.from(at, (i) => ids[i]! - space.offsets[t]!);
+    labelTexts(tensor, local, space.counts[t]!).forEach((y, j) => { out[at[j]!] = y; });
+  });
+  return out;
+}
+
 function labelTexts(t: DenseTensor, ids: Int32Array, n: number): Array<string | number | null> {
   const rows = t.shape[0] ?? 0;
   if (t.strings && t.shape.length === 1) return Array.from(ids, (u) => (u < rows ? t.strings![u] ?? null : null));

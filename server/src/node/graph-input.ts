@@ -31,6 +31,8 @@ export interface LoadedGraph {
   files: string[];
   /** A typed graph (core/typed): how its node types share the id space of this (types-forgotten) graph. */
   types?: TypeSpace;
+  /** A typed graph: each type's label tensor (by type index, ids within the type), where it has one. */
+  typeLabels?: Array<DenseTensor | undefined>;
 }
 
 export class GraphLoadError extends Error {
@@ -75,7 +77,10 @@ export function loadGraph(file: string, options: CheckSetOptions = {}, load: Loa
     ...(features ? { features } : {}), ...(labels ? { labels } : {}),
     figures: g.check.figures, problems: report.problems, options: g.check.options,
     files: g.files.map((f) => path.resolve(f)),
-    ...(isTypedCheck(g.check) ? { types: g.check.typed.space } : {}),
+    ...(isTypedCheck(g.check) ? {
+      types: g.check.typed.space,
+      typeLabels: g.check.typed.graph.nodeTypes.map((t) => t.parts.find((p) => p.guess.role === 'labels' && p.tensor.kind === 'dense')?.tensor as DenseTensor | undefined),
+    } : {}),
   };
 }
 
