@@ -309,3 +309,17 @@ describe('per-graph columns (definitions: one feature row per node of every grap
     expect(ps.map((p) => p.code).sort()).toEqual(['edge-features-rows-mismatch', 'feature-rows-mismatch', 'graph-labels-mismatch']);
   });
 });
+
+describe('an editor re-check focused on one file of a dataset', () => {
+  it('checks the whole dataset and reports its files; a focus elsewhere leaves it unchecked but claimed', () => {
+    const folder = path.join(dir, 'kernel_bad/LARK');
+    const labels = path.join(folder, 'LARK_graph_labels.txt');
+    const r = checkPaths([folder], {}, { focus: [labels] });
+    const f = r.files.find((x) => path.resolve(x.path) === labels)!;
+    expect(f.problems.map((p) => p.code)).toEqual(['graph-labels-mismatch']);
+    expect(r.files.some((x) => x.path.endsWith('LARK_A.txt') && x.dataset?.graphs === 8)).toBe(true);
+    const other = checkPaths([path.join(dir, 'kernel_bad'), path.join(dir, 'ptr')], {}, { focus: [path.join(dir, 'ptr/x.npy')] });
+    expect(other.files.some((x) => x.path.includes('kernel_bad'))).toBe(false);
+    expect(other.datasets!.find((d) => d.files.some((p) => p.includes('kernel_bad')))!.checked).toBe(false);
+  });
+});
