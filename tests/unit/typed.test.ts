@@ -210,6 +210,18 @@ describe('hopscope field --node TYPE:ID', () => {
     expect(plain.err).toContain('not a typed graph');
   });
 
+  it('--pair TYPE:ID,TYPE:ID is the pair of the types-forgotten graph at the types\' offsets', () => {
+    const off = expected['clean.npz'].nodeTypes.author; // papers follow the authors
+    const typed = run(['field', path.join(dir, 'clean.npz'), '--pair', 'paper:3,author:8', '--layers', '2', '--json']);
+    const plain = run(['field', path.join(dir, 'clean.npz'), '--pair', `${off + 3},8`, '--layers', '2', '--json']);
+    expect(typed.code).toBe(0);
+    const t = JSON.parse(typed.out), q = JSON.parse(plain.out);
+    expect(t.pairTyped).toEqual([{ nodeType: 'paper', id: 3 }, { nodeType: 'author', id: 8 }]);
+    delete t.pairTyped;
+    expect(t).toEqual(q);
+    expect(run(['field', path.join(dir, 'clean.npz'), '--pair', 'paper:3,author:99', '--layers', '2']).code).toBe(2);
+  });
+
   it('the panel payload carries the node types: drawn nodes typed, per-hop counts per type', () => {
     const f = (expected['clean.npz'] as Expect).fields[0]!;
     const [type, id] = f.node.split(':') as [string, string];

@@ -35,8 +35,9 @@ Options:
   --node V                    node id as written in the file (ids of a 1-based file stay 1-based);
                               in a typed graph --node TYPE:ID (e.g. paper:3) counts the field per
                               hop and per node type
-  --pair U,V                  instead of --node: what the model sees of the pair U, V (link
-                              prediction): each end's field, their union and overlap per hop,
+  --pair U,V                  instead of --node (TYPE:ID,TYPE:ID in a typed graph): what the
+                              model sees of the pair U, V (link prediction): each end's field,
+                              their union and overlap per hop,
                               whether the pair's own edge is in the message-passing graph, and
                               the distance between U and V with that edge removed
   --layers L                  number of layers, 0..${MAX_LAYERS}
@@ -66,6 +67,10 @@ interface FieldArgs {
   node: number;
   /** `--node TYPE:ID` in a typed graph: the type (node is then the id within it). */
   nodeType?: string;
+  /** `--pair TYPE:ID,TYPE:ID` in a typed graph: both ends' types (node and other are then ids within them). */
+  pairTypes?: [string, string];
+  /** Typed pair ends as written (`paper:3`), for the output; set once mapped into the types-forgotten graph. */
+  pairNames?: [string, string];
   /** The second end of --pair (pair mode when set). */
   other?: number;
   layers: number;
@@ -102,8 +107,16 @@ function parseFieldArgs(argv: string[]): FieldArgs {
   if (v.node === undefined && v.pair === undefined) throw new UsageError('--node is required (or --pair U,V for a node pair)');
   let node: number, other: number | undefined;
   let nodeType: string | undefined;
+  let pairTypes: [string, string] | undefined;
   if (v.pair !== undefined) {
-    [node, other] = pairOption(v.pair);
+    const typedEnds = /^\s*([^,\s:]+):(\d+)\s*,\s*([^,\s:]+):(\d+)\s*$/.exec(v.pair);
+    if (typedEnds) {
+      pairTypes = [typedEnds[1]!, typedEnds[3]!];
+      [node, other] = [Number(typedEnds[2]), Number(typedEnds[4])];
+      if (pairTypes[0] === pairTypes[1] && node === other) throw new UsageError(`--pair needs two different nodes, got ${pairTypes[0]}:${node} twice`);
+    } else {
+      [node, other] = pairOption(v.pair);
+    }
     for (const [flag, given] of [['--top', v.top], ['--random-walk', v['random-walk']], ['--curve', v.curve]] as const) {
       if (given !== undefined) throw new UsageError(`${flag} applies to --node only, not to --pair`);
     }
@@ -123,7 +136,7 @@ function parseFieldArgs(argv: string[]): FieldArgs {
   const top = optionalWhole('--top', v.top);
   const sendingRow = sendingRowOption(v['sending-row'], v.flow);
   return {
-    file: files[0]!, node, layers, options: graphOptions(v), ...(other !== undefined ? { other } : {}), ...(nodeType !== undefined ? { nodeType } : {}),
+    file: files[0]!, node, layers, options: graphOptions(v), ...(other !== undefined ? { other } : {}), ...(nodeType !== undefined ? { nodeType } : {}), ...(pairTypes ? { pairTypes } : {}),
     symmetrise: v.symmetrise === true || v.symmetrize === true, randomWalk: v['random-walk'] === true, curve: v.curve === true, json: v.json === true,
     ...(sendingRow !== undefined ? { sendingRow } : {}), ...(top !== undefined ? { top } : {}),
   };
@@ -163,6 +176,15 @@ function fieldReport(argv: string[], io: CliIo): number {
     const u = typedNodeId(g.types, args.nodeType, args.node);
     if (typeof u !== 'number') { io.err(`hopscope field: --node ${u.error}\n`); return 2; }
     return typedFieldReport(args, g, u, io);
+  }
+  if (args.pairTypes !== undefined) {
+    // `--pair TYPE:ID,TYPE:ID`: both ends mapped into the types-forgotten graph (its ids are 0-based).
+    const names = [`${args.pairTypes[0]}:${args.node}`, `${args.pairTypes[1]}:${args.other}`] as [string, string];
+    if (!g.types) { io.err(`hopscope field: --pair ${names.join(',')} names node types, but ${args.file} is not a typed graph (give plain ids)\n`); return 2; }
+    const ends = [typedNodeId(g.types, args.pairTypes[0], args.node), typedNodeId(g.types, args.pairTypes[1], args.other!)];
+    for (const u of ends) if (typeof u !== 'number') { io.err(`hopscope field: --pair: ${u.error}\n`); return 2; }
+    const sendingRow: SendingRow = args.sendingRow ?? g.options.sendingRow ?? 0;
+    return pairReport({ ...args, node: ends[0] as number, other: ends[1] as number, pairNames: names }, g, sendingRow, io);
   }
   const base = g.figures.indexBase;
   const v = args.node - base;
@@ -313,10 +335,13 @@ export function pairJson(p: PairField, base: number): Record<string, unknown> {
 
 function pairReport(args: FieldArgs, g: LoadedGraph, sendingRow: SendingRow, io: CliIo): number {
   const base = g.figures.indexBase;
-  const U = args.node, V = args.other!;
-  const p = new PairFieldWalker(g).field(U - base, V - base, args.layers, { sendingRow, symmetrise: args.symmetrise });
+  const p = new PairFieldWalker(g).field(args.node - base, args.other! - base, args.layers, { sendingRow, symmetrise: args.symmetrise });
+  // In a typed graph the ends are named TYPE:ID (the JSON keeps the types-forgotten ids in "pair").
+  const U = args.pairNames?.[0] ?? args.node, V = args.pairNames?.[1] ?? args.other!;
   if (args.json) {
-    io.out(JSON.stringify(pairJson(p, base), null, 2) + '\n');
+    const out = pairJson(p, base);
+    if (args.pairNames) out.pairTyped = args.pairNames.map((x) => ({ nodeType: x.slice(0, x.lastIndexOf(':')), id: Number(x.slice(x.lastIndexOf(':') + 1)) }));
+    io.out(JSON.stringify(out, null, 2) + '\n');
     return 0;
   }
   const c = styler(io);
