@@ -32,7 +32,7 @@ export interface ReadFile {
 
 /** A type or relation name part: letters, digits, `_`, `-` and spaces, starting and ending with a letter or digit. */
 const NAME_PART = /^[A-Za-z0-9](?:[A-Za-z0-9_ -]*[A-Za-z0-9])?$/;
-const NODE_GROUP = new Set(['node', 'nodes', 'node_types', 'x_dict']);
+const NODE_GROUP = new Set(['node', 'nodes', 'node_types']);
 const EDGE_GROUP = new Set(['edge', 'edges', 'edge_types', 'relations']);
 
 type Parsed =
