@@ -16,6 +16,8 @@ import { checkPaths } from '../../server/src/node/load';
 import { loadGraph } from '../../server/src/node/graph-input';
 import { main } from '../../server/src/cli';
 import { parseManifest } from '../../server/src/core/checks/manifest';
+import { checkSet } from '../../server/src/core/checks/check-set';
+import type { Tensor } from '../../server/src/core/formats/types';
 import { parseTypedName } from '../../server/src/core/typed/recognise';
 import { FieldWalker } from '../../server/src/core/graph/propagation/field';
 import { perHopByType } from '../../server/src/core/typed/field';
@@ -295,6 +297,22 @@ describe('recognising typed names', () => {
     } finally {
       fs.rmSync(tmp, { recursive: true, force: true });
     }
+  });
+});
+
+describe('a typed graph without edges', () => {
+  it('is an empty graph (warning), each type\'s nodes isolated', () => {
+    // Tensors built here: two relations with no entries, three nodes of type a (features).
+    const tensors: Tensor[] = [
+      { kind: 'dense', name: 'a__r__b', dtype: 'int64', shape: [2, 0], data: new Int32Array(0) },
+      { kind: 'dense', name: 'b__s__a', dtype: 'int64', shape: [2, 0], data: new Int32Array(0) },
+      { kind: 'dense', name: 'a__x', dtype: 'float32', shape: [3, 1], data: new Float32Array(3) },
+    ];
+    const r = checkSet([{ path: 'g.npz', format: 'npz', result: { format: 'npz', tensors, problems: [] } }], []);
+    const f = r.files[0]!;
+    expect(f.typed!.nodeTypes).toEqual({ a: 3, b: 0 });
+    expect(f.problems.map((p) => p.code).sort()).toEqual(['empty-graph', 'isolated-nodes']);
+    expect(f.problems.find((p) => p.code === 'isolated-nodes')!.count).toBe(3);
   });
 });
 

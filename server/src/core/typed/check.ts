@@ -184,6 +184,11 @@ export function checkTypedGraph(g: TypedGraph, opts: GraphOptions = {}, limits: 
     const k = kept[i]!;
     for (let q = 0; q < k.src.length; q++) { src[j] = k.src[q]! + so; dst[j] = k.dst[q]! + doff; j++; }
   });
+  if (m === 0 || total === 0) {
+    const first = g.relations[0]!;
+    stamped(problems, { relation: first.key })(asPart(first.edges), 'empty-graph',
+      total === 0 ? 'The typed graph has no nodes in any type.' : `None of the ${g.relations.length} relation${g.relations.length === 1 ? '' : 's'} has an edge entry in range: every node is isolated.`, 1);
+  }
   const dataBytes = allParts(g).reduce((b, p) => b + (p.tensor.kind === 'dense' ? p.tensor.data.byteLength : p.tensor.row.byteLength * 2), 0);
   const fits = total <= denseNodeLimit(dataBytes, limits.maxFileBytes);
   let figures: GraphFigures | null = null;
