@@ -41,7 +41,7 @@ export function datasetGraphOf(g: LoadedGraph): DatasetGraphInfo | undefined {
 
 // ---- finding the dataset of a file, with a one-entry memo -----------------------------------------
 
-let memo: { file: string; options: string; stamp: string; found: FoundDataset | null; clean?: Dataset } | undefined;
+let memo: { file: string; options: string; stamp: string; found: FoundDataset | null; clean?: Dataset; table?: DatasetTable } | undefined;
 
 function stampOf(files: string[]): string {
   return files.map((f) => {
@@ -137,6 +137,11 @@ export function problemsPerGraph(problems: readonly Problem[], graphs: number): 
 }
 
 export function datasetTable(found: FoundDataset): DatasetTable {
+  if (memo && memo.found === found) return (memo.table ??= tableOf(found));
+  return tableOf(found);
+}
+
+function tableOf(found: FoundDataset): DatasetTable {
   const ds = found.dataset;
   const G = ds.graphs;
   const nodes = new Int32Array(G), edges = new Int32Array(G);
