@@ -149,3 +149,21 @@ describe('diagnostics of dataset problems', () => {
     expect(toDiagnostic(p, '/w/A.txt', '', false).relatedInformation).toBeUndefined();
   });
 });
+
+describe('hover: which files ask for the ceiling', () => {
+  it('labelled graphs and labelled datasets of a bounded size; not typed graphs or unlabelled ones', async () => {
+    const { wantsCeiling, HOVER_CEILING_MAX_EDGES } = await import('../../server/src/lsp/ceiling-hover');
+    const labels = { name: 'y', dtype: 'int64', shape: [34], role: 'labels', min: 0, max: 1, sum: 17, nonFinite: 0 };
+    const graph = { nodes: 34, edges: 156, directed: false, selfLoops: 0, duplicateEdges: 0, asymmetricPairs: 0, isolatedNodes: 0, components: 1, indexBase: 0 as const };
+    const base: FileReport = { path: '/w/k.npz', format: 'npz', tensors: [labels], graph, problems: [] };
+    expect(wantsCeiling(base)).toBe(true);
+    expect(wantsCeiling({ ...base, tensors: [] })).toBe(false);
+    expect(wantsCeiling({ ...base, graph: { ...graph, edges: HOVER_CEILING_MAX_EDGES.graph + 1 } })).toBe(false);
+    expect(wantsCeiling({ ...base, typed: { nodeTypes: { a: 3 }, relations: [] } })).toBe(false);
+    const spread = { min: 1, max: 1, mean: 1, total: 10 };
+    const ds = { graphs: 10, nodes: spread, edges: spread, graphLabels: { classes: ['0'], counts: [10] }, splits: null };
+    expect(wantsCeiling({ ...base, graph: null, tensors: [], dataset: ds })).toBe(true);
+    expect(wantsCeiling({ ...base, graph: null, tensors: [], dataset: { ...ds, graphLabels: null } })).toBe(false);
+    expect(wantsCeiling({ ...base, graph: null, tensors: [], dataset: { ...ds, edges: { ...spread, total: HOVER_CEILING_MAX_EDGES.dataset + 1 } } })).toBe(false);
+  });
+});

@@ -8,10 +8,20 @@ import type { FileReport } from '../core/checks/check-set';
 import type { CallOptions, WorkerApi } from '../node/worker-methods';
 import type { CeilingHover } from './hover-text';
 
+/**
+ * Edge entries above which a hover does not start the ceiling on its own (the worker would be busy
+ * for seconds on a mere pointer move); `hopscope ceiling` and the panel still compute it.
+ */
+export const HOVER_CEILING_MAX_EDGES = { graph: 2_000_000, dataset: 10_000_000 };
+
 /** Whether a hover on this file asks for the ceiling. */
 export function wantsCeiling(report: FileReport): boolean {
-  if (report.dataset) return report.dataset.graphLabels !== null || report.tensors.some((t) => t.role === 'labels');
-  return report.graph !== null && report.typed === undefined && report.tensors.some((t) => t.role === 'labels');
+  if (report.dataset) {
+    return report.dataset.edges.total <= HOVER_CEILING_MAX_EDGES.dataset &&
+      (report.dataset.graphLabels !== null || report.tensors.some((t) => t.role === 'labels'));
+  }
+  return report.graph !== null && report.typed === undefined && report.graph.edges <= HOVER_CEILING_MAX_EDGES.graph &&
+    report.tensors.some((t) => t.role === 'labels');
 }
 
 interface Entry { report: FileReport; work: Promise<CeilingHover>; value?: CeilingHover }
