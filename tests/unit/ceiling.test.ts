@@ -195,6 +195,22 @@ describe('graph-level ceiling', () => {
     }
   });
 
+  it('empty graphs look alike, also once every other graph is set aside', () => {
+    // Four empty graphs (labels 0, 1, 1, 0), a path a-b-c (1) and a triangle (2): the path and the
+    // triangle settle at once, leaving only nodeless graphs to refine.
+    const ds: Dataset = {
+      structureFile: 'x', files: [], layout: 'batch', graphs: 6,
+      nodeOffsets: Float64Array.from([0, 0, 0, 0, 0, 3, 6]),
+      edgeOffsets: Float64Array.from([0, 0, 0, 0, 0, 2, 5]),
+      src: Int32Array.from([0, 1, 0, 1, 2]), dst: Int32Array.from([1, 2, 1, 2, 0]),
+      graphLabels: { file: 'x', tensor: 'y', rows: 6, columns: 1, data: Int32Array.from([0, 1, 1, 0, 1, 2]) },
+    };
+    const r = graphCeiling(ds);
+    expect(r.groupCount).toBe(3);
+    expect(r.ceiling).toBeCloseTo(4 / 6, 12); // 2 of the 4 empty graphs, the path, the triangle
+    expect(r.groups[0]).toEqual({ size: 4, labels: { 0: 2, 1: 2 }, graphs: [0, 1, 2, 3] });
+  });
+
   it('explains inputs that give no ceiling', () => {
     const ds = datasetOf('triangles_hexagon.npz');
     delete ds.graphLabels;

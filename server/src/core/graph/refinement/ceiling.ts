@@ -510,7 +510,7 @@ export function refineGraphs(
       return { groupOf, count, rounds };
     };
     if (open === 0) return finish();
-    if (settledNodes * 4 >= g.n) {
+    if (settledNodes > 0 && settledNodes * 4 >= g.n) {
       const keep = new Int32Array(open);
       let j = 0;
       for (let i = 0; i < ids.length; i++) if (groupOf[ids[i]!]! < 0) keep[j++] = i;
