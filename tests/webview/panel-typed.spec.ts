@@ -127,6 +127,14 @@ describe('panel: typed graphs', () => {
     }
     const legend = await page.locator('#legend').innerText();
     expect(legend).toMatch(/Colour = node type/);
+    // The node box takes TYPE:ID: author 0's 2-hop field (expected.json: [1, 2, 8] per hop).
+    const author0 = typedExpected['clean.npz']!.fields.find((f) => f.node === 'author:0' && f.layers === 2)!;
+    await page.evaluate(() => {
+      const box = document.querySelector('#node-input') as HTMLElement & { value: string };
+      box.value = 'author:0';
+      box.dispatchEvent(new KeyboardEvent('keydown', { key: 'Enter', bubbles: true, composed: true }));
+    });
+    await expect.poll(() => page.locator('#summary').innerText()).toMatch(new RegExp(`^author 0 \\(node ${order.slice(0, order.indexOf('author')).reduce((a, t) => a + typedExpected['clean.npz']!.nodeTypes[t]!, 0)}\\) hears from ${author0.perHop.reduce((a, b) => a + b, 0)} nodes`));
     // Switching to hop distance takes the hop ramp again; the type counts stay.
     await page.locator('vscode-radio[value="hops"]').click();
     await expect.poll(() => page.locator('#legend').innerText()).toMatch(/Colour = hops from the centre/);

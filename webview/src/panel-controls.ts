@@ -55,12 +55,29 @@ function checkedValue(group: HTMLElement): string | undefined {
 /** A node id typed in a box, or NaN. */
 const readNode = (s: string): number => (s.trim() === '' || !/^\d+$/.test(s.trim()) ? NaN : Number(s.trim()));
 
+/**
+ * A node typed in a box of a typed graph's panel: a plain id (the graph with types forgotten), or
+ * "TYPE:ID" / "TYPE ID" with the id counted within that type (as the file writes it), turned into
+ * the plain id by the types' offsets. NaN when it is neither.
+ */
+export function readTypedNode(s: string, types: { names: string[]; counts: number[]; offsets: number[] } | undefined): number {
+  const plain = readNode(s);
+  if (!Number.isNaN(plain) || !types) return plain;
+  const m = /^\s*(.+?)\s*[: ]\s*(\d+)\s*$/.exec(s);
+  if (!m) return NaN;
+  const t = types.names.indexOf(m[1]!);
+  const id = Number(m[2]);
+  if (t < 0 || id >= types.counts[t]!) return NaN;
+  return types.offsets[t]! + id;
+}
+
 const onEnter = (target: HTMLElement, fn: () => void) => target.addEventListener('keydown', (e) => {
   if ((e as KeyboardEvent).key === 'Enter') { e.preventDefault(); fn(); }
 });
 
 export function createControls(model: PanelModel, act: ControlActions): Controls {
-  const nodeInput = custom('vscode-textfield', { id: 'node-input', type: 'number', min: '0', 'aria-label': 'Centre node id', size: '7' }) as HTMLElement & { value: string };
+  // Text, not a number box: a typed graph's node may be given as TYPE:ID.
+  const nodeInput = custom('vscode-textfield', { id: 'node-input', type: 'text', inputmode: 'numeric', 'aria-label': 'Centre node id', size: '7' }) as HTMLElement & { value: string };
   const pairInput = custom('vscode-textfield', { id: 'pair-input', type: 'number', min: '0', placeholder: 'pair end', 'aria-label': 'Second node of a pair (link prediction); leave empty for one node', size: '7' }) as HTMLElement & { value: string };
   const goButton = custom('vscode-button', { id: 'go', secondary: '' }, 'Show');
   const layersInput = el('input', { id: 'layers', type: 'range', min: '0', max: String(MAX_LAYERS), step: '1', value: '2', 'aria-describedby': 'layers-out' });
@@ -110,8 +127,9 @@ export function createControls(model: PanelModel, act: ControlActions): Controls
   // An empty "and node" box means one node; an id there means pair mode.
   const show = () => {
     const other = pairInput.value.trim() === '' ? undefined : readNode(pairInput.value);
-    if (other === undefined && model.state.pair === undefined) act.centreOn(readNode(nodeInput.value));
-    else act.pairWith(readNode(nodeInput.value), other);
+    const node = readTypedNode(nodeInput.value, model.view?.nodeTypes);
+    if (other === undefined && model.state.pair === undefined) act.centreOn(node);
+    else act.pairWith(node, other);
   };
   onEnter(nodeInput, show);
   onEnter(pairInput, show);
@@ -150,6 +168,9 @@ export function createControls(model: PanelModel, act: ControlActions): Controls
       const typed = model.view?.nodeTypes !== undefined;
       const typesRadio = modeGroup.querySelector('#mode-types') as HTMLElement | null;
       if (typesRadio) typesRadio.hidden = !typed;
+      nodeInput.setAttribute('inputmode', typed ? 'text' : 'numeric');
+      nodeInput.setAttribute('aria-label', typed ? 'Centre node: an id, or a node type and an id within it (paper:3)' : 'Centre node id');
+      nodeInput.title = typed ? `An id, or TYPE:ID (${model.view!.nodeTypes!.names.join(', ')})` : '';
       for (const r of modeGroup.querySelectorAll('vscode-radio')) (r as Checkable).checked = r.getAttribute('value') === mode;
       const row = state.sendingRow ?? model.view?.sendingRow;
       for (const r of sendingRowGroup.querySelectorAll('vscode-radio')) (r as Checkable).checked = r.getAttribute('value') === String(row);
