@@ -16,7 +16,7 @@ import { readNpz } from '../../server/src/core/formats/npz';
 import { DEFAULT_LIMITS, type DenseTensor } from '../../server/src/core/formats/types';
 import type { Dataset } from '../../server/src/core/datasets/model';
 import {
-  CeilingInputError, datasetUnion, graphCeiling, groupByHistogram, nodeCeiling, nodeClasses,
+  CeilingInputError, datasetNodeCeiling, datasetUnion, graphCeiling, groupByHistogram, nodeCeiling, nodeClasses,
   parseAugmentation, readLabels, refineGraphs,
 } from '../../server/src/core/graph/refinement/ceiling';
 import { CountBudgetExceeded, cycleCounts, triangleCounts } from '../../server/src/core/graph/refinement/substructures';
@@ -278,6 +278,25 @@ describe('node-level ceiling', () => {
     expect(r.perLayer).toEqual(expected.karate.uniform);
     expect(r.with![0]!.perLayer).toEqual(expected.karate.triangles);
     expect(r.stableAfter).toBe(2);
+  });
+
+  it('node labels across a dataset: two karate clubs give the Python refinement\'s shares', () => {
+    // Doubling the graph doubles every colour's label counts, so the shares are the fixture's.
+    const t = tensors('karate.npz');
+    const ei = t.get('edge_index')!, y = t.get('y')!;
+    const E = ei.shape[1]!;
+    const src = Int32Array.from([...ei.data.slice(0, E), ...ei.data.slice(0, E)]);
+    const dst = Int32Array.from([...ei.data.slice(E), ...ei.data.slice(E)]);
+    const ds: Dataset = {
+      structureFile: 'k', files: [], layout: 'slices', graphs: 2,
+      nodeOffsets: Float64Array.from([0, 34, 68]), edgeOffsets: Float64Array.from([0, E, 2 * E]), src, dst,
+      nodeLabels: { file: 'k', tensor: 'y', rows: 68, columns: 1, data: Int32Array.from([...y.data, ...y.data]) },
+    };
+    const r = datasetNodeCeiling(ds, { with: aug('triangles') });
+    expect(r.labelled).toBe(68);
+    expect(r.perLayer.map((l) => l.ceiling)).toEqual(expected.karate.uniform.map((l: { ceiling: number }) => l.ceiling));
+    expect(r.perLayer.map((l) => l.classes)).toEqual(expected.karate.uniform.map((l: { classes: number }) => l.classes));
+    expect(r.with![0]!.perLayer!.map((l) => l.ceiling)).toEqual(expected.karate.triangles.map((l: { ceiling: number }) => l.ceiling));
   });
 
   it('nodes outside the classes are left out', () => {

@@ -8,7 +8,7 @@ import type { CeilingParams, CeilingResult } from '../../../common/ceiling';
 import type { CheckSetOptions } from '../core/checks/check-set';
 import type { DenseTensor } from '../core/formats/types';
 import {
-  CeilingInputError, graphCeiling, nodeCeiling, nodeClasses, parseAugmentation,
+  CeilingInputError, datasetNodeCeiling, graphCeiling, nodeCeiling, nodeClasses, parseAugmentation,
   type Augmentation, type CeilingOptions,
 } from '../core/graph/refinement/ceiling';
 import { undirectedView } from '../core/graph/structure/undirected';
@@ -62,7 +62,12 @@ export function computeCeiling(file: string, request: CeilingRequest, check: Che
     }
     const errors = pick.problems.filter((p) => p.severity === 'error').length;
     if (errors) notes.push(`${file}: the dataset has ${errors} error${errors === 1 ? '' : 's'} (see hopscope check); the ceiling uses the edges that lie within their graph`);
-    return { result: timed('ceiling', () => graphCeiling(pick.dataset, request)), notes };
+    // Graph labels: the graph-level ceiling; node labels alone: node classification across the graphs.
+    const ds = pick.dataset;
+    const result = ds.graphLabels || !ds.nodeLabels
+      ? timed('ceiling', () => graphCeiling(ds, request))
+      : timed('ceiling', () => datasetNodeCeiling(ds, request));
+    return { result, notes };
   }
   const loaded = loadGraph(file, check, opts);
   const errors = loaded.problems.filter((p) => p.severity === 'error').length;

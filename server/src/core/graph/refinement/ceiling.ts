@@ -707,3 +707,23 @@ export function nodeCeiling(g: UndirectedGraph, input: NodeCeilingInput, options
   }
   return result;
 }
+
+/**
+ * Node classes over a dataset of many graphs (node labels, no graph labels: node classification
+ * across graphs): the node-level ceiling per layer count on all graphs at once — they are disjoint,
+ * so a node's colour depends on its own graph only. `features` starts from the node feature rows.
+ */
+export function datasetNodeCeiling(ds: Dataset, options: CeilingOptions & { layers?: number } = {}): NodeCeilingResult {
+  const y = ds.nodeLabels;
+  if (!y) throw new CeilingInputError('the dataset has neither graph labels nor node labels: the ceiling needs labels to bound the accuracy on');
+  const N = ds.nodeOffsets[ds.graphs]!;
+  if (y.rows !== N) throw new CeilingInputError(`${y.tensor} holds ${y.rows} node labels for ${N} nodes`);
+  const { cls, names } = nodeClasses(y.data, y.rows, columnWidth(y), y.strings);
+  const x = ds.nodeFeatures;
+  if (options.features && x && x.rows !== N) throw new CeilingInputError(`${x.tensor} has ${x.rows} rows but the dataset has ${N} nodes`);
+  return nodeCeiling(datasetUnion(ds, options.cancel), {
+    cls, classCount: names.length,
+    ...(x ? { features: { data: x.data, width: columnWidth(x) } } : {}),
+    ...(options.layers !== undefined ? { layers: options.layers } : {}),
+  }, options);
+}
