@@ -3,6 +3,7 @@
  * the compiler checks that each message is sent and handled with the same shape.
  */
 import type { DatasetTable, FileSummary, TensorPage, TensorStats } from './protocol';
+import type { CeilingResult } from './ceiling';
 
 /** Webview → extension host. */
 export type ViewerRequest =
@@ -16,7 +17,9 @@ export type ViewerRequest =
   /** A dataset of many graphs: its table of graphs (one answer: 'datasetTable'). */
   | { type: 'datasetTable' }
   /** Open the receptive-field panel on graph `graph` (0-based) of the dataset. */
-  | { type: 'openGraph'; graph: number };
+  | { type: 'openGraph'; graph: number }
+  /** The dataset's accuracy ceiling (one answer: 'ceiling'). */
+  | { type: 'ceiling' };
 
 /** Extension host → webview. */
 export type ViewerMessage =
@@ -25,6 +28,8 @@ export type ViewerMessage =
   | { type: 'stats'; stats: TensorStats }
   /** The table of graphs (null: the server found no dataset in the file). */
   | { type: 'datasetTable'; table: DatasetTable | null; note?: string }
+  /** null: no ceiling for this file (`note` may say why). */
+  | { type: 'ceiling'; data: CeilingResult | null; note?: string }
   | { type: 'error'; message: string }
   | { type: 'changed' };
 

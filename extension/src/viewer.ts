@@ -4,7 +4,7 @@
  */
 import * as vscode from 'vscode';
 import type { LanguageClient } from 'vscode-languageclient/node';
-import { DatasetTableRequest, FileSummaryRequest, TensorPageRequest, TensorStatsRequest } from '../../common/protocol';
+import { CeilingRequest, DatasetTableRequest, FileSummaryRequest, TensorPageRequest, TensorStatsRequest } from '../../common/protocol';
 import type { ViewerMessage, ViewerRequest } from '../../common/viewer-messages';
 import { makeNonce, webviewPage } from './webview-page';
 
@@ -83,6 +83,15 @@ export class TensorViewerProvider implements vscode.CustomReadonlyEditorProvider
               send({ type: 'datasetTable', table });
             } catch (e) {
               send({ type: 'datasetTable', table: null, note: `The table of graphs could not be read: ${(e as Error).message}` });
+            }
+            break;
+          }
+          case 'ceiling': {
+            if (!c) { send({ type: 'ceiling', data: null }); break; }
+            try {
+              send({ type: 'ceiling', data: await c.sendRequest(CeilingRequest.type, { uri: document.uri.toString() }) });
+            } catch (e) {
+              send({ type: 'ceiling', data: null, note: (e as Error).message });
             }
             break;
           }

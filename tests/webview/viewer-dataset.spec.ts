@@ -20,6 +20,7 @@ import { packColumn } from '../../common/columns';
 import type { ViewerMessage, ViewerRequest } from '../../common/viewer-messages';
 import type { DatasetTable, FileSummary } from '../../common/protocol';
 import type { FileReport } from '../../common/report';
+import type { CeilingResult } from '../../common/ceiling';
 
 const root = path.join(__dirname, '../..');
 const ORIGIN = 'https://hopscope.test';
@@ -49,7 +50,7 @@ function report(extra: Partial<FileReport>): FileReport {
   return { path: '/ws/rides.pt', format: 'pt', tensors: [], graph: null, problems: [], ...extra };
 }
 
-async function openViewer(summaryReport: FileReport, table: DatasetTable | null): Promise<{ page: Page; problems: string[]; posted: ViewerRequest[] }> {
+async function openViewer(summaryReport: FileReport, table: DatasetTable | null, ceiling: CeilingResult | null = null): Promise<{ page: Page; problems: string[]; posted: ViewerRequest[] }> {
   const page = await browser.newPage({ viewport: { width: 1200, height: 900 } });
   const problems: string[] = [];
   const posted: ViewerRequest[] = [];
@@ -74,6 +75,7 @@ async function openViewer(summaryReport: FileReport, table: DatasetTable | null)
         return { type: 'summary', summary, fileName: 'rides.pt' };
       }
       case 'datasetTable': return { type: 'datasetTable', table };
+      case 'ceiling': return { type: 'ceiling', data: ceiling };
       default: return null;
     }
   });
@@ -237,6 +239,31 @@ describe('viewer: table of graphs', () => {
     await expect.poll(() => none.page.locator('#graph-table-status').innerText()).toMatch(/No table of graphs/);
     expect([...problems, ...none.problems]).toEqual([]);
     await none.page.close();
+  });
+});
+
+describe('viewer: the dataset\'s accuracy ceiling', () => {
+  it('states the ceiling and links each graph of a conflicting group to its row', async () => {
+    const small: DatasetTable = {
+      file: '/ws/r.pt', graphs: 6, layout: 'batch', nodes: packColumn(new Int32Array([3, 4, 3, 4, 3, 5])), edges: packColumn(new Int32Array([6, 8, 6, 8, 6, 10])),
+      problems: packColumn(new Int32Array(6)), label: { kind: 'class', classes: ['0', '1'], codes: packColumn(new Int32Array([0, 1, 1, 0, 0, 1])) }, split: null, problemCodes: [],
+    };
+    // A result as the ceiling worker gives it: graphs 0, 2, 4 look alike to 1-WL with labels 0, 1, 0.
+    const ceiling: CeilingResult = {
+      task: 'graph', graphs: 6, labelled: 6, labelKind: 'classes', start: 'uniform', groupCount: 4, conflictingGroups: 1, ceiling: 5 / 6, rounds: 2,
+      groups: [{ size: 3, labels: { 0: 2, 1: 1 }, graphs: [0, 2, 4] }, { size: 1, labels: { 1: 1 }, graphs: [1] }],
+    };
+    const ds = { ...datasetSummary, graphs: 6, graphLabels: { classes: ['0', '1'], counts: [3, 3] }, splits: null };
+    const { page, problems, posted } = await openViewer(report({ dataset: ds }), small, ceiling);
+    await page.locator('#dataset-ceiling b').waitFor();
+    expect(await page.locator('#dataset-ceiling p').first().innerText()).toBe('Accuracy ceiling 83.3%: no message-passing model without extra node features can classify more of the 6 labelled graphs correctly — 1 group of graphs 1-WL cannot tell apart carry different labels.');
+    expect(await page.locator('.ceiling-groups li').allInnerTexts()).toEqual(['3 graphs (0: 2, 1: 1): 0, 2, 4']);
+    expect(posted.filter((m) => m.type === 'ceiling')).toHaveLength(1);
+    await page.locator('.graph-link[data-graph="4"]').click();
+    await expect.poll(() => page.locator('#graph-chosen').innerText()).toMatch(/^Graph 4: 3 nodes, 6 edge entries, label 0\.$/);
+    expect(await page.locator('#graph-scroll .graph-row.selected').getAttribute('data-graph')).toBe('4');
+    expect(problems).toEqual([]);
+    await page.close();
   });
 });
 

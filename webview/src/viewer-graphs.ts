@@ -184,6 +184,15 @@ export class GraphTable {
     this.draw();
   }
 
+  /** Chooses graph g and scrolls its row into view (the ceiling's groups link here). */
+  reveal(g: number): void {
+    if (!Number.isInteger(g) || g < 0 || g >= this.rows.graphs) return;
+    const r = this.order.indexOf(g);
+    const h = this.scroller.clientHeight || 400;
+    this.scroller.scrollTop = Math.max(0, r * GRAPH_ROW_HEIGHT - h / 2);
+    this.choose(g);
+  }
+
   /** The graph index shown at row position r (after sorting). */
   graphAt(r: number): number {
     return this.order[r]!;

@@ -1,10 +1,12 @@
 /**
  * The viewer's tables for a typed graph (FileReport.typed): node types with their counts, and
  * relations (source type, name, target type, edge entries) with the problems that name them, shown
- * before the tensors. Also the dataset summary line above the table of graphs. Text only as text.
+ * before the tensors. Also the dataset summary line and the accuracy ceiling above the table of
+ * graphs. Text only as text.
  */
 import { el } from './dom';
 import type { DatasetSummary, Problem, TypedSummary } from '../../common/report';
+import type { CeilingResult } from '../../common/ceiling';
 
 const n = (x: number) => x.toLocaleString('en-US');
 
@@ -67,3 +69,42 @@ export function datasetFacts(d: DatasetSummary): HTMLElement {
   for (const [k, v] of facts) box.append(el('span', { class: 'fact' }, el('b', {}, v), ` ${k}`));
   return box;
 }
+
+/**
+ * The dataset's accuracy ceiling of message passing (graph-level): the figure, what it means, and
+ * the groups of graphs 1-WL cannot tell apart that carry different labels, each graph a link that
+ * chooses its row in the table.
+ */
+export function datasetCeiling(c: CeilingResult | null | undefined, note: string | undefined, reveal: (g: number) => void): HTMLElement {
+  const box = el('div', { class: 'ceiling', id: 'dataset-ceiling' });
+  if (c === undefined) { box.append(el('p', { class: 'muted' }, 'Computing the accuracy ceiling of message passing…')); return box; }
+  if (c === null || c.task !== 'graph') { if (note) box.append(el('p', { class: 'muted' }, `No accuracy ceiling: ${note}`)); return box; }
+  const groups = c.groups.filter((g) => (g.labels ? Object.keys(g.labels).length > 1 : (g.spread ?? 0) > 0));
+  if (c.ceiling !== null) {
+    box.append(el('p', {}, el('b', {}, `Accuracy ceiling ${pct(c.ceiling)}`),
+      `: no message-passing model without extra node features can classify more of the ${n(c.labelled)} labelled graphs correctly` +
+      (c.conflictingGroups ? ` — ${n(c.conflictingGroups)} group${c.conflictingGroups === 1 ? '' : 's'} of graphs 1-WL cannot tell apart carry different labels.` : '.')));
+  } else {
+    box.append(el('p', {}, el('b', {}, 'Numeric targets'), `: ${n(c.conflictingGroups)} group${c.conflictingGroups === 1 ? '' : 's'} of graphs 1-WL cannot tell apart hold different targets` +
+      (c.errorFloor ? ` (lowest reachable mean squared error ${c.errorFloor.mse.toPrecision(3)}).` : '.')));
+  }
+  if (!groups.length) return box;
+  const ul = el('ul', { class: 'ceiling-groups' });
+  for (const g of groups.slice(0, 8)) {
+    const what = g.labels ? Object.entries(g.labels).map(([k, v]) => `${k}: ${n(v)}`).join(', ') : `targets spread ${g.spread!.toPrecision(3)}`;
+    const li = el('li', {}, `${n(g.size)} graphs (${what}): `);
+    g.graphs.forEach((id, i) => {
+      if (i) li.append(', ');
+      const b = el('button', { type: 'button', class: 'code-link graph-link', 'data-graph': String(id), title: `Choose graph ${id} in the table` }, String(id));
+      b.addEventListener('click', () => reveal(id));
+      li.append(b);
+    });
+    if (g.size > g.graphs.length) li.append(', …');
+    ul.append(li);
+  }
+  if (groups.length > 8) ul.append(el('li', { class: 'muted' }, `… ${groups.length - 8} more groups`));
+  box.append(ul);
+  return box;
+}
+
+const pct = (x: number) => `${(100 * x).toFixed(x >= 0.9995 || x === 0 ? 0 : 1)}%`;

@@ -12,7 +12,8 @@ import { scaleBand, scaleLinear } from 'd3-scale';
 import { chartSvg, el } from './dom';
 import type { ViewerMessage, ViewerRequest, ViewerState } from '../../common/viewer-messages';
 import { GraphTable, unpackTable } from './viewer-graphs';
-import { datasetFacts, typedTables } from './viewer-typed';
+import { datasetCeiling, datasetFacts, typedTables } from './viewer-typed';
+import type { CeilingResult } from '../../common/ceiling';
 import type { FileSummary, TensorPage, TensorStats } from '../../common/protocol';
 import type { TensorReport } from '../../server/src/core/checks/check-set';
 import { CODES } from '../../common/problem-codes';
@@ -42,6 +43,10 @@ const stats = new Map<string, TensorStats>();
 let graphTable: GraphTable | undefined;
 let graphNote: string | undefined;
 let graphTableAsked = false;
+/** The dataset's accuracy ceiling: undefined until it comes (asked once per summary). */
+let ceiling: CeilingResult | null | undefined;
+let ceilingNote: string | undefined;
+let ceilingAsked = false;
 
 // ---- text ----------------------------------------------------------------------------------------
 
@@ -97,6 +102,10 @@ function header(format: string, g: NonNullable<FileSummary['report']>['graph']):
 function graphsSection(d: NonNullable<NonNullable<FileSummary['report']>['dataset']>): HTMLElement {
   const box = el('section', { class: 'graphs', id: 'graphs' });
   box.append(el('h2', {}, `Graphs (${d.graphs.toLocaleString('en-US')})`), datasetFacts(d));
+  if (d.graphLabels || summary?.report?.tensors.some((t) => t.role === 'labels')) {
+    if (!ceilingAsked) { ceilingAsked = true; post({ type: 'ceiling' }); }
+    box.append(datasetCeiling(ceiling, ceilingNote, (g) => graphTable?.reveal(g)));
+  }
   if (graphTable) {
     box.append(graphTable.element);
     // Re-attached: the scroll offset is put back once the table is in the page again.
@@ -305,8 +314,14 @@ window.addEventListener('message', (e: MessageEvent<ViewerMessage>) => {
       }
       render();
       break;
+    case 'ceiling':
+      ceiling = m.data;
+      ceilingNote = m.note;
+      render();
+      break;
     case 'changed':
       pages.clear(); requested.clear(); stats.clear();
+      ceiling = undefined; ceilingNote = undefined; ceilingAsked = false;
       graphTable = undefined; graphTableAsked = false; graphNote = undefined;
       break;
     case 'error':
