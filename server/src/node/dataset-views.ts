@@ -155,8 +155,9 @@ function tableOf(found: FoundDataset): DatasetTable {
     const classes = labelClasses(ds);
     if (classes && gl.columns === 1) {
       // Class values sorted as labelClasses sorts them; each graph's code is its value's position.
-      const values = [...new Set(Array.from(gl.data.subarray(0, Math.min(gl.rows, G)) as ArrayLike<number>))].sort((a, b) => a - b);
-      const at = new Map(values.map((v, i) => [v, i] as const));
+      const sorted = Float64Array.from(gl.data.subarray(0, Math.min(gl.rows, G))).sort();
+      const at = new Map<number, number>();
+      for (let i = 0; i < sorted.length; i++) if (!at.has(sorted[i]!)) at.set(sorted[i]!, at.size);
       const codes = new Int32Array(G).fill(-1);
       for (let g = 0; g < G && g < gl.rows; g++) codes[g] = at.get(gl.data[g]!) ?? -1;
       label = { kind: 'class', classes: classes.classes, codes: packColumn(codes) };
