@@ -146,7 +146,11 @@ export interface DatasetSummary {
 /** `files[].typed` of `hopscope check --json`. */
 export interface TypedSummary {
   nodeTypes: Record<string, number>;
-  relations: Array<{ source: string; name: string; target: string; edges: number }>;
+  /**
+   * `edges`: entries of the relation's edge index; `sources` / `targets`: distinct source / target
+   * nodes among its in-range entries (how many nodes of each type the relation touches).
+   */
+  relations: Array<{ source: string; name: string; target: string; edges: number; sources?: number; targets?: number }>;
   /**
    * Where each type's node count comes from: 'declared' (TYPE__num_nodes, the manifest), 'features'
    * (rows of the feature matrix), 'labels' (length of the labels or a mask), or 'ids' (1 + the largest

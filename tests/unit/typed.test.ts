@@ -28,7 +28,7 @@ import type { FileReport, Problem, ProblemCode } from '../../common/report';
 const dir = path.join(__dirname, '../fixtures/typed');
 const expected = JSON.parse(fs.readFileSync(path.join(dir, 'expected.json'), 'utf8'));
 
-interface RelationExpect { source: string; name: string; target: string; edges: number; duplicates: number; selfLoops: number }
+interface RelationExpect { source: string; name: string; target: string; edges: number; duplicates: number; selfLoops: number; sources: number; targets: number }
 interface FieldExpect { node: string; layers: number; perHop: number[]; perHopByType: Record<string, number[]> }
 interface Expect {
   nodeTypes: Record<string, number>;
@@ -60,9 +60,14 @@ describe('typed graphs written by NumPy and PyTorch (NetworkX figures)', () => {
       const t = report.typed!;
       expect(t.nodeTypes).toEqual(e.nodeTypes);
       if (e.nodeCountFrom) expect(t.nodeCountFrom).toEqual(e.nodeCountFrom);
-      const got = new Map(t.relations.map((r) => [key(r), r.edges]));
+      const got = new Map(t.relations.map((r) => [key(r), r]));
       expect(new Set(got.keys())).toEqual(new Set(e.relations.map(key)));
-      for (const r of e.relations) expect(got.get(key(r)), key(r)).toBe(r.edges);
+      for (const r of e.relations) {
+        expect(got.get(key(r))!.edges, key(r)).toBe(r.edges);
+        // Nodes of each side the relation touches (NetworkX degrees on the relation's own graph).
+        expect(got.get(key(r))!.sources, `${key(r)} sources`).toBe(r.sources);
+        expect(got.get(key(r))!.targets, `${key(r)} targets`).toBe(r.targets);
+      }
       // The graph figures with types forgotten (ids shifted by each type's offset).
       const g = report.graph!;
       for (const k of ['nodes', 'edges', 'selfLoops', 'duplicateEdges', 'asymmetricPairs', 'isolatedNodes', 'components']) {
@@ -158,7 +163,8 @@ describe('hopscope check on a typed graph', () => {
     expect(r.code).toBe(1);
     const f = JSON.parse(r.out).files[0];
     expect(f.typed.nodeTypes).toEqual(e.nodeTypes);
-    expect(f.typed.relations).toEqual([{ source: 'author', name: 'writes', target: 'paper', edges: e.relations[0].edges }]);
+    const w = e.relations[0];
+    expect(f.typed.relations).toEqual([{ source: 'author', name: 'writes', target: 'paper', edges: w.edges, sources: w.sources, targets: w.targets }]);
     expect(f.typed.offsets).toEqual({ author: 0, paper: e.nodeTypes.author });
     expect(f.graph.nodes).toBe(e.graph.nodes);
     const oor = f.problems.find((p: Problem) => p.code === 'index-out-of-range');

@@ -211,7 +211,10 @@ export function checkTypedGraph(g: TypedGraph, opts: GraphOptions = {}, limits: 
 
   const summary: TypedSummary = {
     nodeTypes: Object.fromEntries(g.nodeTypes.map((t, i) => [t.name, counts[i]!])),
-    relations: g.relations.map((r, i) => ({ source: r.source, name: r.name, target: r.target, edges: edges[i]?.src.length ?? 0 })),
+    relations: g.relations.map((r, i) => ({
+      source: r.source, name: r.name, target: r.target, edges: edges[i]?.src.length ?? 0,
+      sources: distinct(kept[i]!.src, counts[typeIndex.get(r.source)!]!), targets: distinct(kept[i]!.dst, counts[typeIndex.get(r.target)!]!),
+    })),
     nodeCountFrom: Object.fromEntries(g.nodeTypes.map((t, i) => [t.name, countFrom[i]!])),
     offsets: Object.fromEntries(g.nodeTypes.map((t, i) => [t.name, offsets[i]!])),
   };
@@ -305,6 +308,19 @@ function keepRelation(r: Relation, e: EdgeSource, nSrc: number, nDst: number, sr
 }
 
 const asPartOf = (r: Relation): GraphPart => asPart(r.edges);
+
+/** Distinct values among ids in 0..n-1 (a bitmap over n when n is near the ids' count, else a sorted copy). */
+function distinct(ids: Int32Array, n: number): number {
+  let count = 0;
+  if (n <= 8 * ids.length + 1024) {
+    const seen = new Uint8Array(n);
+    for (let k = 0; k < ids.length; k++) { const v = ids[k]!; if (!seen[v]) { seen[v] = 1; count++; } }
+    return count;
+  }
+  const sorted = Int32Array.from(ids).sort();
+  for (let k = 0; k < sorted.length; k++) if (k === 0 || sorted[k] !== sorted[k - 1]) count++;
+  return count;
+}
 
 /** "a dock", "an author". */
 const an = (word: string): string => `${/^[aeiou]/i.test(word) ? 'an' : 'a'} ${word}`;
