@@ -252,6 +252,11 @@ describe('labels', () => {
     expect(readLabels(Int32Array.from({ length: 1001 }, (_, i) => i), 1001, 1).kind).toBe('targets');
     expect(readLabels(Int32Array.from({ length: 1000 }, (_, i) => i), 1000, 1).kind).toBe('classes');
     expect(readLabels(Int32Array.from([0, 1, 1, 0]), 2, 2).kind).toBe('targets');
+    // String labels are classes however many there are (codes into `strings`).
+    const names = Array.from({ length: 1500 }, (_, i) => `dock-${i}`);
+    const many = readLabels(Int32Array.from({ length: 1500 }, (_, i) => 1499 - i), 1500, 1, names);
+    expect(many.kind).toBe('classes');
+    if (many.kind === 'classes') { expect(many.names[0]).toBe('dock-0'); expect(many.cls[0]).toBe(1499); }
     const withNaN = readLabels(Float64Array.from([NaN, 1, 2]), 3, 1);
     expect(withNaN.labelled).toBe(2);
   });

@@ -153,7 +153,7 @@ export function readLabels(
     for (let i = 0; i < rows; i++) { const x = data[i]!; if (!skip(i, x)) vals[m++] = x; }
     const sorted = vals.subarray(0, m).sort();
     const distinct: number[] = [];
-    for (let i = 0; i < m; i++) if (i === 0 || sorted[i] !== sorted[i - 1]) { distinct.push(sorted[i]!); if (distinct.length > MAX_CLASSES) break; }
+    for (let i = 0; i < m; i++) if (i === 0 || sorted[i] !== sorted[i - 1]) { distinct.push(sorted[i]!); if (!strings && distinct.length > MAX_CLASSES) break; }
     if (strings || distinct.length <= MAX_CLASSES) {
       const index = new Map<number, number>();
       distinct.forEach((x, i) => index.set(x, i));
