@@ -404,7 +404,7 @@ function datasetStart(ds: Dataset, features: boolean): { colours: Int32Array; cl
   if (!features) return { colours: new Int32Array(N), classes: N > 0 ? 1 : 0 };
   const cols: Array<{ data: ArrayLike<number>; width: number }> = [];
   for (const c of [ds.nodeFeatures, ds.nodeLabels]) {
-    if (!c) continue;
+    if (!c || c.columns === 0) continue;
     if (c.rows !== N) throw new CeilingInputError(`${c.tensor} has ${c.rows} rows but the dataset has ${N} nodes`);
     cols.push({ data: c.data, width: columnWidth(c) });
   }
