@@ -105,4 +105,6 @@ export interface CeilingParams {
   features?: boolean;
   /** Augmentations: `triangles`, `cycles:K` (3 ≤ K ≤ 8). */
   with?: string[];
+  /** Milliseconds each substructure count may take (default 20,000); past it that augmentation is `skipped`. */
+  budgetMs?: number;
 }

@@ -114,6 +114,7 @@ export function ceilingAnswer(
       with: augs,
       ...(params.layers !== undefined ? { layers: params.layers } : {}),
       ...(params.features ? { features: true } : {}),
+      ...(params.budgetMs !== undefined ? { budgetMs: params.budgetMs } : {}),
       ...(load.cancel ? { cancel: load.cancel } : {}),
     }, check, load).result;
   } catch (e) {
