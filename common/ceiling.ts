@@ -61,7 +61,10 @@ export interface GraphCeilingResult {
   ceiling: number | null;
   /** Numeric targets only. */
   errorFloor?: ErrorFloor;
-  /** Refinement rounds until the joint partition stopped changing. */
+  /**
+   * Refinement rounds run until no look-alike group could split any more: every graph alone in its
+   * group, or the colours of the graphs still grouped no longer changing.
+   */
   rounds: number;
   with?: GraphCeilingAugmented[];
 }
