@@ -150,9 +150,9 @@ function run(argv: string[], io: CliIo): number {
   });
 }
 
-function whatRaisesIt(features: boolean): string[] {
+function whatRaisesIt(features: boolean, lead = 'What raises it'): string[] {
   return [
-    `  What raises it: inputs that differ between look-alikes — ${features ? 'more informative node features' : 'node features (--features uses them)'}, ` +
+    `  ${lead}: inputs that differ between look-alikes — ${features ? 'more informative node features' : 'node features (--features uses them)'}, ` +
       'substructure counts (--with triangles, --with cycles:K: the rows above), or positional features such as the ' +
       'Laplacian eigenvectors `hopscope spectrum --out` writes.',
   ];
@@ -196,7 +196,7 @@ function graphText(file: string, r: GraphCeilingResult, groupsShown: number, io:
     lines.push('  The targets are numbers rather than classes, so there is no accuracy to bound. A message-passing model whose only inputs are ' +
       'the structure' + (r.start === 'features' ? ' and these node features' : '') + ' gives each look-alike group one output; the error floor is ' +
       'what it leaves at best (each group predicting its mean for MSE, its median for MAE).');
-    lines.push(...whatRaisesIt(r.start === 'features'));
+    lines.push(...whatRaisesIt(r.start === 'features', 'What lowers the floor'));
   }
   const listed = r.groups.filter((g) => (r.labelKind === 'classes' ? Object.keys(g.labels ?? {}).length > 1 : (g.spread ?? 0) > 0)).slice(0, groupsShown);
   if (listed.length) {
