@@ -41,7 +41,7 @@ export function datasetGraphOf(g: LoadedGraph): DatasetGraphInfo | undefined {
 
 // ---- finding the dataset of a file, with a one-entry memo -----------------------------------------
 
-let memo: { file: string; options: string; stamp: string; found: FoundDataset | null; clean?: Dataset; table?: DatasetTable } | undefined;
+let memo: { file: string; options: string; stamp: string; found: FoundDataset; clean?: Dataset; table?: DatasetTable } | undefined;
 
 function stampOf(files: string[]): string {
   return files.map((f) => {
@@ -53,7 +53,7 @@ function stampOf(files: string[]): string {
 export function findDatasetFor(file: string, options: CheckSetOptions, load: LoadOptions): FoundDataset | null {
   const abs = path.resolve(file);
   const opts = JSON.stringify(options);
-  if (memo && memo.file === abs && memo.options === opts && memo.stamp === stampOf(memo.found ? memo.found.files : [abs])) return memo.found;
+  if (memo && memo.file === abs && memo.options === opts && memo.stamp === stampOf(memo.found.files)) return memo.found;
   const r = checkPaths([abs], options, load);
   let found: FoundDataset | null = null;
   for (const d of r.datasets ?? []) {
@@ -63,14 +63,15 @@ export function findDatasetFor(file: string, options: CheckSetOptions, load: Loa
     found = { dataset: d.dataset, problems: d.problems.map((p) => p.problem), files: files.includes(abs) ? files : [abs, ...files] };
     break;
   }
-  memo = { file: abs, options: opts, stamp: stampOf(found ? found.files : [abs]), found };
+  // Only a dataset is kept: "no dataset here" can change without this file changing (a sibling added).
+  memo = found ? { file: abs, options: opts, stamp: stampOf(found.files), found } : undefined;
   return found;
 }
 
 /** Drops the memo when one of its files changed or went away. */
 export function forgetDataset(file: string): void {
   const abs = path.resolve(file);
-  if (memo && (memo.file === abs || memo.found?.files.includes(abs))) memo = undefined;
+  if (memo && (memo.file === abs || memo.found.files.includes(abs))) memo = undefined;
 }
 
 function cleanDataset(found: FoundDataset): Dataset {
