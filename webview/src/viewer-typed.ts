@@ -78,7 +78,15 @@ export function datasetFacts(d: DatasetSummary): HTMLElement {
 export function datasetCeiling(c: CeilingResult | null | undefined, note: string | undefined, reveal: (g: number) => void): HTMLElement {
   const box = el('div', { class: 'ceiling', id: 'dataset-ceiling' });
   if (c === undefined) { box.append(el('p', { class: 'muted' }, 'Computing the accuracy ceiling of message passing…')); return box; }
-  if (c === null || c.task !== 'graph') { if (note) box.append(el('p', { class: 'muted' }, `No accuracy ceiling: ${note}`)); return box; }
+  if (c === null) { if (note) box.append(el('p', { class: 'muted' }, `No accuracy ceiling: ${note}`)); return box; }
+  if (c.task === 'node') {
+    // Node labels without graph labels: the ceiling per layer count over all graphs' nodes.
+    if (c.perLayer.length) {
+      box.append(el('p', {}, el('b', {}, 'Accuracy ceiling by layers'),
+        ` (${n(c.labelled)} labelled nodes): ${c.perLayer.map((l) => `L=${l.layers}: ${pct(l.ceiling)}`).join(' · ')}`));
+    }
+    return box;
+  }
   const groups = c.groups.filter((g) => (g.labels ? Object.keys(g.labels).length > 1 : (g.spread ?? 0) > 0));
   if (c.ceiling !== null) {
     box.append(el('p', {}, el('b', {}, `Accuracy ceiling ${pct(c.ceiling)}`),
