@@ -58,6 +58,19 @@ describe('hopscope ceiling', () => {
     expect(u.ceiling).toBe(expected.random.uniform.ceiling);
   });
 
+  it('numeric targets: the error floor from the NetworkX groups, and what lowers it', () => {
+    const j = JSON.parse(run(f('regression.npz'), '--json').out);
+    expect(j.labelKind).toBe('targets');
+    expect(j.ceiling).toBeNull();
+    expect(j.errorFloor.mse).toBeCloseTo(expected.random.targets.mse, 9);
+    expect(j.errorFloor.mae).toBeCloseTo(expected.random.targets.mae, 9);
+    expect(j.groups[0].spread).toBeCloseTo(expected.random.targets.largestSpread, 9);
+    const t = run(f('regression.npz')).out;
+    expect(t).toMatch(/numbers rather than classes/);
+    expect(t).toMatch(/What lowers the floor/);
+    expect(t).toMatch(/Look-alike groups with the widest spread of targets/);
+  });
+
   it("one graph with node classes: the karate club's ceiling per layer count", () => {
     const r = run(f('karate.npz'), '--with', 'triangles', '--layers', '4', '--json');
     expect(r.code).toBe(0);

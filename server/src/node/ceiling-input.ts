@@ -53,12 +53,14 @@ function stringCodes(t: DenseTensor): { data: Int32Array; strings: string[] } {
 export function computeCeiling(file: string, request: CeilingRequest, check: CheckSetOptions = {}, load: LoadOptions = {}): CeilingOutcome {
   const opts = { ...load, cache: load.cache ?? callCache() };
   const abs = path.resolve(file);
-  const found = readDatasets([file], { ...opts, check });
+  // Datasets the file takes part in (a file read with its siblings can bring in others' datasets).
+  const found = readDatasets([file], { ...opts, check })
+    .filter((d) => path.resolve(d.dataset.structureFile) === abs || d.files.some((f) => path.resolve(f) === abs));
   const notes: string[] = [];
   if (found.length) {
     const pick = found.length === 1 ? found[0]! : found.find((d) => path.resolve(d.dataset.structureFile) === abs);
     if (!pick) {
-      throw new CeilingInputError(`${found.length} datasets found (${found.map((d) => path.basename(d.dataset.structureFile)).join(', ')}); name one of their files`);
+      throw new CeilingInputError(`${found.length} datasets use this file (${found.map((d) => path.basename(d.dataset.structureFile)).join(', ')}); name the file holding the edges of one`);
     }
     const errors = pick.problems.filter((p) => p.severity === 'error').length;
     if (errors) notes.push(`${file}: the dataset has ${errors} error${errors === 1 ? '' : 's'} (see hopscope check); the ceiling uses the edges that lie within their graph`);
