@@ -323,3 +323,20 @@ describe('an editor re-check focused on one file of a dataset', () => {
     expect(other.datasets!.find((d) => d.files.some((p) => p.includes('kernel_bad')))!.checked).toBe(false);
   });
 });
+
+describe('regular look-alikes: the circular skip-link graphs', () => {
+  // tests/fixtures/ceiling/csl.pt (make_ceiling_fixtures.py, torch.save of (data, slices)): 15
+  // relabelled copies of each of the 10 circular skip-link graphs of Murphy et al. 2019 (41 nodes,
+  // 4-regular, skips 2, 3, 4, 5, 6, 9, 11, 12, 13, 16), labelled by skip. The copies of one skip are
+  // isomorphic by construction; graphs of different skips are not (the set's published design,
+  // docs/references.md §12). 1-WL sees one class; the exact test must find the ten.
+  it('fall into ten isomorphism classes of 15, one label each, every pair decided', async () => {
+    const list = await loadDatasets([path.join(__dirname, '../fixtures/ceiling/csl.pt')]);
+    const ds = list[0]!.dataset;
+    const r = isomorphismClasses(ds);
+    expect(r.undecided).toEqual([]);
+    expect(r.classes.map((c) => c.length)).toEqual(new Array(10).fill(15));
+    for (const c of r.classes) expect(new Set(c.map((g) => ds.graphLabels!.data[g])).size).toBe(1);
+    expect(list[0]!.problems.map((p) => p.code)).not.toContain('isomorphic-label-conflict');
+  });
+});

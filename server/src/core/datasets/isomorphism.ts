@@ -144,7 +144,20 @@ export function isomorphismClasses(ds: Dataset, opts: IsomorphismOptions = {}, o
   const out: IsomorphismClasses = { classes: [], undecided: [] };
   const deadline = Date.now() + (opts.isoBudgetMs ?? 5000);
   const steps = opts.isoStepsPerPair ?? 200_000;
+  // Groups of three or more look-alikes (regular graphs, where 1-WL sees nothing) are split first by
+  // a stronger invariant: what refinement makes of each node singled out (individualisationCertificate).
+  const split: number[][] = [];
   for (const list of groups.values()) {
+    if (list.length < 3) { split.push(list); continue; }
+    const sub = new Map<string, number[]>();
+    for (const g of list) {
+      const k = individualisationCertificate(ds, sg, a, g);
+      const l = sub.get(k);
+      if (l) l.push(g); else sub.set(k, [g]);
+    }
+    split.push(...sub.values());
+  }
+  for (const list of split) {
     if (list.length < 2) continue;
     const reps: number[][] = [];
     for (const g of list) {
@@ -160,6 +173,43 @@ export function isomorphismClasses(ds: Dataset, opts: IsomorphismOptions = {}, o
   }
   out.classes.sort((x, y) => x[0]! - y[0]!);
   return out;
+}
+
+/**
+ * An isomorphism invariant of graph g stronger than its 1-WL colours: for each node v, refine the
+ * graph's colours (`colour`, already refined jointly) with v alone in a colour of its own until the
+ * number of colours stops growing, and hash the resulting colour histogram (order-free); the sorted
+ * list of these per-node hashes is the certificate. Isomorphic graphs have equal certificates.
+ */
+export function individualisationCertificate(ds: Dataset, sg: SimpleGraphs, colour: Uint32Array, g: number): string {
+  const base = ds.nodeOffsets[g]!, n = ds.nodeOffsets[g + 1]! - base;
+  const o0 = sg.off[g]!, o1 = sg.off[g + 1]!;
+  let col = new Uint32Array(n), next = new Uint32Array(n);
+  const sumOut = new Uint32Array(n), sumIn = new Uint32Array(n);
+  const per: number[] = [];
+  const distinct = (c: Uint32Array) => new Set(c).size;
+  for (let v = 0; v < n; v++) {
+    for (let u = 0; u < n; u++) col[u] = colour[base + u]!;
+    col[v] = fmix(col[v]! ^ 0xa5a5a5a5) ^ 0x5bd1e995;
+    let k = distinct(col);
+    for (let round = 0; round < n; round++) {
+      sumOut.fill(0); sumIn.fill(0);
+      for (let i = o0; i < o1; i++) {
+        const u = sg.src[i]!, w = sg.dst[i]!;
+        sumOut[u] = (sumOut[u]! + fmix(col[w]! + 0x9e3779b9)) >>> 0;
+        sumIn[w] = (sumIn[w]! + fmix(col[u]! ^ 0x85ebca6b)) >>> 0;
+      }
+      for (let u = 0; u < n; u++) next[u] = fmix(Math.imul(col[u]!, 0x27d4eb2f) ^ fmix(sumOut[u]! + 0x165667b1) ^ Math.imul(fmix(sumIn[u]!), 3));
+      [col, next] = [next, col];
+      const k2 = distinct(col);
+      if (k2 <= k) break;
+      k = k2;
+    }
+    let h = 0;
+    for (let u = 0; u < n; u++) h = (h + fmix(col[u]! + 0x61c88647)) >>> 0;
+    per.push(h);
+  }
+  return per.sort((x, y) => x - y).join(',');
 }
 
 /** Sorted out- and in-neighbour lists of one graph (local ids). */
@@ -186,8 +236,14 @@ function hasPair(sg: SimpleGraphs, lo: number, hi: number, key: number): boolean
 }
 
 /**
- * Whether graphs g and h are isomorphic with equal features (and node labels) on matched nodes.
- * Undefined when `maxSteps` backtracking steps did not decide it.
+ * Whether graphs g and h are isomorphic with equal features (and node labels) on matched nodes, by
+ * individualisation and refinement: both graphs are refined jointly (one dictionary of colour
+ * signatures: own colour, sorted out- and in-neighbour colours) to a stable partition, which must
+ * have the same cell sizes on both sides; then a node of the smallest non-singleton cell of g is
+ * given a colour of its own, and so in turn each node of the same cell of h, and the search goes on
+ * until every cell is a single node; that bijection is then verified edge by edge and feature by
+ * feature. Refinement keeps regular graphs (where 1-WL sees nothing) to a shallow search. Undefined
+ * when `maxSteps` refinements did not decide it.
  */
 export function isomorphic(ds: Dataset, sg: SimpleGraphs, colour: Uint32Array, g: number, h: number, maxSteps: number): boolean | undefined {
   const bg = ds.nodeOffsets[g]!, bh = ds.nodeOffsets[h]!;
@@ -196,9 +252,9 @@ export function isomorphic(ds: Dataset, sg: SimpleGraphs, colour: Uint32Array, g
   if (sg.off[g + 1]! - sg.off[g]! !== sg.off[h + 1]! - sg.off[h]!) return false;
   if (n === 0) return true;
   const A = adjacency(sg, g, n), B = adjacency(sg, h, n);
-  // Colour multisets must agree.
-  const ca = Array.from(colour.subarray(bg, bg + n)).sort(), cb = Array.from(colour.subarray(bh, bh + n)).sort();
-  for (let i = 0; i < n; i++) if (ca[i] !== cb[i]) return false;
+  const N = ds.nodeOffsets[ds.graphs]!;
+  const feats = ds.nodeFeatures && ds.nodeFeatures.rows === N ? ds.nodeFeatures : undefined;
+  const labs = ds.nodeLabels && ds.nodeLabels.rows === N ? ds.nodeLabels : undefined;
   const sameRow = (col: DatasetColumn | undefined, x: number, y: number) => {
     if (!col) return true;
     const c = col.columns;
@@ -208,82 +264,102 @@ export function isomorphic(ds: Dataset, sg: SimpleGraphs, colour: Uint32Array, g
     }
     return true;
   };
-  const N = ds.nodeOffsets[ds.graphs]!;
-  const feats = ds.nodeFeatures && ds.nodeFeatures.rows === N ? ds.nodeFeatures : undefined;
-  const labs = ds.nodeLabels && ds.nodeLabels.rows === N ? ds.nodeLabels : undefined;
 
-  // Order: breadth-first over both directions, each component from its rarest-coloured node.
-  const freq = new Map<number, number>();
-  for (let u = 0; u < n; u++) freq.set(colour[bg + u]!, (freq.get(colour[bg + u]!) ?? 0) + 1);
-  const byRarity = Array.from({ length: n }, (_, u) => u).sort((x, y) => freq.get(colour[bg + x]!)! - freq.get(colour[bg + y]!)! || x - y);
-  const order = new Int32Array(n), parent = new Int32Array(n).fill(-1);
-  const seen = new Uint8Array(n);
-  let len = 0;
-  for (const s of byRarity) {
-    if (seen[s]) continue;
-    seen[s] = 1; order[len++] = s;
-    for (let q = len - 1; q < len; q++) {
-      const u = order[q]!;
-      for (const [ptr, idx] of [[A.outPtr, A.outIdx], [A.inPtr, A.inIdx]] as const) {
-        for (let p = ptr[u]!; p < ptr[u + 1]!; p++) {
-          const v = idx[p]!;
-          if (!seen[v]) { seen[v] = 1; parent[v] = u; order[len++] = v; }
-        }
-      }
+  // Joint colours: both graphs' nodes numbered 0..n-1 (g) and n..2n-1 (h).
+  const start = new Int32Array(2 * n);
+  {
+    const ids = new Map<number, number>();
+    for (let i = 0; i < 2 * n; i++) {
+      const c = colour[i < n ? bg + i : bh + i - n]!;
+      let id = ids.get(c);
+      if (id === undefined) { id = ids.size; ids.set(c, id); }
+      start[i] = id;
     }
   }
-  const map = new Int32Array(n).fill(-1), used = new Uint8Array(n);
-  let stepsLeft = maxSteps;
-  const ok = (x: number, y: number): boolean => {
-    if (colour[bg + x] !== colour[bh + y]) return false;
-    if (A.outPtr[x + 1]! - A.outPtr[x]! !== B.outPtr[y + 1]! - B.outPtr[y]!) return false;
-    if (A.inPtr[x + 1]! - A.inPtr[x]! !== B.inPtr[y + 1]! - B.inPtr[y]!) return false;
-    if (hasPair(sg, A.o0, A.o1, x * n + x) !== hasPair(sg, B.o0, B.o1, y * n + y)) return false;
-    // Every edge to an already-matched node must exist on the other side, and vice versa (counts).
-    let ma = 0, mb = 0;
-    for (let p = A.outPtr[x]!; p < A.outPtr[x + 1]!; p++) {
-      const z = A.outIdx[p]!;
-      if (z === x || map[z]! < 0) continue;
-      ma++;
-      if (!hasPair(sg, B.o0, B.o1, y * n + map[z]!)) return false;
-    }
-    for (let p = B.outPtr[y]!; p < B.outPtr[y + 1]!; p++) { const w = B.outIdx[p]!; if (w !== y && used[w]) mb++; }
-    if (ma !== mb) return false;
-    ma = 0; mb = 0;
-    for (let p = A.inPtr[x]!; p < A.inPtr[x + 1]!; p++) {
-      const z = A.inIdx[p]!;
-      if (z === x || map[z]! < 0) continue;
-      ma++;
-      if (!hasPair(sg, B.o0, B.o1, map[z]! * n + y)) return false;
-    }
-    for (let p = B.inPtr[y]!; p < B.inPtr[y + 1]!; p++) { const w = B.inIdx[p]!; if (w !== y && used[w]) mb++; }
-    if (ma !== mb) return false;
-    return sameRow(feats, x, y) && sameRow(labs, x, y);
+  /** Cell sizes of both sides agree; returns the number of colours, or -1 when they differ. */
+  const balanced = (col: Int32Array, k: number): number => {
+    const cnt = new Int32Array(k);
+    for (let i = 0; i < n; i++) cnt[col[i]!]!++;
+    for (let i = n; i < 2 * n; i++) if (--cnt[col[i]!]! < 0) return -1;
+    return k;
   };
-  let undecided = false;
-  const place = (depth: number): boolean => {
-    if (depth === n) return true;
-    if (--stepsLeft < 0) { undecided = true; return false; }
-    const x = order[depth]!;
-    const try1 = (y: number): boolean => {
-      if (used[y] || !ok(x, y)) return false;
-      map[x] = y; used[y] = 1;
-      if (place(depth + 1)) return true;
-      map[x] = -1; used[y] = 0;
-      return false;
-    };
-    const p = parent[x]!;
-    if (p >= 0) {
-      const py = map[p]!;
-      for (const [ptr, idx] of [[B.outPtr, B.outIdx], [B.inPtr, B.inIdx]] as const) {
-        for (let q = ptr[py]!; q < ptr[py + 1]!; q++) { if (try1(idx[q]!)) return true; if (undecided) return false; }
+  /**
+   * Refines in place to a stable partition; the number of colours, or -1 when the sides disagree.
+   * A node's next colour is a hash of its colour and order-free sums of hashed out- and in-neighbour
+   * colours, numbered jointly: a hash collision can only merge cells (a coarser partition, which
+   * every isomorphism still respects), never split them, so the pruning stays sound and the final
+   * bijection is verified exactly anyway.
+   */
+  const sumOut = new Uint32Array(2 * n), sumIn = new Uint32Array(2 * n), hashed = new Uint32Array(2 * n);
+  const refine = (col: Int32Array): number => {
+    let k = 0;
+    for (let i = 0; i < 2 * n; i++) if (col[i]! + 1 > k) k = col[i]! + 1;
+    if (balanced(col, k) < 0) return -1;
+    for (;;) {
+      sumOut.fill(0); sumIn.fill(0);
+      for (const [G, off] of [[A, 0], [B, n]] as const) {
+        for (let u = 0; u < n; u++) {
+          for (let p = G.outPtr[u]!; p < G.outPtr[u + 1]!; p++) {
+            const v = G.outIdx[p]!;
+            sumOut[u + off] = (sumOut[u + off]! + fmix(col[v + off]! + 0x9e3779b9)) >>> 0;
+            sumIn[v + off] = (sumIn[v + off]! + fmix(col[u + off]! ^ 0x85ebca6b)) >>> 0;
+          }
+        }
       }
-      return false;
+      for (let i = 0; i < 2 * n; i++) hashed[i] = fmix(Math.imul(col[i]! + 1, 0x27d4eb2f) ^ fmix(sumOut[i]! + 0x165667b1) ^ Math.imul(fmix(sumIn[i]!), 3));
+      const ids = new Map<number, number>();
+      for (let i = 0; i < 2 * n; i++) {
+        let id = ids.get(hashed[i]!);
+        if (id === undefined) { id = ids.size; ids.set(hashed[i]!, id); }
+        col[i] = id;
+      }
+      const k2 = ids.size;
+      if (balanced(col, k2) < 0) return -1;
+      if (k2 <= k) return k2;
+      k = k2;
     }
-    for (let y = 0; y < n; y++) { if (try1(y)) return true; if (undecided) return false; }
+  };
+  const verify = (col: Int32Array): boolean => {
+    const map = new Int32Array(n);
+    const at = new Int32Array(2 * n).fill(-1);
+    for (let i = n; i < 2 * n; i++) at[col[i]!] = i - n;
+    for (let x = 0; x < n; x++) {
+      const y = at[col[x]!]!;
+      if (y < 0) return false;
+      map[x] = y;
+    }
+    for (let x = 0; x < n; x++) {
+      const y = map[x]!;
+      if (!sameRow(feats, x, y) || !sameRow(labs, x, y)) return false;
+      for (let p = A.outPtr[x]!; p < A.outPtr[x + 1]!; p++) if (!hasPair(sg, B.o0, B.o1, y * n + map[A.outIdx[p]!]!)) return false;
+    }
+    return true; // equal distinct-pair counts, and every pair of g maps to one of h
+  };
+  let steps = maxSteps;
+  let undecided = false;
+  const search = (col: Int32Array): boolean => {
+    if (--steps < 0) { undecided = true; return false; }
+    const k = refine(col);
+    if (k < 0) return false;
+    if (k === n) return verify(col);
+    // The smallest cell with more than one node (colour ids are joint).
+    const cnt = new Int32Array(k);
+    for (let i = 0; i < n; i++) cnt[col[i]!]!++;
+    let cell = -1;
+    for (let c = 0; c < k; c++) if (cnt[c]! > 1 && (cell < 0 || cnt[c]! < cnt[cell]!)) cell = c;
+    let x = 0;
+    while (col[x] !== cell) x++;
+    for (let y = n; y < 2 * n; y++) {
+      if (col[y] !== cell) continue;
+      const next = col.slice();
+      next[x] = k;
+      next[y] = k;
+      if (search(next)) return true;
+      if (undecided) return false;
+    }
     return false;
   };
-  const found = place(0);
+  const found = search(start);
   return undecided ? undefined : found;
 }
 
