@@ -178,8 +178,8 @@ function graphText(file: string, r: GraphCeilingResult, groupsShown: number, io:
     }
     lines.push('');
     if (r.ceiling === 1) {
-      lines.push('  Every look-alike group carries one label: 1-WL refinement separates all graphs with different labels, so the structure' +
-        (r.start === 'features' ? ' and features' : '') + ' alone do not cap the accuracy.');
+      lines.push('  Every look-alike group carries one label: 1-WL refinement separates all graphs with different labels, so what a' +
+        ' message-passing model can see' + (r.start === 'features' ? ' (structure and features)' : ' of the structure') + ' places no cap on the accuracy.');
     } else {
       lines.push(`  No message-passing model whose only inputs are the structure${r.start === 'features' ? ' and these node features' : ''} can ` +
         `classify more than ${pct(r.ceiling)} of these ${plural(r.labelled, 'graph')} correctly: the graphs of a look-alike group get one ` +
