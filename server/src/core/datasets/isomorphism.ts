@@ -2,11 +2,11 @@
  * Isomorphic graphs in a dataset, node features (and node labels) included: candidates by a hashed
  * 1-WL refinement run over all graphs at once (initial colour = a hash of the node's exact feature
  * row and label; each round adds order-free sums of hashed out- and in-neighbour colours), graphs
- * grouped by node count, distinct edge count and two order-free sums of their final colours; then
- * every candidate confirmed by an exact test (backtracking over nodes in breadth-first order, a
- * node tried only on nodes of its refined colour and, past the first, only on neighbours of where
- * its parent went; features compared exactly). Hash collisions only make more candidates; the
- * exact test decides. A test that exceeds its step budget is counted as undecided and said so.
+ * grouped by node count, distinct edge count and two order-free sums of their final colours (groups
+ * of three or more split further by individualisationCertificate); then every candidate confirmed by
+ * an exact test by individualisation and refinement (isomorphic; features compared exactly). Hash
+ * collisions only make more candidates or coarser cells; the exact test decides. A test that
+ * exceeds its budget is counted as undecided and said so.
  *
  * Graphs are compared as their sets of distinct directed pairs (self-loops kept, repeated entries
  * counted once); an undirected graph stored both ways is thereby compared as undirected. Edge
@@ -21,7 +21,7 @@ import type { Dataset, DatasetColumn } from './model';
 import type { FiledProblem } from './read-common';
 
 export interface IsomorphismOptions {
-  /** Backtracking steps allowed for one pair (default 200,000). */
+  /** Refinements (search nodes) allowed for one pair (default 20,000). */
   isoStepsPerPair?: number;
   /** Milliseconds for all exact tests together (default 5,000). */
   isoBudgetMs?: number;
@@ -123,7 +123,9 @@ export function refinedColours(ds: Dataset, sg: SimpleGraphs, rounds: number): {
 export interface IsomorphismClasses {
   /** Each class: graph indices (increasing), only classes of two or more. */
   classes: number[][];
+  /** The first undecided pairs (at most 20), and how many graphs were left undecided in all. */
   undecided: Array<[number, number]>;
+  undecidedCount: number;
 }
 
 export function isomorphismClasses(ds: Dataset, opts: IsomorphismOptions = {}, only?: (g: number) => boolean): IsomorphismClasses {
@@ -141,38 +143,94 @@ export function isomorphismClasses(ds: Dataset, opts: IsomorphismOptions = {}, o
     const list = groups.get(k);
     if (list) list.push(g); else groups.set(k, [g]);
   }
-  const out: IsomorphismClasses = { classes: [], undecided: [] };
-  const deadline = Date.now() + (opts.isoBudgetMs ?? 5000);
-  const steps = opts.isoStepsPerPair ?? 200_000;
-  // Groups of three or more look-alikes (regular graphs, where 1-WL sees nothing) are split first by
-  // a stronger invariant: what refinement makes of each node singled out (individualisationCertificate).
-  const split: number[][] = [];
+  const out: IsomorphismClasses = { classes: [], undecided: [], undecidedCount: 0 };
+  const steps = opts.isoStepsPerPair ?? 20_000;
+  const start = Date.now(), budget = opts.isoBudgetMs ?? 5000;
+  const deadline = start + budget;
+  const undecided = (a0: number, b0: number) => {
+    out.undecidedCount++;
+    if (out.undecided.length < 20) out.undecided.push([a0, b0]);
+  };
   for (const list of groups.values()) {
-    if (list.length < 3) { split.push(list); continue; }
-    const sub = new Map<string, number[]>();
-    for (const g of list) {
-      const k = individualisationCertificate(ds, sg, a, g);
-      const l = sub.get(k);
-      if (l) l.push(g); else sub.set(k, [g]);
-    }
-    split.push(...sub.values());
-  }
-  for (const list of split) {
     if (list.length < 2) continue;
-    const reps: number[][] = [];
+    // 1. Graphs stored identically (same pairs, same feature rows node by node) are one unit: the
+    //    identity matches them, no search needed. Only units are compared below.
+    const byForm = new Map<string, number[][]>();
+    const units: number[][] = [];
     for (const g of list) {
-      let placed = false;
-      for (const cls of reps) {
-        const verdict = Date.now() > deadline ? undefined : isomorphic(ds, sg, a, cls[0]!, g, steps);
-        if (verdict === undefined) { out.undecided.push([cls[0]!, g]); continue; }
-        if (verdict) { cls.push(g); placed = true; break; }
-      }
-      if (!placed) reps.push([g]);
+      const key = storedKey(ds, sg, g);
+      const forms = byForm.get(key);
+      const same = forms?.find((f) => sameStored(ds, sg, f[0]!, g));
+      if (same) { same.push(g); continue; }
+      const unit = [g];
+      units.push(unit);
+      if (forms) forms.push(unit); else byForm.set(key, [unit]);
     }
-    for (const cls of reps) if (cls.length > 1) out.classes.push(cls);
+    if (units.length === 1) { out.classes.push(units[0]!); continue; }
+    // 2. Among three or more look-alike units (regular graphs, where 1-WL sees nothing) each unit
+    //    gets a stronger invariant, what refinement makes of each node singled out
+    //    (individualisationCertificate), where 1-WL left nodes in shared cells and within the first
+    //    half of the budget.
+    const g0 = units[0]![0]!, n0 = ds.nodeOffsets[g0 + 1]! - ds.nodeOffsets[g0]!;
+    const discrete = new Set(a.subarray(ds.nodeOffsets[g0]!, ds.nodeOffsets[g0 + 1]!)).size === n0;
+    const certify = units.length >= 3 && !discrete;
+    // 3. The exact test between units' first graphs; units with different certificates are not
+    //    isomorphic, a unit without one (past half the budget) is compared with every class.
+    const reps: Array<{ cert?: string; cls: number[] }> = [];
+    for (const unit of units) {
+      const g = unit[0]!;
+      const cert = certify && Date.now() <= start + budget / 2 ? individualisationCertificate(ds, sg, a, g) : undefined;
+      let placed = false, unknown = false;
+      for (const rep of reps) {
+        if (cert !== undefined && rep.cert !== undefined && cert !== rep.cert) continue;
+        // Past the budget, a unit is not compared at all: counted once as undecided.
+        if (Date.now() > deadline) { undecided(rep.cls[0]!, g); unknown = true; break; }
+        const verdict = isomorphic(ds, sg, a, rep.cls[0]!, g, steps, deadline);
+        if (verdict === undefined) { undecided(rep.cls[0]!, g); unknown = true; break; }
+        if (verdict) { rep.cls.push(...unit); placed = true; break; }
+      }
+      if (!placed && !unknown) reps.push({ ...(cert !== undefined ? { cert } : {}), cls: [...unit] });
+    }
+    for (const { cls } of reps) if (cls.length > 1) out.classes.push(cls.sort((x, y) => x - y));
   }
   out.classes.sort((x, y) => x[0]! - y[0]!);
   return out;
+}
+
+/** A hash of how graph g is stored: its sorted pairs, feature and label rows in node order. */
+function storedKey(ds: Dataset, sg: SimpleGraphs, g: number): string {
+  let h1 = 0x811c9dc5, h2 = 0x1234567;
+  for (let i = sg.off[g]!; i < sg.off[g + 1]!; i++) { const k = sg.key[i]!; h1 = fmix(h1 ^ (k >>> 0)) + Math.imul(h1, 31); h2 = fmix(h2 + Math.floor(k / 4294967296) + i - sg.off[g]!); }
+  const N = ds.nodeOffsets[ds.graphs]!;
+  const scratch = new Float64Array(1), bits = new Uint32Array(scratch.buffer);
+  for (const col of [ds.nodeFeatures, ds.nodeLabels]) {
+    if (!col || col.rows !== N) continue;
+    for (let i = ds.nodeOffsets[g]! * col.columns; i < ds.nodeOffsets[g + 1]! * col.columns; i++) {
+      scratch[0] = col.data[i]!;
+      h1 = fmix(h1 ^ bits[0]!) + bits[1]!;
+      h2 = fmix(h2 + bits[1]!) ^ bits[0]!;
+    }
+  }
+  return `${h1 >>> 0}:${h2 >>> 0}`;
+}
+
+/** Whether graphs g and h are stored identically (the identity is an isomorphism, features included). */
+function sameStored(ds: Dataset, sg: SimpleGraphs, g: number, h: number): boolean {
+  const n = ds.nodeOffsets[g + 1]! - ds.nodeOffsets[g]!;
+  if (ds.nodeOffsets[h + 1]! - ds.nodeOffsets[h]! !== n) return false;
+  const m = sg.off[g + 1]! - sg.off[g]!;
+  if (sg.off[h + 1]! - sg.off[h]! !== m) return false;
+  for (let i = 0; i < m; i++) if (sg.key[sg.off[g]! + i] !== sg.key[sg.off[h]! + i]) return false;
+  const N = ds.nodeOffsets[ds.graphs]!;
+  for (const col of [ds.nodeFeatures, ds.nodeLabels]) {
+    if (!col || col.rows !== N) continue;
+    const c = col.columns, a0 = ds.nodeOffsets[g]! * c, b0 = ds.nodeOffsets[h]! * c;
+    for (let i = 0; i < n * c; i++) {
+      const p = col.data[a0 + i]!, q = col.data[b0 + i]!;
+      if (p !== q && !(p !== p && q !== q)) return false;
+    }
+  }
+  return true;
 }
 
 /**
@@ -245,7 +303,7 @@ function hasPair(sg: SimpleGraphs, lo: number, hi: number, key: number): boolean
  * feature. Refinement keeps regular graphs (where 1-WL sees nothing) to a shallow search. Undefined
  * when `maxSteps` refinements did not decide it.
  */
-export function isomorphic(ds: Dataset, sg: SimpleGraphs, colour: Uint32Array, g: number, h: number, maxSteps: number): boolean | undefined {
+export function isomorphic(ds: Dataset, sg: SimpleGraphs, colour: Uint32Array, g: number, h: number, maxSteps: number, deadline = Infinity): boolean | undefined {
   const bg = ds.nodeOffsets[g]!, bh = ds.nodeOffsets[h]!;
   const n = ds.nodeOffsets[g + 1]! - bg;
   if (ds.nodeOffsets[h + 1]! - bh !== n) return false;
@@ -338,7 +396,7 @@ export function isomorphic(ds: Dataset, sg: SimpleGraphs, colour: Uint32Array, g
   let steps = maxSteps;
   let undecided = false;
   const search = (col: Int32Array): boolean => {
-    if (--steps < 0) { undecided = true; return false; }
+    if (--steps < 0 || ((steps & 31) === 0 && Date.now() > deadline)) { undecided = true; return false; }
     const k = refine(col);
     if (k < 0) return false;
     if (k === n) return verify(col);
@@ -379,9 +437,9 @@ export function isomorphismProblems(ds: Dataset, labels: DatasetColumn | undefin
   const hasSplits = !!splits && !!splits.train?.length && (!!splits.val?.length || !!splits.test?.length);
   if (!labels && !hasSplits) return [];
   const out: FiledProblem[] = [];
-  const { classes, undecided } = isomorphismClasses(ds, opts);
-  const undecidedNote = undecided.length
-    ? ` ${undecided.length} candidate pair${undecided.length === 1 ? '' : 's'} could not be decided within the time allowed (first: graphs ${undecided[0]![0]} and ${undecided[0]![1]}); they are not counted.`
+  const { classes, undecided, undecidedCount } = isomorphismClasses(ds, opts);
+  const undecidedNote = undecidedCount
+    ? ` ${undecidedCount} graph${undecidedCount === 1 ? '' : 's'} could not be compared with ${undecidedCount === 1 ? 'its' : 'their'} look-alikes within the time allowed (first: graphs ${undecided[0]![0]} and ${undecided[0]![1]}); ${undecidedCount === 1 ? 'it is' : 'they are'} not counted.`
     : '';
   const tensor = ds.edgeTensor?.tensor;
   if (labels) {
