@@ -340,3 +340,20 @@ describe('regular look-alikes: the circular skip-link graphs', () => {
     expect(list[0]!.problems.map((p) => p.code)).not.toContain('isomorphic-label-conflict');
   });
 });
+
+describe('many relabelled copies of one regular graph', () => {
+  // Definition: the circulant graph joining u to u + s (mod 25) is the 25-cycle for every s coprime
+  // to 25 (s = 1, 2, 3 here), so all 3,000 graphs are isomorphic; labels alternate, so they form one
+  // conflicting group. Stored forms repeat every third graph (matched by the identity).
+  it('form one class, every graph decided', () => {
+    const G = 3000, n = 25;
+    const graphs = Array.from({ length: G }, (_, g) => ({ nodes: n, edges: Array.from({ length: n }, (_, u) => [[u, (u + 1 + (g % 3)) % n], [(u + 1 + (g % 3)) % n, u]]).flat() }));
+    const ds = build(graphs);
+    const r = isomorphismClasses(ds);
+    expect(r.undecidedCount).toBe(0);
+    expect(r.classes).toEqual([Array.from({ length: G }, (_, g) => g)]);
+    ds.graphLabels = { file: 'y', tensor: 'y', rows: G, columns: 1, data: Int32Array.from({ length: G }, (_, g) => g % 2) };
+    const p = checkDataset(ds).map((q) => q.problem).find((q) => q.code === 'isomorphic-label-conflict')!;
+    expect(p).toMatchObject({ count: 1, graphs: G, graph: 0 });
+  });
+});
