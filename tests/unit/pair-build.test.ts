@@ -4,7 +4,7 @@
 // themselves is in graph-figures.test.ts (NetworkX/SciPy); this file compares two builders.
 import * as path from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
-import { sequentialPair, setPairBuilder, buildSortedPair } from '../../server/src/core/graph/structure/csr';
+import { pairPlan, runPairStep, sequentialPair, setPairBuilder, sortedCsr, buildSortedPair } from '../../server/src/core/graph/structure/csr';
 import { countComponentsCsr } from '../../server/src/core/graph/structure/figures';
 import { PARALLEL_MIN_EDGES, parallelPair, useParallelPairBuilder } from '../../server/src/node/pair-build';
 import { sharedInt32 } from '../../server/src/node/helper-thread';
@@ -48,6 +48,29 @@ describe('two-thread CSR build', () => {
       const comps = countComponentsCsr(seq.fwd);
       expect(comps).toBeGreaterThan(100);
       expect(par.components!()).toBe(comps);
+    }
+  });
+
+  it('the one-thread pair (three counting scatters) equals a bucketed sort of each direction', () => {
+    // sortedCsr sorts each direction on its own (bucketed counting sort, then every row sorted);
+    // the pair builder scatters three times instead. Same rows, same order, on hubs, repeats and
+    // empty rows alike.
+    for (const [n, e, seed] of [[1, 0, 1], [7, 50, 2], [5000, 40_000, 4], [300_000, 200_000, 5]] as const) {
+      const { src, dst } = n < 64 ? { src: Int32Array.from({ length: e }, (_, k) => (k * 5) % n), dst: Int32Array.from({ length: e }, (_, k) => (k * 3 + 1) % n) }
+        : randomGraph(n, e, seed, false);
+      const seq = sequentialPair(n, src, dst);
+      const f = sortedCsr(n, src, dst), r = sortedCsr(n, dst, src);
+      expect(same(seq.fwd.indptr, f.indptr) && same(seq.fwd.indices, f.indices)).toBe(true);
+      expect(same(seq.rev.indptr, r.indptr) && same(seq.rev.indices, r.indices)).toBe(true);
+      // Cut into parts (as two threads run it), in any order within a step: the same arrays.
+      for (const parts of [2, 3]) {
+        const plan = pairPlan(n, src, dst, parts);
+        runPairStep(plan, 0, 1);
+        runPairStep(plan, 0, 0);
+        for (let s = 1; s < 4; s++) for (let p = parts - 1; p >= 0; p--) runPairStep(plan, s, p);
+        expect(same(plan.fwdIndptr, f.indptr) && same(plan.fwdIndices, f.indices)).toBe(true);
+        expect(same(plan.revIndptr, r.indptr) && same(plan.revIndices, r.indices)).toBe(true);
+      }
     }
   });
 

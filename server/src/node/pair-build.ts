@@ -1,34 +1,42 @@
 /**
- * Builds the forward and reverse CSR of large graphs on two threads: this thread sorts the forward
- * direction while a helper thread sorts the reverse one (and then counts weakly connected
- * components on it), over shared memory. Same results as the core's `sequentialPair`; the core
+ * Builds the forward and reverse CSR of large graphs on two threads over shared memory: each step
+ * of the core's PairPlan is cut into two node ranges, this thread and the helper each take one
+ * (whichever is free takes the next), and the helper then counts weakly connected components
+ * while this thread computes the other figures. Same results as the core's `sequentialPair`; the core
  * stays single-threaded and pure, this module only plugs a faster builder into it.
  *
  * The calling thread blocks in `Atomics.wait` (allowed in Node's main thread and in workers), so
  * the core's synchronous API is kept. Any failure — the helper script missing, the helper not
  * answering, an exception in it — falls back to building on this thread.
  */
-import { sequentialPair, setPairBuilder, sortedCsr, type Csr, type PairBuild, type PairBuilder } from '../core/graph/structure/csr';
+import {
+  PAIR_STEPS, pairOf, pairPlan, pairStepParts, runPairStep, sequentialPair, setPairBuilder, type PairBuild, type PairBuilder, type PairPlan,
+} from '../core/graph/structure/csr';
 import { countComponentsCsr } from '../core/graph/structure/figures';
-import { dropHelper, getHelper, setHelperScript, sharedInt32, signal, waitWhile } from './helper-thread';
+import { dropHelper, getHelper, setHelperScript, sharedInt32 } from './helper-thread';
 
 /** Below this many edge entries the second thread is not worth its start-up (~30 ms). */
 export const PARALLEL_MIN_EDGES = 1 << 20;
 
-/** Control words shared with the helper: [0] state, [1] components. */
-const STATE = 0, COMPONENTS = 1;
-/** Helper states: waiting, reverse graph ready, components ready, failed. */
-const WAITING = 0, REVERSE_READY = 1, COMPONENTS_READY = 2, FAILED = -1;
+/** Parts per step: one per thread. */
+const PARTS = 2;
+/**
+ * Control words shared with the helper: per step a claim counter and a done counter, then the
+ * components' claim, done flag and count, then a failure flag. A thread takes a part by
+ * incrementing the step's claim counter, so whichever thread is free takes the next part: when the
+ * helper is late (starting, or busy with an earlier job) this thread does every part itself.
+ */
+const CLAIM = 0, DONE = PAIR_STEPS, COMP_CLAIM = 2 * PAIR_STEPS, COMP_DONE = COMP_CLAIM + 1, COMPONENTS = COMP_CLAIM + 2,
+  FAILED = COMP_CLAIM + 3, CONTROL_WORDS = COMP_CLAIM + 4;
+/** Added to a done counter when the helper fails, so a waiter wakes at once. */
+const FAIL_BUMP = 1 << 20;
 
 export interface PairJob {
   kind: 'pair';
-  n: number;
-  src: Int32Array;
-  dst: Int32Array;
-  revIndptr: Int32Array;
-  revIndices: Int32Array;
+  plan: PairPlan;
   control: Int32Array;
   components: boolean;
+  patienceMs: number;
 }
 
 /** An Int32Array over shared memory with the contents of `a` (`a` itself when already shared). */
@@ -39,34 +47,61 @@ function shared(a: Int32Array): Int32Array {
   return s;
 }
 
-/** Generous bound on the helper's time: its work is a few passes over the edges. */
+/** Generous bound on the other thread's time: its work is a few passes over the edges. */
 function patienceMs(e: number): number {
   return 20_000 + e / 100;
+}
+
+/** Waits until control[at] ≥ target; false on timeout or when the helper failed. */
+function waitAtLeast(control: Int32Array, at: number, target: number, deadline: number): boolean {
+  for (;;) {
+    const v = Atomics.load(control, at);
+    if (Atomics.load(control, FAILED) !== 0) return false;
+    if (v >= target) return true;
+    const left = deadline - Date.now();
+    if (left <= 0) return false;
+    Atomics.wait(control, at, v, left);
+  }
+}
+
+/** Both threads run this: every step, taking parts while any is left, then waiting for the step's other parts. */
+function runSteps(job: PairJob): boolean {
+  const { plan, control } = job;
+  const deadline = Date.now() + job.patienceMs;
+  for (let s = 0; s < PAIR_STEPS; s++) {
+    const parts = pairStepParts(plan, s);
+    for (let p = Atomics.add(control, CLAIM + s, 1); p < parts; p = Atomics.add(control, CLAIM + s, 1)) {
+      runPairStep(plan, s, p);
+      Atomics.add(control, DONE + s, 1);
+      Atomics.notify(control, DONE + s);
+    }
+    if (!waitAtLeast(control, DONE + s, parts, deadline)) return false;
+  }
+  return true;
 }
 
 export const parallelPair: PairBuilder = (n, src, dst, opts) => {
   const e = src.length;
   const w = e >= PARALLEL_MIN_EDGES ? getHelper() : null;
   if (!w) return sequentialPair(n, src, dst, opts);
-  const control = sharedInt32(2);
+  const control = sharedInt32(CONTROL_WORDS);
   const job: PairJob = {
-    kind: 'pair', n, src: shared(src), dst: shared(dst), revIndptr: sharedInt32(n + 1), revIndices: sharedInt32(e),
-    control, components: opts?.components === true,
+    kind: 'pair', plan: pairPlan(n, shared(src), shared(dst), PARTS, sharedInt32), control,
+    components: opts?.components === true, patienceMs: patienceMs(e),
   };
   w.postMessage(job);
-  const fwd = sortedCsr(n, src, dst);
-  if (!waitWhile(control, STATE, WAITING, patienceMs(e))) {
-    dropHelper(w);
+  if (!runSteps(job)) {
+    if (Atomics.load(control, FAILED) === 0) dropHelper(w);
+    Atomics.store(control, FAILED, 1);
     return sequentialPair(n, src, dst, opts);
   }
-  if (Atomics.load(control, STATE) === FAILED) return sequentialPair(n, src, dst, opts);
-  const rev: Csr = { n, indptr: job.revIndptr, indices: job.revIndices };
-  const result: PairBuild = { fwd, rev };
+  const result: PairBuild = pairOf(job.plan);
   if (job.components) {
+    const fwd = result.fwd;
     result.components = () => {
-      if (waitWhile(control, STATE, REVERSE_READY, patienceMs(e)) && Atomics.load(control, STATE) === COMPONENTS_READY) {
-        return Atomics.load(control, COMPONENTS);
-      }
+      // Counted here when the helper has not taken it; else its count, once ready.
+      if (Atomics.add(control, COMP_CLAIM, 1) === 0) return countComponentsCsr(fwd);
+      if (waitAtLeast(control, COMP_DONE, 1, Date.now() + job.patienceMs)) return Atomics.load(control, COMPONENTS);
       return countComponentsCsr(fwd);
     };
   }
@@ -82,17 +117,21 @@ export function useParallelPairBuilder(script?: string): void {
   setPairBuilder(parallelPair);
 }
 
-/** The helper thread's side: sorts the reverse direction, then counts components on it. */
+/** The helper thread's side: the parts of each step it can take, then the components when not taken yet. */
 export function runPairJob(job: PairJob): void {
   const { control } = job;
   try {
-    const rev = sortedCsr(job.n, job.dst, job.src, { indptr: job.revIndptr, indices: job.revIndices });
-    signal(control, STATE, REVERSE_READY);
-    if (job.components) {
-      Atomics.store(control, COMPONENTS, countComponentsCsr(rev));
-      signal(control, STATE, COMPONENTS_READY);
+    if (!runSteps(job)) return;
+    if (job.components && Atomics.add(control, COMP_CLAIM, 1) === 0) {
+      const { n, fwdIndptr, fwdIndices } = job.plan;
+      Atomics.store(control, COMPONENTS, countComponentsCsr({ n, indptr: fwdIndptr, indices: fwdIndices }));
+      Atomics.store(control, COMP_DONE, 1);
+      Atomics.notify(control, COMP_DONE);
     }
   } catch {
-    signal(control, STATE, FAILED);
+    Atomics.store(control, FAILED, 1);
+    for (let s = 0; s < PAIR_STEPS; s++) { Atomics.add(control, DONE + s, FAIL_BUMP); Atomics.notify(control, DONE + s); }
+    Atomics.add(control, COMP_DONE, FAIL_BUMP);
+    Atomics.notify(control, COMP_DONE);
   }
 }

@@ -124,8 +124,124 @@ export interface PairBuild {
  */
 export type PairBuilder = (n: number, src: Int32Array, dst: Int32Array, opts?: { components?: boolean }) => PairBuild;
 
-/** The forward and reverse CSR of src[k] → dst[k], one after the other on this thread. */
-export const sequentialPair: PairBuilder = (n, src, dst) => ({ fwd: sortedCsr(n, src, dst), rev: sortedCsr(n, dst, src) });
+/**
+ * The work of one sorted pair, in four steps that may each be cut into parts over node ranges (so
+ * two threads can share a step: node/pair-build.ts). With no comparison sort and no scratch beyond
+ * the two outputs:
+ *   0. counts: out-degrees into fwdIndptr, in-degrees into revIndptr, prefix sums, part bounds;
+ *   1. scatter by target: revIndices gets the sources in edge order per target (rows unsorted);
+ *   2. scatter by source while scanning those rows in target order: fwdIndices, rows sorted;
+ *   3. scatter by target while scanning the sorted forward rows: revIndices, rows sorted.
+ * Each scatter uses the indptr itself as its fill cursor and shifts it back afterwards (no fill
+ * array). A part of steps 1–3 scans every entry and writes only the rows of its node range, so
+ * parts of one step touch disjoint memory. Memory: 4 bytes per edge per direction, 4 per node per
+ * direction.
+ */
+export interface PairPlan {
+  n: number;
+  src: Int32Array;
+  dst: Int32Array;
+  fwdIndptr: Int32Array;
+  fwdIndices: Int32Array;
+  revIndptr: Int32Array;
+  revIndices: Int32Array;
+  /** parts + 1 node bounds over the forward rows, then parts + 1 over the reverse rows (step 0 fills them). */
+  bounds: Int32Array;
+  parts: number;
+}
+
+export function pairPlan(n: number, src: Int32Array, dst: Int32Array, parts = 1,
+  alloc: (length: number) => Int32Array = (length) => new Int32Array(length)): PairPlan {
+  const e = src.length;
+  return {
+    n, src, dst, parts,
+    fwdIndptr: alloc(n + 1), fwdIndices: alloc(e), revIndptr: alloc(n + 1), revIndices: alloc(e),
+    bounds: alloc(2 * (parts + 1)),
+  };
+}
+
+/** Number of parts step `step` of a plan is cut into (step 0: one per direction when parts > 1). */
+export function pairStepParts(plan: PairPlan, step: number): number {
+  return step === 0 ? Math.min(2, plan.parts) : plan.parts;
+}
+
+/** Degree counts → prefix sums, and the node bounds that cut the rows into `parts` even shares of entries. */
+function countInto(n: number, keys: Int32Array, indptr: Int32Array, bounds: Int32Array, at: number, parts: number): void {
+  for (let k = 0; k < keys.length; k++) indptr[keys[k]! + 1]!++;
+  for (let i = 0; i < n; i++) indptr[i + 1]! += indptr[i]!;
+  const e = keys.length;
+  bounds[at] = 0;
+  bounds[at + parts] = n;
+  for (let p = 1, r = 0; p < parts; p++) {
+    const want = Math.floor((e * p) / parts);
+    while (r < n && indptr[r]! < want) r++;
+    bounds[at + p] = r;
+  }
+}
+
+/** Shifts a fill cursor back into an indptr over rows [lo, hi) (its old start at lo was `a`). */
+function shiftBack(indptr: Int32Array, lo: number, hi: number, a: number): void {
+  for (let r = hi - 1; r > lo; r--) indptr[r] = indptr[r - 1]!;
+  if (hi > lo) indptr[lo] = a;
+}
+
+/** Runs part `part` of step `step` (see PairPlan). */
+export function runPairStep(plan: PairPlan, step: number, part: number): void {
+  const { n, src, dst, fwdIndptr: fp, fwdIndices: fi, revIndptr: rp, revIndices: ri, bounds, parts } = plan;
+  const e = src.length;
+  if (step === 0) {
+    if (part === 0) countInto(n, src, fp, bounds, 0, parts);
+    if (part === 1 || parts === 1) countInto(n, dst, rp, bounds, parts + 1, parts);
+    return;
+  }
+  const fwdRows = step === 2;
+  const at = fwdRows ? 0 : parts + 1;
+  const lo = bounds[at + part]!, hi = bounds[at + part + 1]!, width = hi - lo;
+  if (width <= 0) return;
+  if (step === 1) {
+    const a = rp[lo]!;
+    for (let k = 0; k < e; k++) {
+      const v = dst[k]!;
+      if ((v - lo) >>> 0 < width) ri[rp[v]!++] = src[k]!;
+    }
+    shiftBack(rp, lo, hi, a);
+  } else if (step === 2) {
+    const a = fp[lo]!;
+    for (let v = 0, q = 0; v < n; v++) {
+      const end = rp[v + 1]!;
+      for (; q < end; q++) {
+        const u = ri[q]!;
+        if ((u - lo) >>> 0 < width) fi[fp[u]!++] = v;
+      }
+    }
+    shiftBack(fp, lo, hi, a);
+  } else {
+    const a = rp[lo]!;
+    for (let u = 0, q = 0; u < n; u++) {
+      const end = fp[u + 1]!;
+      for (; q < end; q++) {
+        const v = fi[q]!;
+        if ((v - lo) >>> 0 < width) ri[rp[v]!++] = u;
+      }
+    }
+    shiftBack(rp, lo, hi, a);
+  }
+}
+
+/** The plan's result (after all four steps). */
+export function pairOf(plan: PairPlan): PairBuild {
+  const { n } = plan;
+  return { fwd: { n, indptr: plan.fwdIndptr, indices: plan.fwdIndices }, rev: { n, indptr: plan.revIndptr, indices: plan.revIndices } };
+}
+
+export const PAIR_STEPS = 4;
+
+/** The forward and reverse CSR of src[k] → dst[k] on this thread: the four steps of a PairPlan, one part each. */
+export const sequentialPair: PairBuilder = (n, src, dst) => {
+  const plan = pairPlan(n, src, dst);
+  for (let s = 0; s < PAIR_STEPS; s++) runPairStep(plan, s, 0);
+  return pairOf(plan);
+};
 
 let pairBuilder: PairBuilder = sequentialPair;
 

@@ -126,14 +126,15 @@ export function duplicateExamples(fwd: Csr, src: Int32Array, dst: Int32Array, li
   }
   const out: number[] = [];
   if (!any) return out;
-  // Positions already met, by CSR position (lower bound of the pair in its sorted row).
-  const seen = new Uint8Array(indices.length);
+  // Positions already met, by CSR position (lower bound of the pair in its sorted row): one bit each.
+  const seen = new Int32Array((indices.length >>> 5) + 1);
   for (let k = 0; k < src.length && out.length < limit; k++) {
     const u = src[k]!;
     if (!hasRepeat[u]) continue;
     const p = lowerBound(indices, indptr[u]!, indptr[u + 1]!, dst[k]!);
-    if (seen[p]) out.push(k);
-    else seen[p] = 1;
+    const bit = 1 << (p & 31);
+    if (seen[p >>> 5]! & bit) out.push(k);
+    else seen[p >>> 5]! |= bit;
   }
   return out;
 }
