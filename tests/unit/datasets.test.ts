@@ -357,3 +357,15 @@ describe('many relabelled copies of one regular graph', () => {
     expect(p).toMatchObject({ count: 1, graphs: G, graph: 0 });
   });
 });
+
+describe('a search cut short', () => {
+  it('says so in an info instead of staying silent', () => {
+    const p = expected.isomorphismPairs.find((q: { name: string }) => q.name.startsWith('Petersen / permuted'));
+    const ds = build([{ nodes: 10, edges: p.a }, { nodes: 10, edges: p.b }]);
+    ds.graphLabels = { file: 'y', tensor: 'y', rows: 2, columns: 1, data: Int32Array.from([0, 1]) };
+    const ps = checkDataset(ds, { isoStepsPerPair: 1 }).map((q) => q.problem);
+    expect(ps).toHaveLength(1);
+    expect(ps[0]).toMatchObject({ code: 'isomorphic-label-conflict', severity: 'info', count: 1 });
+    expect(ps[0]!.message).toMatch(/search is incomplete: 1 graph could not be compared/);
+  });
+});

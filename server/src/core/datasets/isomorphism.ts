@@ -493,5 +493,13 @@ export function isomorphismProblems(ds: Dataset, labels: DatasetColumn | undefin
       } });
     }
   }
+  // Graphs left undecided and nothing else to say: an info, so a silent check is never mistaken for a complete one.
+  if (undecidedCount && !out.length) {
+    const code = labels ? 'isomorphic-label-conflict' : 'isomorphic-across-splits';
+    out.push({ file: ds.structureFile, problem: {
+      code, severity: 'info', count: undecidedCount, graph: undecided[0]![1], graphs: undecidedCount, ...(tensor ? { tensor } : {}),
+      message: `No isomorphic graphs ${labels ? 'with different labels' : 'across the splits'} were found, but the search is incomplete:${undecidedNote}`,
+    } });
+  }
   return out;
 }
