@@ -79,6 +79,27 @@ export function graphOptions(values: { 'num-nodes'?: string; 'index-base'?: stri
   return out;
 }
 
+/**
+ * The analysis commands (field, wl, bottlenecks, spectrum, compare): the graph options plus
+ * `--check`. Without it a graph is read through the bounds pass only (CheckSetOptions.lean) and
+ * each analysis builds just the structures it uses; with it every check of `hopscope check` runs
+ * first, as before. The analysis results are the same either way.
+ */
+export const ANALYSIS_OPTIONS = {
+  ...GRAPH_OPTIONS,
+  check: { type: 'boolean' },
+} as const satisfies OptionSpecs;
+
+/** Usage line of `--check` (the same in every analysis command). */
+export const CHECK_USAGE = `  --check               run every check of hopscope check on the graph first (duplicates, symmetry,
+                        components, ...; the error note then counts them all). Without it only ids
+                        out of range and mismatched lengths are looked for: the results are the same`;
+
+/** The graph declarations plus the reading `--check` asks for. */
+export function analysisOptions(values: { 'num-nodes'?: string; 'index-base'?: string; check?: boolean }): CheckSetOptions {
+  return { ...graphOptions(values), ...(values.check ? {} : { lean: true }) };
+}
+
 /** `v` when it is one of `allowed`, else a UsageError listing them ("must be a, b or c"). */
 export function oneOf<T extends string>(flag: string, v: string, allowed: readonly T[]): T {
   if ((allowed as readonly string[]).includes(v)) return v as T;

@@ -4,7 +4,7 @@
  */
 import type { CliIo, Command } from './types';
 import { UsageError } from './types';
-import { GRAPH_OPTIONS, graphOptions, guarded, optionalWhole, parseCommandLine } from './args';
+import { ANALYSIS_OPTIONS, CHECK_USAGE, analysisOptions, guarded, optionalWhole, parseCommandLine } from './args';
 import { plural, styler } from './style';
 import { loadUndirected } from './undirected-input';
 import { findBridges } from '../core/graph/structure/bridges';
@@ -29,6 +29,7 @@ Options:
   --top T               list the T most negatively curved edges (default ${DEFAULT_TOP})
   --num-nodes N         declare the node count
   --index-base 0|1      declare that node ids start at 0 or at 1 (ids are reported as in the file)
+${CHECK_USAGE}
   --json                print JSON (see below)
   -h, --help            show this help
 
@@ -44,7 +45,7 @@ minimum stay exact while "balancedFormanMax"/"balancedFormanMean" are null;
 Exit codes: 0 = done; 2 = usage error or the file could not be read.`;
 
 const OPTIONS = {
-  ...GRAPH_OPTIONS,
+  ...ANALYSIS_OPTIONS,
   top: { type: 'string' },
   json: { type: 'boolean' },
 } as const;
@@ -55,7 +56,7 @@ function run(argv: string[], io: CliIo): number {
     if (files.length !== 1) throw new UsageError(files.length ? `one FILE at a time, got ${files.length}` : 'no FILE given');
     const top = optionalWhole('--top', v.top) ?? DEFAULT_TOP;
     const file = files[0]!;
-    const { g, base } = loadUndirected(file, graphOptions(v), 'bottlenecks', io);
+    const { g, base } = loadUndirected(file, analysisOptions(v), 'bottlenecks', io);
     const br = findBridges(g);
     const { curvature: curv, order, computed } = lowestBalancedForman(g, top);
     const complete = computed === curv.m;

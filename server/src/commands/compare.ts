@@ -5,7 +5,7 @@
  */
 import type { CliIo, Command } from './types';
 import { UsageError } from './types';
-import { GRAPH_OPTIONS, graphOptions, guarded, optionalWhole, parseCommandLine } from './args';
+import { ANALYSIS_OPTIONS, CHECK_USAGE, analysisOptions, guarded, optionalWhole, parseCommandLine } from './args';
 import { plural, styler } from './style';
 import { loadUndirected } from './undirected-input';
 import { compareGraphs } from '../core/graph/refinement/wl';
@@ -31,6 +31,7 @@ Options:
   --budget B            most search steps of the isomorphism test (default ${DEFAULT_BUDGET})
   --num-nodes N         declare the node count (both files)
   --index-base 0|1      declare that node ids start at 0 or at 1 (both files)
+${CHECK_USAGE}
   --json                print JSON: { wlDistinguishable, roundsUsed, isomorphic }
   -h, --help            show this help
 
@@ -42,7 +43,7 @@ never isomorphic, so isomorphic is then false at any size.
 Exit codes: 0 = done; 2 = usage error or a file could not be read.`;
 
 const OPTIONS = {
-  ...GRAPH_OPTIONS,
+  ...ANALYSIS_OPTIONS,
   rounds: { type: 'string' },
   'max-nodes': { type: 'string' },
   budget: { type: 'string' },
@@ -56,7 +57,7 @@ function run(argv: string[], io: CliIo): number {
     const maxRounds = optionalWhole('--rounds', v.rounds);
     const maxNodes = optionalWhole('--max-nodes', v['max-nodes']) ?? DEFAULT_MAX_NODES;
     const budget = optionalWhole('--budget', v.budget) ?? DEFAULT_BUDGET;
-    const options = graphOptions(v);
+    const options = analysisOptions(v);
     const [fa, fb] = files as [string, string];
     const a = loadUndirected(fa, options, 'compare', io).g;
     const b = loadUndirected(fb, options, 'compare', io).g;

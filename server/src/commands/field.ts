@@ -8,13 +8,13 @@
  */
 import type { CliIo, Command } from './types';
 import { UsageError } from './types';
-import { GRAPH_OPTIONS, graphOptions, guarded, oneOf, optionalWhole, parseCommandLine, wholeNumber } from './args';
+import { ANALYSIS_OPTIONS, analysisOptions, guarded, oneOf, optionalWhole, parseCommandLine, wholeNumber } from './args';
 import { styler } from './style';
 import { loadGraph } from '../node/graph-input';
 import type { CheckSetOptions } from '../core/checks/check-set';
 import { FieldWalker, coverageCurve, type SendingRow } from '../core/graph/propagation/field';
 import { sendingRowOfLegacyFlow } from '../core/checks/manifest';
-import { influenceRow } from '../core/graph/propagation/influence';
+import { InfluencePropagator } from '../core/graph/propagation/influence';
 import { PairFieldWalker, type PairField } from '../core/graph/propagation/pair-field';
 import type { LoadedGraph } from '../node/graph-input';
 import { perHopByType, typedNodeId, typeOfId } from '../core/typed/field';
@@ -34,7 +34,8 @@ merged; Kipf & Welling 2017).
 Options:
   --node V                    node id as written in the file (ids of a 1-based file stay 1-based);
                               in a typed graph --node TYPE:ID (e.g. paper:3) counts the field per
-                              hop and per node type
+                              hop and per node type. A list (--node 0,17,42 or paper:3,author:0)
+                              answers every node from one reading of the graph
   --pair U,V                  instead of --node (TYPE:ID,TYPE:ID in a typed graph): what the
                               model sees of the pair U, V (link prediction): each end's field,
                               their union and overlap per hop,
@@ -51,7 +52,12 @@ Options:
                               L = 1..8 over a fixed sample of up to 256 nodes
   --num-nodes N               declare the node count
   --index-base 0|1            declare that node ids start at 0 or at 1
-  --json                      print JSON: { node, layers, perHop, total, coverage, influence };
+  --check                     run every check of hopscope check on the graph first (duplicates,
+                              symmetry, components, ...; the error note then counts them all).
+                              Without it only ids out of range and mismatched lengths are looked
+                              for: the results are the same
+  --json                      print JSON: { node, layers, perHop, total, coverage, influence }
+                              (with several nodes: { "fields": [ one such object per node ] });
                               with --pair: { pair, layers, sendingRow, symmetrised, perHop, total,
                               coverage, pairEdge, distanceWithoutPairEdge } (see the README)
   -h, --help                  show this help
@@ -61,12 +67,18 @@ the hop counts follow --sending-row.
 
 Exit codes: 0 = done; 2 = usage error, node out of range, or the file could not be read.`;
 
+/** One entry of `--node`: an id as written in the file, or `TYPE:ID` (the id within its type). */
+interface NodeArg {
+  id: number;
+  nodeType?: string;
+}
+
 interface FieldArgs {
   file: string;
-  /** The --node id, or the first end of --pair. */
+  /** The first end of --pair (and the first --node). */
   node: number;
-  /** `--node TYPE:ID` in a typed graph: the type (node is then the id within it). */
-  nodeType?: string;
+  /** The --node entries, in the order given (empty with --pair). */
+  nodes: NodeArg[];
   /** `--pair TYPE:ID,TYPE:ID` in a typed graph: both ends' types (node and other are then ids within them). */
   pairTypes?: [string, string];
   /** Typed pair ends as written (`paper:3`), for the output; set once mapped into the types-forgotten graph. */
@@ -84,7 +96,7 @@ interface FieldArgs {
 }
 
 const OPTIONS = {
-  ...GRAPH_OPTIONS,
+  ...ANALYSIS_OPTIONS,
   node: { type: 'string' },
   pair: { type: 'string' },
   layers: { type: 'string' },
@@ -106,7 +118,7 @@ function parseFieldArgs(argv: string[]): FieldArgs {
   if (v.node !== undefined && v.pair !== undefined) throw new UsageError('give either --node or --pair, not both');
   if (v.node === undefined && v.pair === undefined) throw new UsageError('--node is required (or --pair U,V for a node pair)');
   let node: number, other: number | undefined;
-  let nodeType: string | undefined;
+  let nodes: NodeArg[] = [];
   let pairTypes: [string, string] | undefined;
   if (v.pair !== undefined) {
     const typedEnds = /^\s*([^,\s:]+):(\d+)\s*,\s*([^,\s:]+):(\d+)\s*$/.exec(v.pair);
@@ -121,25 +133,36 @@ function parseFieldArgs(argv: string[]): FieldArgs {
       if (given !== undefined) throw new UsageError(`${flag} applies to --node only, not to --pair`);
     }
   } else {
-    const typed = /^(.+):([^:]*)$/.exec(v.node!);
-    if (typed) {
-      if (/^-\d/.test(typed[2]!)) throw new UsageError(`--node TYPE:ID takes an id of 0 or more, got "${v.node}"`);
-      nodeType = typed[1]!;
-      node = wholeNumber('--node', typed[2]!);
-    } else {
-      if (/^-\d/.test(v.node!)) throw new UsageError(`--node must be a node id (0 or more), got "${v.node}"`);
-      node = wholeNumber('--node', v.node!);
-    }
+    nodes = nodeList(v.node!);
+    node = nodes[0]!.id;
   }
   const layers = optionalWhole('--layers', v.layers, 0, MAX_LAYERS);
   if (layers === undefined) throw new UsageError('--layers is required');
   const top = optionalWhole('--top', v.top);
   const sendingRow = sendingRowOption(v['sending-row'], v.flow);
   return {
-    file: files[0]!, node, layers, options: graphOptions(v), ...(other !== undefined ? { other } : {}), ...(nodeType !== undefined ? { nodeType } : {}), ...(pairTypes ? { pairTypes } : {}),
+    file: files[0]!, node, nodes, layers, options: analysisOptions(v), ...(other !== undefined ? { other } : {}), ...(pairTypes ? { pairTypes } : {}),
     symmetrise: v.symmetrise === true || v.symmetrize === true, randomWalk: v['random-walk'] === true, curve: v.curve === true, json: v.json === true,
     ...(sendingRow !== undefined ? { sendingRow } : {}), ...(top !== undefined ? { top } : {}),
   };
+}
+
+/** `--node V` or `--node V,W,…`: ids as written in the file, or TYPE:ID entries (a type name may not hold a comma). */
+function nodeList(value: string): NodeArg[] {
+  const parts = value.split(',');
+  const items = parts.length > 1 ? parts.map((x) => x.trim()) : parts;
+  if (items.length > 1 && items.some((x) => x === '')) {
+    throw new UsageError(`--node takes node ids joined by commas, like --node 0,17,42; got "${value}"`);
+  }
+  return items.map((item) => {
+    const typed = /^(.+):([^:]*)$/.exec(item);
+    if (typed) {
+      if (/^-\d/.test(typed[2]!)) throw new UsageError(`--node TYPE:ID takes an id of 0 or more, got "${item}"`);
+      return { id: wholeNumber('--node', typed[2]!), nodeType: typed[1]! };
+    }
+    if (/^-\d/.test(item)) throw new UsageError(`--node must be a node id (0 or more), got "${item}"`);
+    return { id: wholeNumber('--node', item) };
+  });
 }
 
 /** `--pair U,V`: two different node ids as written in the file. */
@@ -170,13 +193,6 @@ function run(argv: string[], io: CliIo): number {
 function fieldReport(argv: string[], io: CliIo): number {
   const args = parseFieldArgs(argv);
   const g = loadGraph(args.file, args.options);
-  if (args.nodeType !== undefined) {
-    // `--node TYPE:ID`: the id within its type, mapped into the types-forgotten graph.
-    if (!g.types) { io.err(`hopscope field: --node ${args.nodeType}:${args.node} names a node type, but ${args.file} is not a typed graph (give a plain id)\n`); return 2; }
-    const u = typedNodeId(g.types, args.nodeType, args.node);
-    if (typeof u !== 'number') { io.err(`hopscope field: --node ${u.error}\n`); return 2; }
-    return typedFieldReport(args, g, u, io);
-  }
   if (args.pairTypes !== undefined) {
     // `--pair TYPE:ID,TYPE:ID`: both ends mapped into the types-forgotten graph (its ids are 0-based).
     const names = [`${args.pairTypes[0]}:${args.node}`, `${args.pairTypes[1]}:${args.other}`] as [string, string];
@@ -187,42 +203,113 @@ function fieldReport(argv: string[], io: CliIo): number {
     return pairReport({ ...args, node: ends[0] as number, other: ends[1] as number, pairNames: names }, g, sendingRow, io);
   }
   const base = g.figures.indexBase;
-  const v = args.node - base;
-  if (g.n === 0) { io.err(`hopscope field: ${args.file} has no nodes\n`); return 2; }
-  for (const id of args.other === undefined ? [args.node] : [args.node, args.other]) {
-    if (id - base < 0 || id - base >= g.n) {
-      const flag = args.other === undefined ? '--node' : '--pair: node';
-      io.err(`hopscope field: ${flag} ${id} is out of range: ${args.file} has ${g.n} node${g.n === 1 ? '' : 's'} (ids ${base}..${g.n - 1 + base})\n`);
-      return 2;
-    }
-  }
-  const errors = g.problems.filter((p) => p.severity === 'error').length;
-  if (errors) {
-    io.err(`hopscope field: note: ${args.file} has ${errors} error${errors === 1 ? '' : 's'} (see hopscope check); the analysis uses the edges that are in range\n`);
+  if (args.other !== undefined) {
+    if (g.n === 0) { io.err(`hopscope field: ${args.file} has no nodes\n`); return 2; }
+    for (const id of [args.node, args.other]) if (!inRange(id, g, args.file, '--pair: node', io)) return 2;
+    errorNote(g, args.file, io);
+    return pairReport(args, g, args.sendingRow ?? g.options.sendingRow ?? 0, io);
   }
 
+  // `--node`: each entry checked and mapped to a node of the (types-forgotten) graph before any is answered.
+  const centres: number[] = [];
+  for (const item of args.nodes) {
+    if (item.nodeType !== undefined) {
+      // `--node TYPE:ID`: the id within its type, mapped into the types-forgotten graph.
+      if (!g.types) { io.err(`hopscope field: --node ${item.nodeType}:${item.id} names a node type, but ${args.file} is not a typed graph (give a plain id)\n`); return 2; }
+      const u = typedNodeId(g.types, item.nodeType, item.id);
+      if (typeof u !== 'number') { io.err(`hopscope field: --node ${u.error}\n`); return 2; }
+      centres.push(u);
+    } else {
+      if (g.n === 0) { io.err(`hopscope field: ${args.file} has no nodes\n`); return 2; }
+      if (!inRange(item.id, g, args.file, '--node', io)) return 2;
+      centres.push(item.id - base);
+    }
+  }
+  errorNote(g, args.file, io);
+
   const sendingRow: SendingRow = args.sendingRow ?? g.options.sendingRow ?? 0;
-  if (args.other !== undefined) return pairReport(args, g, sendingRow, io);
-  const field = new FieldWalker(g).field(v, args.layers, { sendingRow, symmetrise: args.symmetrise });
-  const top = args.top ?? (args.json ? DEFAULT_TOP : DEFAULT_TOP_TABLE);
-  const infl = influenceRow(g, v, args.layers, { top, norm: args.randomWalk ? 'random-walk' : 'gcn' });
+  const shared: FieldRun = {
+    args, g, sendingRow, walker: new FieldWalker(g),
+    // Built once for every node of the list (the symmetrised graph of the GCN propagation).
+    propagator: lazily(() => InfluencePropagator.fromGraph(g)),
+    top: args.top ?? (args.json ? DEFAULT_TOP : DEFAULT_TOP_TABLE),
+    curve: lazily(() => coverageCurve(g, { sendingRow, symmetrise: args.symmetrise })),
+    c: styler(io),
+  };
+  const answers = args.nodes.map((item, i) => item.nodeType !== undefined
+    ? typedField(shared, item.nodeType, item.id, centres[i]!)
+    : plainField(shared, item.id, centres[i]!));
+  if (args.json) {
+    const out = answers.length === 1 ? answers[0]!.json : { fields: answers.map((a) => a.json) };
+    io.out(JSON.stringify(out, null, 2) + '\n');
+  } else {
+    io.out(answers.map((a) => a.lines.join('\n') + '\n').join('\n'));
+  }
+  return 0;
+}
+
+/** What every node of one `--node` list shares: the graph, the walker, the propagator, the curve. */
+interface FieldRun {
+  args: FieldArgs;
+  g: LoadedGraph;
+  sendingRow: SendingRow;
+  walker: FieldWalker;
+  propagator: () => InfluencePropagator;
+  top: number;
+  curve: () => ReturnType<typeof coverageCurve>;
+  c: ReturnType<typeof styler>;
+}
+
+/** One node's answer: its JSON object and its lines of the table view. */
+interface FieldAnswer {
+  json: Record<string, unknown>;
+  lines: string[];
+}
+
+function lazily<T>(make: () => T): () => T {
+  let value: T | undefined;
+  let made = false;
+  return () => {
+    if (!made) { value = make(); made = true; }
+    return value as T;
+  };
+}
+
+function inRange(id: number, g: LoadedGraph, file: string, flag: string, io: CliIo): boolean {
+  const base = g.figures.indexBase;
+  if (id - base >= 0 && id - base < g.n) return true;
+  io.err(`hopscope field: ${flag} ${id} is out of range: ${file} has ${g.n} node${g.n === 1 ? '' : 's'} (ids ${base}..${g.n - 1 + base})\n`);
+  return false;
+}
+
+function errorNote(g: LoadedGraph, file: string, io: CliIo): void {
+  const errors = g.problems.filter((p) => p.severity === 'error').length;
+  if (errors) {
+    io.err(`hopscope field: note: ${file} has ${errors} error${errors === 1 ? '' : 's'} (see hopscope check); the analysis uses the edges that are in range\n`);
+  }
+}
+
+/** `--node V`: node `node` as written in the file, `v` its 0-based id. */
+function plainField(run: FieldRun, node: number, v: number): FieldAnswer {
+  const { args, g, sendingRow, c } = run;
+  const base = g.figures.indexBase;
+  const field = run.walker.field(v, args.layers, { sendingRow, symmetrise: args.symmetrise });
+  const infl = run.propagator().row(v, args.layers, { top: run.top, norm: args.randomWalk ? 'random-walk' : 'gcn' });
   const influence = Array.from(infl.topNodes, (u, i) => ({ node: u + base, weight: infl.topWeights[i]! }));
-  const curve = args.curve ? coverageCurve(g, { sendingRow, symmetrise: args.symmetrise }) : undefined;
+  const curve = args.curve ? run.curve() : undefined;
 
   if (args.json) {
     const out: Record<string, unknown> = {
-      node: args.node, layers: args.layers, perHop: field.perHop, total: field.total, coverage: field.coverage, influence,
+      node, layers: args.layers, perHop: field.perHop, total: field.total, coverage: field.coverage, influence,
     };
     if (curve) out.coverageCurve = { layers: curve.layers, median: curve.median, p90: curve.p90, sampled: curve.sample.length };
-    io.out(JSON.stringify(out, null, 2) + '\n');
-    return 0;
+    return { json: out, lines: [] };
   }
 
-  const c = styler(io);
   const pct = (x: number) => `${(100 * x).toFixed(1)}%`;
   const lines: string[] = [];
   const how = args.symmetrise ? 'both ways along every edge' : `from row ${sendingRow} to row ${1 - sendingRow}`;
-  lines.push(c('bold', `Node ${args.node}, ${args.layers} layer${args.layers === 1 ? '' : 's'}`) +
+  lines.push(c('bold', `Node ${node}, ${args.layers} layer${args.layers === 1 ? '' : 's'}`) +
     c('dim', `  (${args.file}: ${g.n} nodes, messages ${how})`));
   lines.push('');
   lines.push(c('dim', '  hop   new nodes   within reach   share of graph'));
@@ -235,17 +322,17 @@ function fieldReport(argv: string[], io: CliIo): number {
   });
   lines.push('');
   const full = field.total === g.n;
-  lines.push(`  ${field.total} of ${g.n} nodes (${pct(field.coverage)}) can pass a message to node ${args.node} within ${args.layers} layer${args.layers === 1 ? '' : 's'}` +
+  lines.push(`  ${field.total} of ${g.n} nodes (${pct(field.coverage)}) can pass a message to node ${node} within ${args.layers} layer${args.layers === 1 ? '' : 's'}` +
     (full ? c('yellow', ' — the whole graph') : '') + '.');
   if (field.perHop.length > 1 && field.perHop[field.perHop.length - 1] === 0 && !full) {
     lines.push(c('dim', `  The field stops growing before layer ${args.layers}: no further nodes can reach it.`));
   }
   lines.push('');
   const normName = args.randomWalk ? 'random-walk D̃^-1 (A + I)' : 'GCN D̃^-1/2 (A + I) D̃^-1/2';
-  lines.push(c('bold', `Strongest influence on node ${args.node}`) + c('dim', `  (row ${args.node} of Â^${args.layers}, ${normName}; ${influence.length} of ${infl.support} nodes)`));
+  lines.push(c('bold', `Strongest influence on node ${node}`) + c('dim', `  (row ${node} of Â^${args.layers}, ${normName}; ${influence.length} of ${infl.support} nodes)`));
   lines.push(c('dim', '      node   weight       share'));
-  for (const { node, weight } of influence) {
-    lines.push(`  ${String(node).padStart(8)}   ${weight.toFixed(6)}   ${pct(weight / infl.rowSum).padStart(6)}`);
+  for (const { node: u, weight } of influence) {
+    lines.push(`  ${String(u).padStart(8)}   ${weight.toFixed(6)}   ${pct(weight / infl.rowSum).padStart(6)}`);
   }
   if (curve) {
     lines.push('');
@@ -253,40 +340,32 @@ function fieldReport(argv: string[], io: CliIo): number {
     lines.push(c('dim', '  layers   median    90th pct'));
     curve.layers.forEach((L, i) => lines.push(`  ${String(L).padStart(6)}   ${pct(curve.median[i]!).padStart(6)}   ${pct(curve.p90[i]!).padStart(9)}`));
   }
-  io.out(lines.join('\n') + '\n');
-  return 0;
+  return { json: {}, lines };
 }
 
 /**
  * `--node TYPE:ID` in a typed graph: the field per hop and per type, and the strongest influences
  * named by type and id (the types-forgotten graph's GCN propagation).
  */
-function typedFieldReport(args: FieldArgs, g: LoadedGraph, v: number, io: CliIo): number {
+function typedField(run: FieldRun, nodeType: string, id: number, v: number): FieldAnswer {
+  const { args, g, sendingRow, c } = run;
   const space = g.types!;
-  const errors = g.problems.filter((p) => p.severity === 'error').length;
-  if (errors) {
-    io.err(`hopscope field: note: ${args.file} has ${errors} error${errors === 1 ? '' : 's'} (see hopscope check); the analysis uses the edges that are in range\n`);
-  }
-  const sendingRow: SendingRow = args.sendingRow ?? g.options.sendingRow ?? 0;
-  const field = new FieldWalker(g).field(v, args.layers, { sendingRow, symmetrise: args.symmetrise });
+  const field = run.walker.field(v, args.layers, { sendingRow, symmetrise: args.symmetrise });
   const byType = perHopByType(space, field.nodes, field.hops, args.layers);
-  const top = args.top ?? (args.json ? DEFAULT_TOP : DEFAULT_TOP_TABLE);
-  const infl = influenceRow(g, v, args.layers, { top, norm: args.randomWalk ? 'random-walk' : 'gcn' });
+  const infl = run.propagator().row(v, args.layers, { top: run.top, norm: args.randomWalk ? 'random-walk' : 'gcn' });
   const named = (u: number) => { const t = typeOfId(space.offsets, u); return { nodeType: space.names[t]!, id: u - space.offsets[t]! }; };
   const influence = Array.from(infl.topNodes, (u, i) => ({ ...named(u), weight: infl.topWeights[i]! }));
-  const centre = `${args.nodeType}:${args.node}`;
+  const centre = `${nodeType}:${id}`;
   if (args.json) {
     const perHopByTypeJson = Object.fromEntries(space.names.map((t, ti) => [t, byType.map((row) => row[ti]!)]));
     const totalByType = Object.fromEntries(space.names.map((t, ti) => [t, byType.reduce((a, row) => a + row[ti]!, 0)]));
     const out = {
-      node: centre, nodeType: args.nodeType, id: args.node, layers: args.layers, sendingRow, symmetrised: args.symmetrise,
+      node: centre, nodeType, id, layers: args.layers, sendingRow, symmetrised: args.symmetrise,
       perHop: field.perHop, perHopByType: perHopByTypeJson, total: field.total, totalByType, coverage: field.coverage,
       nodeTypes: Object.fromEntries(space.names.map((t, ti) => [t, space.counts[ti]!])), influence,
     };
-    io.out(JSON.stringify(out, null, 2) + '\n');
-    return 0;
+    return { json: out, lines: [] };
   }
-  const c = styler(io);
   const how = args.symmetrise ? 'both ways along every edge' : `from row ${sendingRow} to row ${1 - sendingRow} of each relation`;
   const w = Math.max(7, ...space.names.map((t) => t.length));
   const lines: string[] = [];
@@ -307,8 +386,7 @@ function typedFieldReport(args: FieldArgs, g: LoadedGraph, v: number, io: CliIo)
   lines.push('');
   lines.push(c('bold', `Strongest influence on node ${centre}`) + c('dim', `  (${influence.length} of ${infl.support} nodes, types forgotten)`));
   for (const x of influence) lines.push(`  ${`${x.nodeType}:${x.id}`.padStart(w + 8)}   ${x.weight.toFixed(6)}`);
-  io.out(lines.join('\n') + '\n');
-  return 0;
+  return { json: {}, lines };
 }
 
 export const fieldCommand: Command = {

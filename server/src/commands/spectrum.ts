@@ -5,7 +5,7 @@
 import * as fs from 'node:fs';
 import type { CliIo, Command } from './types';
 import { UsageError } from './types';
-import { GRAPH_OPTIONS, graphOptions, guarded, oneOf, parseCommandLine, wholeNumber } from './args';
+import { ANALYSIS_OPTIONS, CHECK_USAGE, analysisOptions, guarded, oneOf, parseCommandLine, wholeNumber } from './args';
 import { plural, styler } from './style';
 import { loadUndirected } from './undirected-input';
 import { laplacianSpectrum, positionalEncoding, type LaplacianKind } from '../core/graph/spectral/spectrum';
@@ -42,6 +42,7 @@ Options:
   --tol T               relative residual tolerance, 1e-12..1e-2 (default ${DEFAULT_TOL})
   --num-nodes N         declare the node count
   --index-base 0|1      declare that node ids start at 0 or at 1
+${CHECK_USAGE}
   --json                print JSON: { eigenvalues, laplacian, residuals, converged, ... }
   -h, --help            show this help
 
@@ -49,7 +50,7 @@ Exit codes: 0 = done; 2 = usage error, K out of range, --out exists, or the file
 read or written.`;
 
 const OPTIONS = {
-  ...GRAPH_OPTIONS,
+  ...ANALYSIS_OPTIONS,
   k: { type: 'string' },
   laplacian: { type: 'string' },
   out: { type: 'string' },
@@ -84,7 +85,7 @@ function run(argv: string[], io: CliIo): number {
     }
 
     const file = files[0]!;
-    const { g } = loadUndirected(file, graphOptions(v), 'spectrum', io);
+    const { g } = loadUndirected(file, analysisOptions(v), 'spectrum', io);
     if (k > g.n) throw new UsageError(`--k ${k} is more than the ${plural(g.n, 'node')} of ${file}`);
     const r = laplacianSpectrum(g, k, { laplacian: kind, tol });
 

@@ -4,7 +4,7 @@
  */
 import type { CliIo, Command } from './types';
 import { UsageError } from './types';
-import { GRAPH_OPTIONS, graphOptions, guarded, optionalWhole, parseCommandLine } from './args';
+import { ANALYSIS_OPTIONS, CHECK_USAGE, analysisOptions, guarded, optionalWhole, parseCommandLine } from './args';
 import { plural, styler } from './style';
 import { loadUndirected } from './undirected-input';
 import { colourGroups, refineWl, rowColours, sharedColourCount } from '../core/graph/refinement/wl';
@@ -32,6 +32,7 @@ Options:
   --groups G            list the G largest groups of nodes that keep one colour (default ${DEFAULT_GROUPS})
   --num-nodes N         declare the node count
   --index-base 0|1      declare that node ids start at 0 or at 1 (ids are reported as in the file)
+${CHECK_USAGE}
   --json                print JSON: { classesPerRound, stableAfter, groups, ... }
   -h, --help            show this help
 
@@ -43,7 +44,7 @@ nodes sharing their colour after the last round listed (at most ${MEMBERS_SHOWN_
 Exit codes: 0 = done; 2 = usage error or the file could not be read.`;
 
 const OPTIONS = {
-  ...GRAPH_OPTIONS,
+  ...ANALYSIS_OPTIONS,
   rounds: { type: 'string' },
   groups: { type: 'string' },
   features: { type: 'boolean' },
@@ -57,7 +58,7 @@ function run(argv: string[], io: CliIo): number {
     const maxRounds = optionalWhole('--rounds', v.rounds);
     const groupLimit = optionalWhole('--groups', v.groups) ?? DEFAULT_GROUPS;
     const file = files[0]!;
-    const { loaded, g, base } = loadUndirected(file, graphOptions(v), 'wl', io);
+    const { loaded, g, base } = loadUndirected(file, analysisOptions(v), 'wl', io);
 
     let initial: Int32Array | undefined;
     if (v.features) {

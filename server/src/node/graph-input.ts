@@ -1,7 +1,10 @@
 /**
  * Loads one graph for the analyses (receptive field, 1-WL, spectrum, …): reads the file (and its
  * siblings/manifest, like `hopscope check`), runs the checks, and returns the CSR graph built
- * from the in-range edges plus the per-node tensors.
+ * from the in-range edges plus the per-node tensors. With `options.lean` (the analysis commands
+ * without --check) only the bounds pass runs: `problems` then holds what it found (ids out of
+ * range, lengths that disagree), `figures` only nodes, edges and the index base (the rest NaN),
+ * and `fwd` / `rev` are each built when first read.
  */
 import * as path from 'node:path';
 import type { Csr } from '../core/graph/structure/csr';
@@ -18,7 +21,7 @@ export interface LoadedGraph {
   /** In-range edge entries, 0-based: src[k] → dst[k] (row 0 / first column = sender by default). */
   src: Int32Array;
   dst: Int32Array;
-  /** Rows sorted: fwd row u = targets of u; rev row v = sources of edges into v. */
+  /** Rows sorted: fwd row u = targets of u; rev row v = sources of edges into v (built on first read when lean). */
   fwd: Csr;
   rev: Csr;
   features?: DenseTensor;
@@ -73,7 +76,9 @@ export function loadGraph(file: string, options: CheckSetOptions = {}, load: Loa
   const features = isTypedCheck(g.check) ? undefined : dense('features');
   const labels = isTypedCheck(g.check) ? undefined : dense('labels');
   return {
-    file, n: s.figures.nodes, src: s.src, dst: s.dst, fwd: s.fwd, rev: s.rev,
+    file, n: s.figures.nodes, src: s.src, dst: s.dst,
+    // Read through: a lean reading (options.lean) builds each direction on first use.
+    get fwd() { return s.fwd; }, get rev() { return s.rev; },
     ...(features ? { features } : {}), ...(labels ? { labels } : {}),
     figures: g.check.figures, problems: report.problems, options: g.check.options,
     files: g.files.map((f) => path.resolve(f)),

@@ -50,6 +50,11 @@ export interface CheckSetOptions extends GraphOptions {
   defaults?: GraphOptions;
   /** The largest file read at all: bounds per-node memory too (CheckLimits). */
   maxFileBytes?: number;
+  /**
+   * The analysis commands' reading (CheckLimits.lean): plain graphs are checked only up to the bounds
+   * pass and tensors get no value statistics. Typed graphs and datasets are checked in full.
+   */
+  lean?: boolean;
 }
 
 
@@ -150,7 +155,7 @@ export function checkSet(files: LoadedFile[], manifests: LoadedManifest[], cli: 
   };
 
   const run = (name: string, parts: GraphPart[], options: GraphOptions, severity: SeverityOverrides,
-    checker: (o: GraphOptions, l: CheckLimits) => GraphCheck = (o, l) => checkGraph(parts, o, l)) => {
+    checker: (o: GraphOptions, l: CheckLimits) => GraphCheck = (o, l) => checkGraph(parts, o, cli.lean ? { ...l, lean: true } : l)) => {
     if (focus) {
       if (!parts.some((p) => focus(p.file))) return;
       for (const p of parts) inChecked.add(normalise(p.file));
@@ -300,7 +305,7 @@ export function checkSet(files: LoadedFile[], manifests: LoadedManifest[], cli: 
     const r = reports.get(normalise(f.path))!;
     for (const t of f.result?.tensors ?? []) {
       const g = roleOverride.get(t) ?? guess(t);
-      r.tensors.push({ name: t.name, dtype: t.dtype, shape: [...t.shape], role: g.role, ...tensorStats(t) });
+      r.tensors.push({ name: t.name, dtype: t.dtype, shape: [...t.shape], role: g.role, ...(cli.lean ? NO_STATS : tensorStats(t)) });
     }
     // Reader problems (e.g. a non-integer id on one line) honour overrides too.
     const sev = { ...defaultsFor(f.path).severity, ...(cli.severity ?? {}) };
@@ -313,6 +318,9 @@ export function checkSet(files: LoadedFile[], manifests: LoadedManifest[], cli: 
 
   return { files: reported.map((f) => reports.get(normalise(f.path))!), graphs, manifestProblems, ...(datasets.length ? { datasets } : {}) };
 }
+
+/** A lean reading's tensor table entries: no values looked at. */
+const NO_STATS = { min: null, max: null, sum: null, nonFinite: 0 };
 
 function applySeverity(p: Problem, overrides: SeverityOverrides): Problem | undefined {
   const o = overrides[p.code];

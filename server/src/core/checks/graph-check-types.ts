@@ -37,4 +37,10 @@ export interface FileProblem {
 export interface CheckLimits {
   /** The largest file that is read at all (hopscope.maxFileSizeMB, or the CLI's limit). */
   maxFileBytes?: number;
+  /**
+   * For the analysis commands: stop after the bounds pass (edges read, node count, index base, ids
+   * in range, the per-node tensors' lengths). The structure's CSR directions are built on first
+   * use; no pair rules, figures, components or duplicate examples (see checkGraph).
+   */
+  lean?: boolean;
 }

@@ -12,6 +12,7 @@
  */
 import type { Structure } from '../graph/structure/figures';
 import { analyseStructure } from '../graph/structure/figures';
+import { sortedCsr, type Csr } from '../graph/structure/csr';
 import type { CheckLimits, FileProblem, GraphOptions, GraphPart } from './graph-check-types';
 import { checkContext, reporterInto, type EdgeContext, type GraphContext } from './rules/context';
 import { partsWithValues } from './rules/summarised';
@@ -78,6 +79,10 @@ export function checkGraph(parts: GraphPart[], opts: GraphOptions = {}, limits: 
 
   const { base, count } = readIndexBase(ctx, edges, counted);
   const kept = keepInRange(ctx, edges, count, base);
+  if (limits.lean) {
+    const built = kept.nodeIds ? kept.nodeIds.length : count.n;
+    return leanCheck(edges.part, kept, built, kept.sparseIds ? built : count.n, base.indexBase, problems, parts, opts);
+  }
   const ec: EdgeContext = { ...ctx, edges, count, base, kept };
 
   const structure = analyseStructure(kept.nodeIds ? kept.nodeIds.length : count.n, kept.src, kept.dst);
@@ -112,4 +117,31 @@ export function checkGraph(parts: GraphPart[], opts: GraphOptions = {}, limits: 
     ...(edgeSplits ? { edgeSplits } : {}),
     ...(splitSides.length ? { splitSides } : {}),
   };
+}
+
+/**
+ * `limits.lean` (the analysis commands without --check): what the bounds pass knows, and the graph
+ * built only as far as an analysis asks. `structure.fwd` and `structure.rev` are each built (sorted
+ * rows, exactly as analyseStructure builds them) on first use. The figures no lean check computes
+ * (self-loops, duplicates, asymmetric pairs, isolated nodes, components, directed) are NaN.
+ */
+function leanCheck(part: GraphPart, kept: { src: Int32Array; dst: Int32Array; nodeIds: Float64Array | undefined },
+  built: number, nodes: number, indexBase: 0 | 1, problems: FileProblem[], parts: GraphPart[], opts: GraphOptions): GraphCheck {
+  const { src, dst } = kept;
+  let fwd: Csr | undefined, rev: Csr | undefined;
+  const unknown = Number.NaN;
+  const structure = {
+    src, dst, ...(kept.nodeIds ? { ids: kept.nodeIds } : {}),
+    get fwd(): Csr { return (fwd ??= timed('build', () => sortedCsr(built, src, dst))); },
+    get rev(): Csr { return (rev ??= timed('build', () => sortedCsr(built, dst, src))); },
+    figures: {
+      nodes: built, edges: src.length, directed: false, selfLoops: unknown, duplicateEdges: unknown, asymmetricPairs: unknown,
+      distinctNonLoopPairs: unknown, isolatedNodes: unknown, components: unknown,
+    },
+  };
+  const figures: GraphFigures = {
+    nodes, edges: src.length, directed: false, selfLoops: unknown, duplicateEdges: unknown, asymmetricPairs: unknown,
+    isolatedNodes: unknown, components: unknown, indexBase,
+  };
+  return { structureFile: part.file, structureTensor: part.tensor.name, figures, problems, structure, parts, options: opts };
 }
