@@ -369,3 +369,26 @@ describe('a search cut short', () => {
     expect(ps[0]!.message).toMatch(/search is incomplete: 1 graph could not be compared/);
   });
 });
+
+describe('node masks beside a dataset are not graph splits', () => {
+  it('a boolean mask with one entry per node, or node ids, is left alone; a split file naming missing graphs is bad-graph-offsets', async () => {
+    const tmp = fs.mkdtempSync(path.join(os.tmpdir(), 'hopscope-ds-masks-'));
+    try {
+      for (const n of ['edge_index.npy', 'x.npy', 'ptr.npy']) fs.copyFileSync(path.join(dir, 'ptr', n), path.join(tmp, n));
+      const nodes = 19; // the ptr fixture's nodes (expected.json perGraph sums)
+      expect(expected['ptr/edge_index.npy'].perGraph.reduce((s: number, p: PerGraph) => s + p.nodes, 0)).toBe(nodes);
+      fs.writeFileSync(path.join(tmp, 'train_idx.npy'), encodeNpyInt64([3], [0, 7, 18]));
+      let r = checkPaths([tmp]);
+      expect(r.files.flatMap((f) => f.problems)).toEqual([]);
+      expect(r.files.find((f) => f.dataset)!.dataset!.splits).toBeNull();
+      fs.rmSync(path.join(tmp, 'train_idx.npy'));
+      fs.mkdirSync(path.join(tmp, 'split/by_day'), { recursive: true });
+      fs.writeFileSync(path.join(tmp, 'split/by_day/test.npy'), encodeNpyInt64([2], [1, 9]));
+      r = checkPaths([tmp]);
+      const bad = r.files.flatMap((f) => f.problems).find((p) => p.code === 'bad-graph-offsets');
+      expect(bad?.message).toMatch(/names graphs outside the dataset's 5/);
+    } finally {
+      fs.rmSync(tmp, { recursive: true, force: true });
+    }
+  });
+});

@@ -13,6 +13,7 @@ import { readSlices, type FoundDataset } from './read-slices';
 import { readBatch, type BatchInput, type BatchPart } from './read-batch';
 import { readFolders } from './read-folders';
 import type { Dataset } from './model';
+import { isSplitFileName } from './text-files';
 
 export type { FoundDataset } from './read-slices';
 export type { DatasetInputFile, FiledProblem } from './read-common';
@@ -154,6 +155,10 @@ function attachSplits(found: FoundDataset, files: readonly DatasetInputFile[], t
       const s = splitNameOf(name) ?? splitNameOf(t.name);
       if (!s || splits[s]) continue;
       const idx = graphIndices(t, ds.graphs);
+      // A mask or index list that does not fit the graphs may be a node split (one entry per node,
+      // node ids): said only where the name promises graph splits (a split file or folder, "graph" in the name).
+      const promised = isSplitFileName(f.path) || baseOf(dirOf(dirOf(f.path))) === 'split' || /graph/i.test(t.name);
+      if (idx === 'bad' && !promised) continue;
       if (idx === 'bad') {
         found.problems.push({ file: f.path, problem: problem('bad-graph-offsets',
           `${t.name} names graphs outside the dataset's ${ds.graphs} (a split of a dataset lists graph indices 0..${ds.graphs - 1}, or one boolean per graph).`,
