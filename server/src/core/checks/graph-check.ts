@@ -12,7 +12,7 @@
  */
 import type { Structure } from '../graph/structure/figures';
 import { analyseStructure } from '../graph/structure/figures';
-import { sortedCsr, type Csr } from '../graph/structure/csr';
+import { sortedCsr, transpose, type Csr } from '../graph/structure/csr';
 import type { CheckLimits, FileProblem, GraphOptions, GraphPart } from './graph-check-types';
 import { checkContext, reporterInto, type EdgeContext, type GraphContext } from './rules/context';
 import { partsWithValues } from './rules/summarised';
@@ -122,7 +122,8 @@ export function checkGraph(parts: GraphPart[], opts: GraphOptions = {}, limits: 
 /**
  * `limits.lean` (the analysis commands without --check): what the bounds pass knows, and the graph
  * built only as far as an analysis asks. `structure.fwd` and `structure.rev` are each built (sorted
- * rows, exactly as analyseStructure builds them) on first use. The figures no lean check computes
+ * rows, exactly as analyseStructure builds them) on first use, the second as the transpose of the
+ * first (transposing a sorted CSR row by row gives sorted rows, repeats kept: the same arrays). The figures no lean check computes
  * (self-loops, duplicates, asymmetric pairs, isolated nodes, components, directed) are NaN.
  */
 function leanCheck(part: GraphPart, kept: { src: Int32Array; dst: Int32Array; nodeIds: Float64Array | undefined },
@@ -132,8 +133,9 @@ function leanCheck(part: GraphPart, kept: { src: Int32Array; dst: Int32Array; no
   const unknown = Number.NaN;
   const structure = {
     src, dst, ...(kept.nodeIds ? { ids: kept.nodeIds } : {}),
-    get fwd(): Csr { return (fwd ??= timed('build', () => sortedCsr(built, src, dst))); },
-    get rev(): Csr { return (rev ??= timed('build', () => sortedCsr(built, dst, src))); },
+    // The second direction is the transpose of the first: one counting pass, rows come out sorted.
+    get fwd(): Csr { return (fwd ??= timed('build', () => (rev ? transpose(rev) : sortedCsr(built, src, dst)))); },
+    get rev(): Csr { return (rev ??= timed('build', () => (fwd ? transpose(fwd) : sortedCsr(built, dst, src)))); },
     figures: {
       nodes: built, edges: src.length, directed: false, selfLoops: unknown, duplicateEdges: unknown, asymmetricPairs: unknown,
       distinctNonLoopPairs: unknown, isolatedNodes: unknown, components: unknown,

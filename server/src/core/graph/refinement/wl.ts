@@ -118,14 +118,19 @@ class ClassTable {
     let ids2 = new Int32Array(k), hs2 = new Int32Array(k), ps2 = new Int32Array(k);
     for (let p = 0; p < k; p++) { const r = rep[p]!; ids[p] = p; hs[p] = hash[r]!; ps[p] = primary.keys[r]!; }
     const count = new Int32Array(Math.max(65536, primary.count) + 1);
+    // One key array per pass (low 16 bits of the hash, high 16 bits, the primary key), so the
+    // counting loops read plain typed arrays.
+    const keys = new Int32Array(k);
     for (let digit = 0; digit < 3; digit++) {
       const buckets = digit < 2 ? 65536 : primary.count;
-      const key = (i: number) => (digit === 0 ? hs[i]! & 0xffff : digit === 1 ? hs[i]! >>> 16 : ps[i]!);
+      if (digit === 0) for (let i = 0; i < k; i++) keys[i] = hs[i]! & 0xffff;
+      else if (digit === 1) for (let i = 0; i < k; i++) keys[i] = hs[i]! >>> 16;
+      else keys.set(ps);
       count.fill(0, 0, buckets + 1);
-      for (let i = 0; i < k; i++) count[key(i) + 1]!++;
+      for (let i = 0; i < k; i++) count[keys[i]! + 1]!++;
       for (let c = 0; c < buckets; c++) count[c + 1]! += count[c]!;
       for (let i = 0; i < k; i++) {
-        const q = count[key(i)]!++;
+        const q = count[keys[i]!]!++;
         ids2[q] = ids[i]!; hs2[q] = hs[i]!; ps2[q] = ps[i]!;
       }
       [ids, ids2] = [ids2, ids]; [hs, hs2] = [hs2, hs]; [ps, ps2] = [ps2, ps];
@@ -216,6 +221,7 @@ export class Refiner {
    */
   step(cur: Int32Array, k: number, next: Int32Array): number {
     const { n, indptr, indices } = this.g;
+    if (k === 1 && n > 0) return this.byDegree(next);
     const { nb, hash } = this;
     // Each node's neighbour colours, gathered row by row (sequential writes, one read of `cur`
     // per entry) and sorted in place.
@@ -254,6 +260,60 @@ export class Refiner {
       return 0;
     };
     return this.table.classify(n, hash, same, cmp, next, { keys: cur, count: k }, cancel);
+  }
+
+  /**
+   * `step` from one colour (every `cur` entry 0): a node's signature is then (0, its degree zeros),
+   * so the classes are the distinct degrees, ordered as `step` orders them (by the signature's hash,
+   * unsigned, then by degree). The hash is computed once per distinct degree: O(N + Σ d over the
+   * distinct degrees d) instead of a gather, sort and table over every entry. Same colours as `step`.
+   */
+  private byDegree(next: Int32Array): number {
+    const { n, indptr } = this.g;
+    let maxDeg = 0;
+    for (let v = 0; v < n; v++) { const d = indptr[v + 1]! - indptr[v]!; if (d > maxDeg) maxDeg = d; }
+    const colourOf = new Int32Array(maxDeg + 1).fill(-1);
+    for (let v = 0; v < n; v++) colourOf[indptr[v + 1]! - indptr[v]!] = 0;
+    const degrees: number[] = [];
+    const hashOf = new Int32Array(maxDeg + 1);
+    for (let d = 0; d <= maxDeg; d++) {
+      if (colourOf[d] !== 0) continue;
+      degrees.push(d);
+      let h = mixWord(0x1b873593 ^ 0, d);
+      for (let i = 0; i < d; i++) h = mixWord(h, 0);
+      hashOf[d] = finish(h);
+    }
+    degrees.sort((a, b) => {
+      const ha = hashOf[a]! >>> 0, hb = hashOf[b]! >>> 0;
+      return ha !== hb ? (ha < hb ? -1 : 1) : a - b;
+    });
+    degrees.forEach((d, rank) => { colourOf[d] = rank; });
+    for (let v = 0; v < n; v++) next[v] = colourOf[indptr[v + 1]! - indptr[v]!]!;
+    return degrees.length;
+  }
+
+  /**
+   * Whether a round from `cur` would split a class (`step` would return more than k classes),
+   * without computing the new colours: each node's sorted neighbour colours are compared with
+   * those of the first node of its colour, stopping at the first difference.
+   */
+  splits(cur: Int32Array, k: number): boolean {
+    const { n, indptr, indices } = this.g;
+    const nb = this.nb;
+    const first = new Int32Array(k).fill(-1);
+    for (let v = 0; v < n; v++) {
+      if ((v & 0x3fff) === 0) throwIfCancelled(this.cancel);
+      const lo = indptr[v]!, hi = indptr[v + 1]!;
+      for (let p = lo; p < hi; p++) nb[p] = cur[indices[p]!]!;
+      sortRange(nb, lo, hi);
+      const c = cur[v]!;
+      const r = first[c]!;
+      if (r < 0) { first[c] = v; continue; }
+      let pr = indptr[r]!;
+      if (indptr[r + 1]! - pr !== hi - lo) return true;
+      for (let p = lo; p < hi; p++, pr++) if (nb[p] !== nb[pr]) return true;
+    }
+    return false;
   }
 }
 
@@ -313,9 +373,10 @@ export function refineWl(g: UndirectedGraph, options: WlOptions = {}): WlResult 
   let round = 0;
   for (;;) {
     throwIfCancelled(options.cancel);
+    // The last round allowed only decides whether the refinement is stable: no colours needed.
+    if (round === maxRounds) return { classesPerRound, stableAfter: ref.splits(cur, k) ? null : round, colours: cur };
     const k2 = ref.step(cur, k, next);
     if (k2 === k) return { classesPerRound, stableAfter: round, colours: cur };
-    if (round === maxRounds) return { classesPerRound, stableAfter: null, colours: cur };
     [cur, next] = [next, cur];
     k = k2;
     round++;

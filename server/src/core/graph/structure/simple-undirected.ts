@@ -5,7 +5,7 @@
  */
 import type { Csr } from './csr';
 import { throwIfCancelled, type Cancel } from '../../cancel';
-import { undirectedView } from './undirected';
+import { mergeRows } from './undirected';
 
 export { AnalysisCancelled, throwIfCancelled, type Cancel } from '../../cancel';
 
@@ -17,6 +17,6 @@ export { AnalysisCancelled, throwIfCancelled, type Cancel } from '../../cancel';
 export function simpleUndirected(fwd: Csr, rev: Csr, cancel?: Cancel): Csr {
   throwIfCancelled(cancel);
   // The same merge as the structure analyses' view, without the edge multiplicities.
-  const { n, indptr, indices } = undirectedView(fwd, rev, cancel);
+  const { n, indptr, indices } = mergeRows(fwd, rev, cancel, false);
   return { n, indptr, indices };
 }
