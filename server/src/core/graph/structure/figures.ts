@@ -110,34 +110,46 @@ export function countComponentsCsr(g: Csr): number {
 
 /**
  * Edge ids (positions in src/dst) of the first `limit` entries that repeat an earlier (u, v),
- * in file order. Needs the sorted forward graph. Only entries whose source row holds a repeated
- * target are looked up (one pass over the rows marks those sources), so the file-order scan is a
- * sequential read for most entries. O(N + E + R log d) for R looked-up entries.
+ * in file order. Needs the sorted forward graph. Each entry is looked up in its sorted row (its
+ * lower bound p) and a bit per CSR position records the pairs met; an entry whose pair occurs
+ * once is skipped. Repeats usually show up early, so the first PROBE_ENTRIES entries are looked
+ * up directly; past them only entries whose source row holds a repeated target are looked up (one
+ * pass over the rows marks those sources), so the rest of the file-order scan is a sequential read
+ * for most entries. O(N + E + R log d) for R looked-up entries.
  */
 export function duplicateExamples(fwd: Csr, src: Int32Array, dst: Int32Array, limit: number): number[] {
   const { n, indptr, indices } = fwd;
-  const hasRepeat = new Uint8Array(n);
-  let any = false;
-  for (let u = 0; u < n; u++) {
-    const end = indptr[u + 1]!;
-    for (let p = indptr[u]! + 1; p < end; p++) {
-      if (indices[p] === indices[p - 1]) { hasRepeat[u] = 1; any = true; break; }
-    }
-  }
   const out: number[] = [];
-  if (!any) return out;
-  // Positions already met, by CSR position (lower bound of the pair in its sorted row): one bit each.
+  const e = src.length;
   const seen = new Int32Array((indices.length >>> 5) + 1);
-  for (let k = 0; k < src.length && out.length < limit; k++) {
+  let hasRepeat: Uint8Array | null = null;
+  for (let k = 0; k < e && out.length < limit; k++) {
     const u = src[k]!;
-    if (!hasRepeat[u]) continue;
-    const p = lowerBound(indices, indptr[u]!, indptr[u + 1]!, dst[k]!);
+    if (k === PROBE_ENTRIES) {
+      hasRepeat = new Uint8Array(n);
+      let any = false;
+      for (let r = 0; r < n; r++) {
+        const end = indptr[r + 1]!;
+        for (let q = indptr[r]! + 1; q < end; q++) {
+          if (indices[q] === indices[q - 1]) { hasRepeat[r] = 1; any = true; break; }
+        }
+      }
+      if (!any) break;
+    }
+    if (hasRepeat && !hasRepeat[u]) continue;
+    const v = dst[k]!;
+    const end = indptr[u + 1]!;
+    const p = lowerBound(indices, indptr[u]!, end, v);
+    if (p + 1 >= end || indices[p + 1] !== v) continue;
     const bit = 1 << (p & 31);
     if (seen[p >>> 5]! & bit) out.push(k);
     else seen[p >>> 5]! |= bit;
   }
   return out;
 }
+
+/** Entries duplicateExamples looks up one by one before it marks the rows that hold repeats. */
+const PROBE_ENTRIES = 1 << 16;
 
 /** Edge ids of the first `limit` entries u → v (u ≠ v) whose reverse is absent, in file order. */
 export function asymmetricExamples(fwd: Csr, src: Int32Array, dst: Int32Array, limit: number): number[] {
