@@ -10,7 +10,7 @@
 //
 // Figures, never a test: exit status 1 only when the server failed or never answered.
 //
-//   node bench/editor.mjs [--saves 5] [--small-edges 1m] [--large-edges 10m] [--keep]
+//   node bench/editor.mjs [--saves 5] [--small-edges 1m] [--large-edges 10m] [--server dist/server.js] [--keep]
 import { spawn } from 'node:child_process';
 import * as fs from 'node:fs';
 import { createRequire } from 'node:module';
@@ -29,7 +29,7 @@ const SAVES = Number(argOf('--saves', 5));
 const SMALL_E = size(argOf('--small-edges', '1m'));
 const LARGE_E = size(argOf('--large-edges', '10m'));
 const KEEP = process.argv.includes('--keep');
-const SERVER = path.join(ROOT, 'dist', 'server.js');
+const SERVER = path.resolve(argOf('--server', path.join(ROOT, 'dist', 'server.js')));
 if (!fs.existsSync(SERVER)) { console.error('dist/server.js missing: run npm run build'); process.exit(1); }
 
 const label = (e) => (e % 1e6 === 0 ? `${e / 1e6}m` : e % 1e3 === 0 ? `${e / 1e3}k` : String(e));
