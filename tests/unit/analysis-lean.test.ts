@@ -149,7 +149,7 @@ describe('lean reading vs checked reading of one graph', () => {
       expect(lean.figures.edges).toBe(full.figures.edges);
       expect(Array.from(lean.src)).toEqual(Array.from(full.src));
       expect(Array.from(lean.dst)).toEqual(Array.from(full.dst));
-      // rev first here: the forward direction is then built as its transpose
+      // rev read first: the lean reading builds both directions at its first read
       expect(Array.from(lean.rev.indptr)).toEqual(Array.from(full.rev.indptr));
       expect(Array.from(lean.rev.indices)).toEqual(Array.from(full.rev.indices));
       expect(Array.from(lean.fwd.indptr)).toEqual(Array.from(full.fwd.indptr));

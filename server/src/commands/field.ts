@@ -18,6 +18,7 @@ import { InfluencePropagator } from '../core/graph/propagation/influence';
 import { PairFieldWalker, type PairField } from '../core/graph/propagation/pair-field';
 import type { LoadedGraph } from '../node/graph-input';
 import { perHopByType, typedNodeId, typeOfId } from '../core/typed/field';
+import { printTimings } from './undirected-input';
 
 const MAX_LAYERS = 64;
 const DEFAULT_TOP = 50;
@@ -191,6 +192,7 @@ function run(argv: string[], io: CliIo): number {
 }
 
 function fieldReport(argv: string[], io: CliIo): number {
+  const started = performance.now();
   const args = parseFieldArgs(argv);
   const g = loadGraph(args.file, args.options);
   if (args.pairTypes !== undefined) {
@@ -245,6 +247,7 @@ function fieldReport(argv: string[], io: CliIo): number {
   } else {
     io.out(answers.map((a) => a.lines.join('\n') + '\n').join('\n'));
   }
+  printTimings(io, started, args.options);
   return 0;
 }
 

@@ -6,7 +6,7 @@ import type { CliIo, Command } from './types';
 import { UsageError } from './types';
 import { ANALYSIS_OPTIONS, CHECK_USAGE, analysisOptions, guarded, optionalWhole, parseCommandLine } from './args';
 import { plural, styler } from './style';
-import { loadUndirected } from './undirected-input';
+import { loadUndirected, printTimings } from './undirected-input';
 import { colourGroups, refineWl, rowColours, sharedColourCount } from '../core/graph/refinement/wl';
 import { undirectedEdgeCount } from '../core/graph/structure/undirected';
 
@@ -52,13 +52,15 @@ const OPTIONS = {
 } as const;
 
 function run(argv: string[], io: CliIo): number {
+  const started = performance.now();
   return guarded('wl', USAGE, io, () => {
     const { values: v, positionals: files } = parseCommandLine(argv, OPTIONS);
     if (files.length !== 1) throw new UsageError(files.length ? `one FILE at a time, got ${files.length}` : 'no FILE given');
     const maxRounds = optionalWhole('--rounds', v.rounds);
     const groupLimit = optionalWhole('--groups', v.groups) ?? DEFAULT_GROUPS;
     const file = files[0]!;
-    const { loaded, g, base } = loadUndirected(file, analysisOptions(v), 'wl', io);
+    const options = analysisOptions(v);
+    const { loaded, g, base } = loadUndirected(file, options, 'wl', io);
 
     let initial: Int32Array | undefined;
     if (v.features) {
@@ -85,6 +87,7 @@ function run(argv: string[], io: CliIo): number {
         groups: groups.map((gr) => ({ size: gr.size, nodes: gr.nodes.map((v) => v + base) })),
       };
       io.out(JSON.stringify(out, null, 2) + '\n');
+      printTimings(io, started, options);
       return 0;
     }
 

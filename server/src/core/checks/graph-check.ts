@@ -12,7 +12,7 @@
  */
 import type { Structure } from '../graph/structure/figures';
 import { analyseStructure } from '../graph/structure/figures';
-import { sortedCsr, transpose, type Csr } from '../graph/structure/csr';
+import { buildSortedPair, type Csr } from '../graph/structure/csr';
 import type { CheckLimits, FileProblem, GraphOptions, GraphPart } from './graph-check-types';
 import { checkContext, reporterInto, type EdgeContext, type GraphContext } from './rules/context';
 import { partsWithValues } from './rules/summarised';
@@ -121,21 +121,22 @@ export function checkGraph(parts: GraphPart[], opts: GraphOptions = {}, limits: 
 
 /**
  * `limits.lean` (the analysis commands without --check): what the bounds pass knows, and the graph
- * built only as far as an analysis asks. `structure.fwd` and `structure.rev` are each built (sorted
- * rows, exactly as analyseStructure builds them) on first use, the second as the transpose of the
- * first (transposing a sorted CSR row by row gives sorted rows, repeats kept: the same arrays). The figures no lean check computes
+ * built only when an analysis first reads `structure.fwd` or `structure.rev` (both directions at
+ * once, by the same pair builder as analyseStructure: the same arrays). The figures no lean check computes
  * (self-loops, duplicates, asymmetric pairs, isolated nodes, components, directed) are NaN.
  */
 function leanCheck(part: GraphPart, kept: { src: Int32Array; dst: Int32Array; nodeIds: Float64Array | undefined },
   built: number, nodes: number, indexBase: 0 | 1, problems: FileProblem[], parts: GraphPart[], opts: GraphOptions): GraphCheck {
   const { src, dst } = kept;
-  let fwd: Csr | undefined, rev: Csr | undefined;
+  let fwd: Csr | undefined, rev: Csr | undefined, both: { fwd: Csr; rev: Csr } | undefined;
+  const pair = () => (both ??= timed('build', () => buildSortedPair(built, src, dst)));
   const unknown = Number.NaN;
   const structure = {
     src, dst, ...(kept.nodeIds ? { ids: kept.nodeIds } : {}),
-    // The second direction is the transpose of the first: one counting pass, rows come out sorted.
-    get fwd(): Csr { return (fwd ??= timed('build', () => (rev ? transpose(rev) : sortedCsr(built, src, dst)))); },
-    get rev(): Csr { return (rev ??= timed('build', () => (fwd ? transpose(fwd) : sortedCsr(built, dst, src)))); },
+    // Every analysis asks for both directions (the undirected view and the GCN propagation merge
+    // them): the first read builds the pair with the host's pair builder, as analyseStructure does.
+    get fwd(): Csr { return (fwd ??= pair().fwd); },
+    get rev(): Csr { return (rev ??= pair().rev); },
     figures: {
       nodes: built, edges: src.length, directed: false, selfLoops: unknown, duplicateEdges: unknown, asymmetricPairs: unknown,
       distinctNonLoopPairs: unknown, isolatedNodes: unknown, components: unknown,
