@@ -17,6 +17,8 @@ import { main } from '../../server/src/cli';
 import { loadGraph } from '../../server/src/node/graph-input';
 import { sortedCsr, transpose } from '../../server/src/core/graph/structure/csr';
 import { encodeNpyInt64 } from '../../server/src/core/formats/npy-write';
+import { refineWl } from '../../server/src/core/graph/refinement/wl';
+import { undirectedView } from '../../server/src/core/graph/structure/undirected';
 import { ANALYSIS_DIR, analysisExpected } from './analysis-fixtures';
 import { expected as structureExpected, STRUCTURE_DIR } from './structure-fixtures';
 
@@ -193,4 +195,35 @@ describe('lean reading vs checked reading of one graph', () => {
     expect(Array.from(t.indptr)).toEqual(Array.from(rev.indptr));
     expect(Array.from(t.indices)).toEqual(Array.from(rev.indices));
   });
+});
+
+describe('1-WL as the wl command runs it (first round from the degrees, last round a split test, ids not canonical)', () => {
+  const names = ['karate', 'les_miserables', 'petersen', 'frucht', 'tree_mixed', 'two_k3', 'davis', 'gnp_3'];
+  for (const name of names) {
+    it(`${name}: NetworkX classes per round; the same partition as the canonical refinement; stableAfter at every --rounds`, () => {
+      const g0 = loadGraph(path.join(STRUCTURE_DIR, `${name}.npy`), { lean: true });
+      const g = undirectedView(g0.fwd, g0.rev);
+      const want = structureExpected.graphs[name]!.wlClasses as number[];
+      const canon = refineWl(g);
+      const fast = refineWl(g, { canonical: false });
+      expect(canon.classesPerRound).toEqual(want); // networkx.weisfeiler_lehman_subgraph_hashes
+      expect(fast.classesPerRound).toEqual(want);
+      expect(fast.stableAfter).toBe(canon.stableAfter);
+      // the same partition: colour ids related one-to-one
+      const map = new Map<number, number>();
+      for (let v = 0; v < g.n; v++) {
+        const a = canon.colours[v]!, b = fast.colours[v]!;
+        if (!map.has(a)) map.set(a, b);
+        expect(map.get(a)).toBe(b);
+      }
+      expect(new Set(map.values()).size).toBe(map.size);
+      // --rounds R: stable exactly when R reaches the stable round (the last round is only tested)
+      const stable = canon.stableAfter!;
+      for (let r = 0; r <= stable + 1; r++) {
+        const cut = refineWl(g, { maxRounds: r, canonical: false });
+        expect(cut.classesPerRound).toEqual(want.slice(0, Math.min(r, stable) + 1));
+        expect(cut.stableAfter).toBe(r >= stable ? stable : null);
+      }
+    });
+  }
 });

@@ -72,7 +72,8 @@ function run(argv: string[], io: CliIo): number {
       if (rows !== g.n) throw new UsageError(`--features: ${x.name} has ${rows} rows but the graph has ${g.n} nodes`);
       initial = rowColours(x.data, rows, width).colours;
     }
-    const wl = refineWl(g, { ...(maxRounds !== undefined ? { maxRounds } : {}), ...(initial ? { initial } : {}) });
+    // Only class sizes and members are printed: the colour ids need not be canonical.
+    const wl = refineWl(g, { ...(maxRounds !== undefined ? { maxRounds } : {}), ...(initial ? { initial } : {}), canonical: false });
     const shared = sharedColourCount(wl.colours);
     const groups = colourGroups(wl.colours, { limit: groupLimit, maxMembers: MEMBERS_SHOWN_JSON });
     const last = wl.classesPerRound.length - 1;

@@ -67,6 +67,8 @@ class ClassTable {
     primary?: { keys: Int32Array; count: number },
     /** Looked at every 65,536 items. */
     cancel?: Cancel,
+    /** False: ids in order of first appearance instead (same classes, no ordering work). */
+    canonical = true,
   ): number {
     let size = 16;
     while (size < 2 * n) size *= 2;
@@ -95,6 +97,10 @@ class ClassTable {
         pos = (pos + 1) & mask;
       }
     }
+    if (!canonical) {
+      for (let v = 0; v < n; v++) out[v] = prov[v]!;
+      return k;
+    }
     const ids = primary && k > 4096 ? this.radixOrder(k, hash, primary, cmp) : new Int32Array(k);
     if (!(primary && k > 4096)) {
       for (let p = 0; p < k; p++) ids[p] = p;
@@ -118,19 +124,14 @@ class ClassTable {
     let ids2 = new Int32Array(k), hs2 = new Int32Array(k), ps2 = new Int32Array(k);
     for (let p = 0; p < k; p++) { const r = rep[p]!; ids[p] = p; hs[p] = hash[r]!; ps[p] = primary.keys[r]!; }
     const count = new Int32Array(Math.max(65536, primary.count) + 1);
-    // One key array per pass (low 16 bits of the hash, high 16 bits, the primary key), so the
-    // counting loops read plain typed arrays.
-    const keys = new Int32Array(k);
     for (let digit = 0; digit < 3; digit++) {
       const buckets = digit < 2 ? 65536 : primary.count;
-      if (digit === 0) for (let i = 0; i < k; i++) keys[i] = hs[i]! & 0xffff;
-      else if (digit === 1) for (let i = 0; i < k; i++) keys[i] = hs[i]! >>> 16;
-      else keys.set(ps);
+      const key = (i: number) => (digit === 0 ? hs[i]! & 0xffff : digit === 1 ? hs[i]! >>> 16 : ps[i]!);
       count.fill(0, 0, buckets + 1);
-      for (let i = 0; i < k; i++) count[keys[i]! + 1]!++;
+      for (let i = 0; i < k; i++) count[key(i) + 1]!++;
       for (let c = 0; c < buckets; c++) count[c + 1]! += count[c]!;
       for (let i = 0; i < k; i++) {
-        const q = count[keys[i]!]!++;
+        const q = count[key(i)]!++;
         ids2[q] = ids[i]!; hs2[q] = hs[i]!; ps2[q] = ps[i]!;
       }
       [ids, ids2] = [ids2, ids]; [hs, hs2] = [hs2, hs]; [ps, ps2] = [ps2, ps];
@@ -207,8 +208,13 @@ export class Refiner {
   private readonly hash: Int32Array;
   private readonly table: ClassTable;
 
-  /** `cancel` is looked at every 16,384 nodes of each pass of a round (a round of 20M entries takes seconds). */
-  constructor(readonly g: UndirectedGraph, private readonly cancel?: Cancel) {
+  /**
+   * `cancel` is looked at every 16,384 nodes of each pass of a round (a round of 20M entries takes
+   * seconds). `canonical: false` numbers the classes of each round in order of their first node
+   * instead of by signature: the same partitions, for callers that never compare colour ids across
+   * graphs or refinements (see WlOptions.canonical).
+   */
+  constructor(readonly g: UndirectedGraph, private readonly cancel?: Cancel, private readonly canonical = true) {
     const n = g.n;
     this.nb = new Int32Array(g.indptr[n]!);
     this.hash = new Int32Array(n);
@@ -259,7 +265,7 @@ export class Refiner {
       for (let i = 0; i < dx; i++, px++, py++) if (nb[px] !== nb[py]) return nb[px]! - nb[py]!;
       return 0;
     };
-    return this.table.classify(n, hash, same, cmp, next, { keys: cur, count: k }, cancel);
+    return this.table.classify(n, hash, same, cmp, next, { keys: cur, count: k }, cancel, this.canonical);
   }
 
   /**
@@ -326,6 +332,12 @@ export interface WlOptions {
   /** Start colours (dense ids 0..k-1, e.g. from `rowColours`); default: one colour for all. */
   initial?: Int32Array;
   cancel?: Cancel;
+  /**
+   * Default true: colour ids depend only on the signatures (comparable across graphs refined
+   * apart). False: ids in order of each class's first node — the same classes per round, the same
+   * groups and stable round, less work; `colours` is then not comparable with another refinement.
+   */
+  canonical?: boolean;
 }
 
 export interface WlResult {
@@ -368,7 +380,7 @@ export function refineWl(g: UndirectedGraph, options: WlOptions = {}): WlResult 
   const maxRounds = options.maxRounds ?? Number.MAX_SAFE_INTEGER;
   let { colours: cur, classes: k } = startColours(n, options.initial);
   const classesPerRound = [k];
-  const ref = new Refiner(g, options.cancel);
+  const ref = new Refiner(g, options.cancel, options.canonical ?? true);
   let next: Int32Array = new Int32Array(n);
   let round = 0;
   for (;;) {

@@ -32,48 +32,39 @@ export function undirectedView(fwd: Csr, rev: Csr, cancel?: Cancel): UndirectedG
   return mergeRows(fwd, rev, cancel, true) as UndirectedGraph;
 }
 
-/** Up to this many forward + reverse entries the merge runs in one pass into buffers of that size. */
-const ONE_PASS_ENTRIES = 1 << 25;
-
 /**
  * Row u of the result: the sorted union of fwd row u and rev row u, repeats merged, u left out;
- * with `withMult` also each entry's multiplicity max(#(u → x), #(x → u)). Small graphs (see
- * ONE_PASS_ENTRIES) are merged once into buffers sized for every entry and trimmed; larger ones
- * count the row lengths first so nothing beyond the result is allocated. Same arrays either way.
+ * with `withMult` also each entry's multiplicity max(#(u → x), #(x → u)). Two passes: the row
+ * lengths, then the rows (nothing beyond the result is allocated).
  */
 export function mergeRows(fwd: Csr, rev: Csr, cancel: Cancel | undefined, withMult: boolean): Csr & { mult?: Int32Array } {
   const n = fwd.n;
   const fp = fwd.indptr, fi = fwd.indices, rp = rev.indptr, ri = rev.indices;
+  // Pass 1: row lengths of the merged, de-duplicated rows.
   const indptr = new Int32Array(n + 1);
-  const cap = fp[n]! + rp[n]!;
-  const onePass = cap <= ONE_PASS_ENTRIES;
-  if (!onePass) {
-    // Pass 1: row lengths of the merged, de-duplicated rows.
-    for (let u = 0; u < n; u++) {
-      if ((u & 0x1fff) === 0) throwIfCancelled(cancel);
-      let a = fp[u]!, b = rp[u]!;
-      const ae = fp[u + 1]!, be = rp[u + 1]!;
-      let count = 0, last = -1;
-      while (a < ae || b < be) {
-        const x = b >= be || (a < ae && fi[a]! <= ri[b]!) ? fi[a++]! : ri[b++]!;
-        if (x !== last && x !== u) count++;
-        last = x;
-      }
-      indptr[u + 1] = indptr[u]! + count;
-    }
-  }
-  // Fill neighbours and multiplicities (and, in one pass, the row ends).
-  const size = onePass ? cap : indptr[n]!;
-  const indices = new Int32Array(size);
-  const mult = withMult ? new Int32Array(size) : undefined;
-  let w = 0;
   for (let u = 0; u < n; u++) {
     if ((u & 0x1fff) === 0) throwIfCancelled(cancel);
     let a = fp[u]!, b = rp[u]!;
     const ae = fp[u + 1]!, be = rp[u + 1]!;
-    while (a < ae && b < be) {
-      const fa = fi[a]!, rb = ri[b]!;
-      const x = fa <= rb ? fa : rb;
+    let count = 0, last = -1;
+    while (a < ae || b < be) {
+      const x = b >= be || (a < ae && fi[a]! <= ri[b]!) ? fi[a++]! : ri[b++]!;
+      if (x !== last && x !== u) count++;
+      last = x;
+    }
+    indptr[u + 1] = indptr[u]! + count;
+  }
+  // Pass 2: fill neighbours and multiplicities.
+  const m2 = indptr[n]!;
+  const indices = new Int32Array(m2);
+  const mult = withMult ? new Int32Array(m2) : undefined;
+  for (let u = 0; u < n; u++) {
+    if ((u & 0x1fff) === 0) throwIfCancelled(cancel);
+    let a = fp[u]!, b = rp[u]!;
+    const ae = fp[u + 1]!, be = rp[u + 1]!;
+    let w = indptr[u]!;
+    while (a < ae || b < be) {
+      const x = a < ae && (b >= be || fi[a]! <= ri[b]!) ? fi[a]! : ri[b]!;
       let cf = 0, cr = 0;
       while (a < ae && fi[a] === x) { a++; cf++; }
       while (b < be && ri[b] === x) { b++; cr++; }
@@ -82,29 +73,8 @@ export function mergeRows(fwd: Csr, rev: Csr, cancel: Cancel | undefined, withMu
       if (mult) mult[w] = cf > cr ? cf : cr;
       w++;
     }
-    // One side is used up: the rest of the other, repeats merged.
-    while (a < ae) {
-      const x = fi[a]!;
-      let cf = 0;
-      while (a < ae && fi[a] === x) { a++; cf++; }
-      if (x === u) continue;
-      indices[w] = x;
-      if (mult) mult[w] = cf;
-      w++;
-    }
-    while (b < be) {
-      const x = ri[b]!;
-      let cr = 0;
-      while (b < be && ri[b] === x) { b++; cr++; }
-      if (x === u) continue;
-      indices[w] = x;
-      if (mult) mult[w] = cr;
-      w++;
-    }
-    if (onePass) indptr[u + 1] = w;
   }
-  if (!onePass || w === size) return mult ? { n, indptr, indices, mult } : { n, indptr, indices };
-  return mult ? { n, indptr, indices: indices.slice(0, w), mult: mult.slice(0, w) } : { n, indptr, indices: indices.slice(0, w) };
+  return mult ? { n, indptr, indices, mult } : { n, indptr, indices };
 }
 
 /** The undirected view straight from an edge list (ids in [0, n)). */
