@@ -39,12 +39,8 @@ export interface PairJob {
   patienceMs: number;
 }
 
-/** An Int32Array over shared memory with the contents of `a` (`a` itself when already shared). */
-function shared(a: Int32Array): Int32Array {
-  if (a.buffer instanceof SharedArrayBuffer) return a;
-  const s = new Int32Array(new SharedArrayBuffer(a.byteLength));
-  s.set(a);
-  return s;
+function isShared(a: Int32Array): boolean {
+  return a.buffer instanceof SharedArrayBuffer;
 }
 
 /** Generous bound on the other thread's time: its work is a few passes over the edges. */
@@ -82,11 +78,13 @@ function runSteps(job: PairJob): boolean {
 
 export const parallelPair: PairBuilder = (n, src, dst, opts) => {
   const e = src.length;
-  const w = e >= PARALLEL_MIN_EDGES ? getHelper() : null;
+  // Edge lists not already in shared memory (text reads) are built here: copying them for the
+  // helper costs more than the helper saves (bench/README.md).
+  const w = e >= PARALLEL_MIN_EDGES && isShared(src) && isShared(dst) ? getHelper() : null;
   if (!w) return sequentialPair(n, src, dst, opts);
   const control = sharedInt32(CONTROL_WORDS);
   const job: PairJob = {
-    kind: 'pair', plan: pairPlan(n, shared(src), shared(dst), PARTS, sharedInt32), control,
+    kind: 'pair', plan: pairPlan(n, src, dst, PARTS, sharedInt32), control,
     components: opts?.components === true, patienceMs: patienceMs(e),
   };
   w.postMessage(job);
