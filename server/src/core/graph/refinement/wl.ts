@@ -232,18 +232,14 @@ export class Refiner {
     // Each node's neighbour colours, gathered row by row (sequential writes, one read of `cur`
     // per entry) and sorted in place.
     const cancel = this.cancel;
+    // In the same pass (the row is still in cache), hash the signature.
     for (let v = 0; v < n; v++) {
       if ((v & 0x3fff) === 0) throwIfCancelled(cancel);
       const lo = indptr[v]!, hi = indptr[v + 1]!;
       for (let p = lo; p < hi; p++) nb[p] = cur[indices[p]!]!;
       sortRange(nb, lo, hi);
-    }
-    // Hash the signatures.
-    for (let v = 0; v < n; v++) {
-      if ((v & 0x3fff) === 0) throwIfCancelled(cancel);
-      const end = indptr[v + 1]!;
-      let h = mixWord(0x1b873593 ^ cur[v]!, end - indptr[v]!);
-      for (let p = indptr[v]!; p < end; p++) h = mixWord(h, nb[p]!);
+      let h = mixWord(0x1b873593 ^ cur[v]!, hi - lo);
+      for (let p = lo; p < hi; p++) h = mixWord(h, nb[p]!);
       hash[v] = finish(h);
     }
     const same = (x: number, y: number): boolean => {
