@@ -7,7 +7,7 @@
  */
 import type { CliIo, Command } from './types';
 import { UsageError } from './types';
-import { GRAPH_OPTIONS, graphOptions, guarded, optionalWhole, parseCommandLine } from './args';
+import { ANALYSIS_OPTIONS, CHECK_USAGE, analysisOptions, guarded, optionalWhole, parseCommandLine } from './args';
 import { plural, styler } from './style';
 import {
   CeilingInputError, DEFAULT_COUNT_BUDGET_MS, DEFAULT_LAYERS, parseAugmentation, type Augmentation,
@@ -54,13 +54,15 @@ Options:
   --groups G            list G look-alike groups (default ${GROUPS_SHOWN}; JSON lists up to 100)
   --num-nodes N         declare the node count (one graph)
   --index-base 0|1      declare that node ids start at 0 or at 1 (one graph)
+${CHECK_USAGE}; in a dataset the isomorphism checks
+                        (look-alikes with different labels, leaked splits) run only with it
   --json                print JSON: { task, graphs, groups, conflictingGroups, ceiling, rounds,
                         with } for a dataset, { task, perLayer, with } for one graph
 
 Exit codes: 0 = done; 2 = usage error, the file could not be read, or it has no labels to bound.`;
 
 const OPTIONS = {
-  ...GRAPH_OPTIONS,
+  ...ANALYSIS_OPTIONS,
   layers: { type: 'string' },
   features: { type: 'boolean' },
   budget: { type: 'string' },
@@ -128,7 +130,7 @@ function run(argv: string[], io: CliIo): number {
         with: augs,
         ...(budget !== undefined ? { budgetMs: budget * 1000 } : {}),
         ...(v.json ? {} : { groupLimit: Math.max(groupsShown, 1) }),
-      }, graphOptions(v));
+      }, analysisOptions(v));
     } catch (e) {
       if (e instanceof CeilingInputError) { io.err(`hopscope ceiling: ${file}: ${e.message}\n`); return 2; }
       throw e;

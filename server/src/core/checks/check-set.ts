@@ -231,7 +231,7 @@ export function checkSet(files: LoadedFile[], manifests: LoadedManifest[], cli: 
 
   // 1c. Datasets of many graphs (core/datasets): their files are claimed and checked per graph.
   const datasets = timed('datasets', () => checkDatasetsIn(files.filter((f) => f.result && !claimed.has(normalise(f.path))),
-    (p) => ({ ...definedOnly(cli.defaults ?? {}), ...defaultsFor(p).options, ...definedOnly(cli) }), focus,
+    (p) => ({ ...definedOnly(cli.defaults ?? {}), ...defaultsFor(p).options, ...definedOnly(cli), ...(cli.lean ? { isomorphism: false } : {}) }), focus,
     { manifests: goodManifests, lookup: typedLookup, problems: manifestProblems }));
   for (const d of datasets) {
     for (const p of d.files) { claimed.add(normalise(p)); if (d.checked && focus) inChecked.add(normalise(p)); }

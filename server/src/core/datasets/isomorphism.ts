@@ -27,6 +27,8 @@ export interface IsomorphismOptions {
   isoBudgetMs?: number;
   /** Refinement rounds for the candidates (default 3). */
   isoRounds?: number;
+  /** False: no isomorphism checks at all (the analyses' lean reading: the ceiling does its own refinement). */
+  isomorphism?: boolean;
 }
 
 const KEPT = 20;
@@ -435,7 +437,7 @@ function labelText(col: DatasetColumn, g: number): string {
 export function isomorphismProblems(ds: Dataset, labels: DatasetColumn | undefined, opts: IsomorphismOptions = {}): FiledProblem[] {
   const splits = ds.splits;
   const hasSplits = !!splits && !!splits.train?.length && (!!splits.val?.length || !!splits.test?.length);
-  if (!labels && !hasSplits) return [];
+  if ((!labels && !hasSplits) || opts.isomorphism === false) return [];
   const out: FiledProblem[] = [];
   const { classes, undecided, undecidedCount } = isomorphismClasses(ds, opts);
   const undecidedNote = undecidedCount
