@@ -169,7 +169,60 @@ export function pairStepParts(plan: PairPlan, step: number): number {
 function countInto(n: number, keys: Int32Array, indptr: Int32Array, bounds: Int32Array, at: number, parts: number): void {
   for (let k = 0; k < keys.length; k++) indptr[keys[k]! + 1]!++;
   for (let i = 0; i < n; i++) indptr[i + 1]! += indptr[i]!;
-  const e = keys.length;
+  boundsInto(n, keys.length, indptr, bounds, at, parts);
+}
+
+/**
+ * Above this many nodes the cursors of step 1 (4 bytes a node) no longer stay in cache and each
+ * entry of a plain scatter costs a cache and TLB miss: step 0 then builds the reverse rows itself
+ * by buckets (bucketedReverse) and step 1 does nothing.
+ */
+export const BUCKETED_MIN_NODES = 1 << 22;
+
+/**
+ * Step 1 by buckets (same result: the sources of each target's edges in edge order): a
+ * most-significant-digit pass scatters (target, source) into at most 2^11 buckets of consecutive
+ * target ranges, the targets into `scratch` (the forward indices, unused until step 2) and the
+ * sources into `ri`; then each bucket is counting-sorted in place through a copy of its sources,
+ * its slice of `rp` in cache. Also fills `rp` (no degree count pass over the targets).
+ */
+function bucketedReverse(n: number, src: Int32Array, dst: Int32Array, rp: Int32Array, ri: Int32Array, scratch: Int32Array): void {
+  const e = src.length;
+  const bits = Math.max(1, 32 - Math.clz32(n - 1));
+  const lowBits = bits - Math.min(11, Math.ceil(bits / 2));
+  const buckets = ((n - 1) >>> lowBits) + 1;
+  const start = new Int32Array(buckets + 1);
+  for (let k = 0; k < e; k++) start[(dst[k]! >>> lowBits) + 1]!++;
+  let most = 0;
+  for (let b = 0; b < buckets; b++) {
+    if (start[b + 1]! > most) most = start[b + 1]!;
+    start[b + 1]! += start[b]!;
+  }
+  const fill = start.slice(0, buckets);
+  for (let k = 0; k < e; k++) {
+    const v = dst[k]!;
+    const p = fill[v >>> lowBits]!++;
+    scratch[p] = v;
+    ri[p] = src[k]!;
+  }
+  const temp = new Int32Array(most);
+  rp.fill(0);
+  for (let b = 0; b < buckets; b++) {
+    const lo = b << lowBits;
+    const hi = Math.min(n, lo + (1 << lowBits));
+    const a = start[b]!, z = start[b + 1]!;
+    for (let p = a; p < z; p++) rp[scratch[p]! + 1]!++;
+    rp[lo] = a;
+    for (let r = lo; r < hi; r++) rp[r + 1]! += rp[r]!;
+    temp.set(ri.subarray(a, z));
+    for (let p = a; p < z; p++) ri[rp[scratch[p]!]!++] = temp[p - a]!;
+    shiftBack(rp, lo, hi, a);
+  }
+  rp[n] = e;
+}
+
+/** The node bounds that cut the rows of `indptr` into `parts` even shares of its e entries. */
+function boundsInto(n: number, e: number, indptr: Int32Array, bounds: Int32Array, at: number, parts: number): void {
   bounds[at] = 0;
   bounds[at + parts] = n;
   for (let p = 1, r = 0; p < parts; p++) {
@@ -189,11 +242,20 @@ function shiftBack(indptr: Int32Array, lo: number, hi: number, a: number): void 
 export function runPairStep(plan: PairPlan, step: number, part: number): void {
   const { n, src, dst, fwdIndptr: fp, fwdIndices: fi, revIndptr: rp, revIndices: ri, bounds, parts } = plan;
   const e = src.length;
+  const bucketed = n > BUCKETED_MIN_NODES;
   if (step === 0) {
     if (part === 0) countInto(n, src, fp, bounds, 0, parts);
-    if (part === 1 || parts === 1) countInto(n, dst, rp, bounds, parts + 1, parts);
+    if (part === 1 || parts === 1) {
+      if (bucketed) {
+        bucketedReverse(n, src, dst, rp, ri, fi);
+        boundsInto(n, e, rp, bounds, parts + 1, parts);
+      } else {
+        countInto(n, dst, rp, bounds, parts + 1, parts);
+      }
+    }
     return;
   }
+  if (step === 1 && bucketed) return;
   const fwdRows = step === 2;
   const at = fwdRows ? 0 : parts + 1;
   const lo = bounds[at + part]!, hi = bounds[at + part + 1]!, width = hi - lo;
