@@ -56,6 +56,17 @@ describe('two-thread CSR build', () => {
     }
   });
 
+  it('equals the one-thread build above 4M nodes too (the first scatter by buckets, shared between threads)', () => {
+    useParallelPairBuilder(HELPER);
+    const n = (1 << 22) + 1000, e = PARALLEL_MIN_EDGES + 777;
+    const { src, dst } = randomGraph(n, e, 31, true);
+    const par = buildSortedPair(n, src, dst, { components: true });
+    const f = sortedCsr(n, src, dst), r = sortedCsr(n, dst, src);
+    expect(same(par.fwd.indptr, f.indptr) && same(par.fwd.indices, f.indices)).toBe(true);
+    expect(same(par.rev.indptr, r.indptr) && same(par.rev.indices, r.indices)).toBe(true);
+    expect(par.components!()).toBe(countComponentsCsr(f));
+  });
+
   it('the one-thread pair (three counting scatters) equals a bucketed sort of each direction', () => {
     // sortedCsr sorts each direction on its own (bucketed counting sort, then every row sorted);
     // the pair builder scatters three times instead. Same rows, same order, on hubs, repeats and

@@ -147,6 +147,8 @@ export interface PairPlan {
   revIndices: Int32Array;
   /** parts + 1 node bounds over the forward rows, then parts + 1 over the reverse rows (step 0 fills them). */
   bounds: Int32Array;
+  /** Above BUCKETED_MIN_NODES: the bucket starts of step 1 (step 0 fills them). */
+  bucketStart: Int32Array;
   parts: number;
 }
 
@@ -156,7 +158,7 @@ export function pairPlan(n: number, src: Int32Array, dst: Int32Array, parts = 1,
   return {
     n, src, dst, parts,
     fwdIndptr: alloc(n + 1), fwdIndices: alloc(e), revIndptr: alloc(n + 1), revIndices: alloc(e),
-    bounds: alloc(2 * (parts + 1)),
+    bounds: alloc(2 * (parts + 1)), bucketStart: alloc(n > BUCKETED_MIN_NODES ? (1 << 11) + 2 : 1),
   };
 }
 
@@ -179,25 +181,25 @@ function countInto(n: number, keys: Int32Array, indptr: Int32Array, bounds: Int3
  */
 export const BUCKETED_MIN_NODES = 1 << 22;
 
-/**
- * Step 1 by buckets (same result: the sources of each target's edges in edge order): a
- * most-significant-digit pass scatters (target, source) into at most 2^11 buckets of consecutive
- * target ranges, the targets into `scratch` (the forward indices, unused until step 2) and the
- * sources into `ri`; then each bucket is counting-sorted in place through a copy of its sources,
- * its slice of `rp` in cache. Also fills `rp` (no degree count pass over the targets).
- */
-function bucketedReverse(n: number, src: Int32Array, dst: Int32Array, rp: Int32Array, ri: Int32Array, scratch: Int32Array): void {
-  const e = src.length;
+/** Bits of a node id below its bucket (at most 2^11 buckets of consecutive ids). */
+function bucketLowBits(n: number): number {
   const bits = Math.max(1, 32 - Math.clz32(n - 1));
-  const lowBits = bits - Math.min(11, Math.ceil(bits / 2));
+  return bits - Math.min(11, Math.ceil(bits / 2));
+}
+
+/**
+ * Step 1 by buckets, first half (in step 0): a most-significant-digit pass scatters (target,
+ * source) into at most 2^11 buckets of consecutive target ranges — the targets into `scratch`
+ * (the forward indices, unused until step 2), the sources into `ri` — and records where each
+ * bucket starts.
+ */
+function bucketScatter(n: number, src: Int32Array, dst: Int32Array, start: Int32Array, ri: Int32Array, scratch: Int32Array): void {
+  const e = src.length;
+  const lowBits = bucketLowBits(n);
   const buckets = ((n - 1) >>> lowBits) + 1;
-  const start = new Int32Array(buckets + 1);
+  start.fill(0);
   for (let k = 0; k < e; k++) start[(dst[k]! >>> lowBits) + 1]!++;
-  let most = 0;
-  for (let b = 0; b < buckets; b++) {
-    if (start[b + 1]! > most) most = start[b + 1]!;
-    start[b + 1]! += start[b]!;
-  }
+  for (let b = 0; b < buckets; b++) start[b + 1]! += start[b]!;
   const fill = start.slice(0, buckets);
   for (let k = 0; k < e; k++) {
     const v = dst[k]!;
@@ -205,20 +207,39 @@ function bucketedReverse(n: number, src: Int32Array, dst: Int32Array, rp: Int32A
     scratch[p] = v;
     ri[p] = src[k]!;
   }
+}
+
+/**
+ * Step 1 by buckets, second half: each bucket of this part's share is counting-sorted in place
+ * through a copy of its sources, its slice of `rp` in cache (rows in edge order, as the plain
+ * scatter leaves them). Writes only `rp` rows of its own buckets, so parts may run together. Also
+ * fills `rp` (no degree count pass over the targets).
+ */
+function bucketSort(n: number, start: Int32Array, rp: Int32Array, ri: Int32Array, scratch: Int32Array, part: number, parts: number): void {
+  const lowBits = bucketLowBits(n);
+  const buckets = ((n - 1) >>> lowBits) + 1;
+  const e = start[buckets]!;
+  // This part's buckets: an even share of the entries.
+  let b0 = 0, b1 = 0;
+  const from = Math.floor((e * part) / parts), to = Math.floor((e * (part + 1)) / parts);
+  while (b0 < buckets && start[b0]! < from) b0++;
+  b1 = b0;
+  while (b1 < buckets && (start[b1]! < to || part === parts - 1)) b1++;
+  let most = 0;
+  for (let b = b0; b < b1; b++) most = Math.max(most, start[b + 1]! - start[b]!);
   const temp = new Int32Array(most);
-  rp.fill(0);
-  for (let b = 0; b < buckets; b++) {
+  for (let b = b0; b < b1; b++) {
     const lo = b << lowBits;
     const hi = Math.min(n, lo + (1 << lowBits));
     const a = start[b]!, z = start[b + 1]!;
-    for (let p = a; p < z; p++) rp[scratch[p]! + 1]!++;
-    rp[lo] = a;
-    for (let r = lo; r < hi; r++) rp[r + 1]! += rp[r]!;
+    // Row sizes into rp[lo, hi), then their starts from a (rp[hi] belongs to the next bucket).
+    rp.fill(0, lo, hi);
+    for (let p = a; p < z; p++) rp[scratch[p]!]!++;
+    for (let r = lo, run = a; r < hi; r++) { const c = rp[r]!; rp[r] = run; run += c; }
     temp.set(ri.subarray(a, z));
     for (let p = a; p < z; p++) ri[rp[scratch[p]!]!++] = temp[p - a]!;
     shiftBack(rp, lo, hi, a);
   }
-  rp[n] = e;
 }
 
 /** The node bounds that cut the rows of `indptr` into `parts` even shares of its e entries. */
@@ -247,15 +268,21 @@ export function runPairStep(plan: PairPlan, step: number, part: number): void {
     if (part === 0) countInto(n, src, fp, bounds, 0, parts);
     if (part === 1 || parts === 1) {
       if (bucketed) {
-        bucketedReverse(n, src, dst, rp, ri, fi);
-        boundsInto(n, e, rp, bounds, parts + 1, parts);
+        bucketScatter(n, src, dst, plan.bucketStart, ri, fi);
+        rp[n] = e;
       } else {
         countInto(n, dst, rp, bounds, parts + 1, parts);
       }
     }
     return;
   }
-  if (step === 1 && bucketed) return;
+  if (step === 1 && bucketed) {
+    bucketSort(n, plan.bucketStart, rp, ri, fi, part, parts);
+    return;
+  }
+  // With buckets the reverse indptr is complete only after step 1: its bounds are taken here
+  // (step 2 does not change it; step 3 uses them).
+  if (step === 2 && bucketed && part === 0) boundsInto(n, e, rp, bounds, parts + 1, parts);
   const fwdRows = step === 2;
   const at = fwdRows ? 0 : parts + 1;
   const lo = bounds[at + part]!, hi = bounds[at + part + 1]!, width = hi - lo;
