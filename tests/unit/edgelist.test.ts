@@ -592,3 +592,43 @@ describe('text in other encodings and damaged gzip (messages that say what happe
     }
   });
 });
+
+describe('edge locations kept sparsely (a mark every 64 edges, left-out lines remembered)', () => {
+  // The file is built here, so the line of every kept edge is known by construction: comments,
+  // blank lines, a header, and left-out lines (too short, a non-integer id, far too wide) fall
+  // between the edges, and the locator must step over exactly those when it walks from a mark.
+  it('locates every edge on its own line, in any order of asking', () => {
+    const lines: string[] = ['source,target,weight'];
+    const want: Array<{ line: number; u: string; v: string }> = [];
+    for (let k = 0; k < 700; k++) {
+      if (k % 13 === 5) lines.push('# a note');
+      if (k % 17 === 3) lines.push('');
+      if (k % 17 === 4) lines.push('  \r');
+      if (k % 19 === 7) lines.push(`${k}`); // short: left out
+      if (k % 23 === 9) lines.push(`${k},x${k},1`); // non-integer id: left out
+      if (k % 97 === 11) lines.push(Array.from({ length: 100 }, () => String(k)).join(',')); // wide: left out
+      const u = String((k * 7) % 101), v = k % 29 === 0 ? `  ${k}.0` : String(k);
+      lines.push(k % 31 === 0 ? `  ${u} , ${v},2` : `${u},${v},${k % 5 === 0 ? 'zz' : '0.5'}`);
+      want.push({ line: lines.length, u, v: v.trim() });
+    }
+    const r = readText(lines.join('\n'), 'graph.csv');
+    const ei = tensor(r, 'edge_index');
+    const E = want.length;
+    expect(ei.shape).toEqual([2, E]);
+    const text = lines.join('\n').split('\n');
+    const check = (k: number): void => {
+      const a = ei.locator!.locate(k)!;
+      const b = ei.locator!.locate(E + k)!;
+      expect(a.line).toBe(want[k]!.line);
+      expect(b.line).toBe(want[k]!.line);
+      const row = text[a.line - 1]!;
+      expect(row.substr(a.column - 1, a.length)).toBe(want[k]!.u);
+      expect(row.substr(b.column - 1, b.length)).toBe(want[k]!.v);
+      expect(tensor(r, 'edge_weight').locator!.locate(k)!.line).toBe(want[k]!.line);
+    };
+    for (let k = E - 1; k >= 0; k -= 3) check(k); // backwards
+    for (let k = 0; k < E; k++) check(k); // forwards
+    for (let s = 1; s < 200; s++) check((s * 389) % E); // jumping about
+    expect(ei.locator!.locate(2 * E)).toBeUndefined();
+  });
+});

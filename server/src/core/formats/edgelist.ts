@@ -4,8 +4,9 @@
  *
  * One pass over the bytes with hand-written integer parsing into growable typed arrays; no
  * per-line strings or objects. The layout (delimiter, header, column count) is sniffed from the
- * first data lines. Every value stays locatable: each edge keeps the byte offset of its line, and
- * a locator re-splits that one line when asked for a field's line/column.
+ * first data lines. Every value stays locatable: every 64th edge keeps the byte offset of its
+ * line and left-out data lines are remembered, so a locator walks to an edge's line from the mark
+ * before it and re-splits that one line when asked for a field's line/column.
  *
  * Problems (values, not exceptions):
  * - a source/target that is not a plain int32 integer (`1.5`, `1e3`, `abc`, `3000000000`) →
@@ -226,7 +227,11 @@ export function readEdgeList(
   // Sources and targets share one buffer, [sources | targets], so that edge_index [2, E] is a
   // copyWithin away at the end instead of a fresh 8·E-byte copy.
   let ids = allocInt32(2 * cap);
-  let offs = allocUint32(cap);
+  // Line offsets are kept sparsely: the first byte of every MARK_EVERY-th edge's line, and the
+  // data lines that were left out (rare); a locator walks the lines in between when asked.
+  let marks = allocUint32((cap >>> MARK_SHIFT) + 1);
+  let dropped = allocUint32(0);
+  let drops = 0;
   let w = allocFloat64(nw ? cap : 0);
   // Feature rows have their own capacity: a complete line spends at least 2·C-1 bytes.
   let attrRows = na ? Math.min(cap, Math.floor(n / (2 * C - 1)) + 1) : 0;
@@ -264,7 +269,7 @@ export function readEdgeList(
     }
     if (pairsOnly && pos <= lastLF && E < cap) {
       const before = E;
-      E = plainPairs(b, pos, lastLF, delim, headerAt, ids, cap, offs, E);
+      E = plainPairs(b, pos, lastLF, delim, headerAt, ids, cap, marks, E);
       line += E - before;
       pos = pairsPos;
       if (pos >= n) break;
@@ -294,7 +299,7 @@ export function readEdgeList(
     if (E === cap) {
       ids = growIds(ids, cap);
       cap = ids.length >>> 1;
-      offs = growUint32(offs, cap);
+      marks = growUint32(marks, (cap >>> MARK_SHIFT) + 1);
       if (nw) w = growFloat64(w, cap);
     }
     if (E === attrRows && na) {
@@ -372,7 +377,7 @@ export function readEdgeList(
         if (c !== LF) break fast;
         ids[E] = u;
         ids[cap + E] = v;
-        offs[E] = i;
+        if ((E & MARK_MASK) === 0) marks[E >>> MARK_SHIFT] = i;
         E++;
         pos = j + 1;
         continue;
@@ -385,12 +390,11 @@ export function readEdgeList(
     const f = sp.count;
     const st = sp.starts;
     const en = sp.ends;
-    if (f < 2) {
-      report.short(line, lineStart, i, sp.lineEnd);
-      continue;
-    }
-    if (sp.cut && !dict) {
-      report.wide(line, lineStart, i, en[f - 1]!, wide);
+    if (f < 2 || (sp.cut && !dict)) {
+      if (f < 2) report.short(line, lineStart, i, sp.lineEnd);
+      else report.wide(line, lineStart, i, en[f - 1]!, wide);
+      if (drops === dropped.length) dropped = growUint32(dropped, drops + 1);
+      dropped[drops++] = i;
       continue;
     }
     let u = parseIntBytes(b, st[0]!, en[0]!);
@@ -403,6 +407,8 @@ export function readEdgeList(
       if (x !== x || y !== y) {
         const k = x !== x ? 0 : 1;
         report.nonInteger(line, lineStart, k, st[k]!, en[k]!);
+        if (drops === dropped.length) dropped = growUint32(dropped, drops + 1);
+        dropped[drops++] = i;
         continue;
       }
       for (let k = 0; k < 2; k++) {
@@ -420,7 +426,7 @@ export function readEdgeList(
     }
     ids[E] = u;
     ids[cap + E] = v;
-    offs[E] = i;
+    if ((E & MARK_MASK) === 0) marks[E >>> MARK_SHIFT] = i;
     if (nw) {
       if (dict) {
         w[E] = f > 2 ? dictWeight(b, st[2]!, sp.lineEnd, report, line, lineStart) : NaN;
@@ -446,7 +452,7 @@ export function readEdgeList(
     E++;
   }
 
-  const text = new EdgeText(b, first, delim, dict, fit(offs, E));
+  const text = new EdgeText(b, first, delim, dict, headerAt, E, fit(marks, (E + MARK_MASK) >>> MARK_SHIFT), fit(dropped, drops));
   if (E < cap) ids.copyWithin(E, cap, cap + E);
   let edgeIndex: Int32Array | Float64Array = fit(ids, 2 * E);
   if (bigs > 0) {
@@ -485,6 +491,10 @@ export function readEdgeList(
   return result;
 }
 
+/** Every 2^MARK_SHIFT-th edge keeps the offset of its line (see EdgeText.edgeStart). */
+const MARK_SHIFT = 6;
+const MARK_MASK = (1 << MARK_SHIFT) - 1;
+
 /** Where `plainPairs` stopped: the start of the first line it did not take. */
 let pairsPos = 0;
 
@@ -495,7 +505,7 @@ let pairsPos = 0;
  * slots are full. Returns the new edge count; `pairsPos` is where it stopped.
  */
 function plainPairs(b: Uint8Array, pos: number, lastLF: number, delim: number, headerAt: number,
-  ids: Int32Array, cap: number, offs: Uint32Array, E: number): number {
+  ids: Int32Array, cap: number, marks: Uint32Array, E: number): number {
   while (pos <= lastLF && E < cap && pos !== headerAt) {
     let j = pos;
     let c = b[j]!;
@@ -524,7 +534,7 @@ function plainPairs(b: Uint8Array, pos: number, lastLF: number, delim: number, h
     if (c !== LF) break;
     ids[E] = u;
     ids[cap + E] = v;
-    offs[E] = pos;
+    if ((E & MARK_MASK) === 0) marks[E >>> MARK_SHIFT] = pos;
     E++;
     pos = j + 1;
   }
@@ -921,32 +931,85 @@ function dictWeight(
 // ---------------------------------------------------------------------------------------------
 // locating values
 
-/** What the locators of one file share: the bytes and each kept edge's line offset. */
+/**
+ * What the locators of one file share: the bytes, the line offset of every 2^MARK_SHIFT-th edge,
+ * and the data lines the reader left out. An edge's line is found by walking on from the nearest
+ * mark (or from the edge located last, so locating edges in order costs one line each), skipping
+ * the lines the reader skipped: blank, comment and header lines and the left-out ones.
+ */
 class EdgeText {
   private readonly lines: ByteLines;
   private readonly sp: FieldSplitter;
+  /** The edge located last and the offset of its first field. */
+  private lastEdge = -1;
+  private lastStart = 0;
 
   constructor(
     private readonly b: Uint8Array,
     first: number,
     delim: number,
     private readonly dict: boolean,
-    /** Offset of each edge's first field. */
-    private readonly offsets: Uint32Array,
+    /** Offset of the header row's first byte, or -1. */
+    private readonly headerAt: number,
+    private readonly edges: number,
+    /** Offset of the first field of edge k·2^MARK_SHIFT. */
+    private readonly marks: Uint32Array,
+    /** Offsets of the first fields of data lines that were left out, ascending. */
+    private readonly dropped: Uint32Array,
   ) {
     this.lines = new ByteLines(b, first);
     this.sp = new FieldSplitter(delim);
   }
 
-  /** Bytes kept to answer: the whole buffer under the text, and the edge offsets. */
+  /** Bytes kept to answer: the whole buffer under the text, the marks and the left-out lines. */
   keptBytes(): number {
-    return this.b.buffer.byteLength + this.offsets.byteLength;
+    return this.b.buffer.byteLength + this.marks.byteLength + this.dropped.byteLength;
+  }
+
+  /** Offset of the first field of edge `edge` (0 ≤ edge < edges). */
+  private edgeStart(edge: number): number {
+    let k: number;
+    let p: number;
+    if (this.lastEdge >= 0 && this.lastEdge <= edge && this.lastEdge >>> MARK_SHIFT === edge >>> MARK_SHIFT) {
+      k = this.lastEdge;
+      p = this.lastStart;
+    } else {
+      k = edge & ~MARK_MASK;
+      p = this.marks[edge >>> MARK_SHIFT]!;
+    }
+    const b = this.b;
+    const n = b.length;
+    while (k < edge) {
+      // The next line the reader kept an edge from.
+      p = lineEndFrom(b, p, n) + 1;
+      const i = skipBlanks(b, p, n);
+      if (i >= n) break;
+      const c = b[i]!;
+      if (c === LF || c === HASH || c === PERCENT || i === this.headerAt || this.wasDropped(i)) continue;
+      p = i;
+      k++;
+    }
+    this.lastEdge = edge;
+    this.lastStart = p;
+    return p;
+  }
+
+  private wasDropped(i: number): boolean {
+    const d = this.dropped;
+    let lo = 0;
+    let hi = d.length;
+    while (lo < hi) {
+      const mid = (lo + hi) >>> 1;
+      if (d[mid]! < i) lo = mid + 1;
+      else hi = mid;
+    }
+    return lo < d.length && d[lo] === i;
   }
 
   fieldSpan(edge: number, field: number): TextSpan | undefined {
-    if (edge < 0 || edge >= this.offsets.length) return undefined;
+    if (edge < 0 || edge >= this.edges) return undefined;
     const b = this.b;
-    const start = this.offsets[edge]!;
+    const start = this.edgeStart(edge);
     const sp = this.sp;
     sp.split(b, start, b.length);
     if (this.dict && field === 2 && sp.count > 2) {
