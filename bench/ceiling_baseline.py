@@ -11,27 +11,19 @@ the graph-learning library's import path, as bench/datasets_make.py writes it (t
 """
 import argparse
 import json
+import os
 import sys
 import time
-import types
 from collections import Counter, defaultdict
 
 import networkx as nx
 import torch
 
-for n in ['torch_geometric', 'torch_geometric.data', 'torch_geometric.data.data']:
-    sys.modules.setdefault(n, types.ModuleType(n))
+# The stand-in data class of the fixture scripts (tests/fixtures/stand_in.py; the library is not used).
+sys.path.insert(0, os.path.join(os.path.dirname(os.path.abspath(__file__)), '..', 'tests', 'fixtures'))
+from stand_in import data_class  # noqa: E402
 
-
-class Data:
-    def __init__(self, **kw):
-        for k, v in kw.items():
-            setattr(self, k, v)
-
-
-Data.__module__ = 'torch_geometric.data.data'
-Data.__qualname__ = 'Data'
-sys.modules['torch_geometric.data.data'].Data = Data
+Data = data_class()
 
 
 def main():
