@@ -17,6 +17,7 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import * as fs from 'node:fs';
 import * as path from 'node:path';
+import { ORIGIN, servedPage } from './page';
 import { chromium, type Browser, type Page } from 'playwright-core';
 import { panelHtml } from '../../extension/src/panel-html';
 import { GraphStore } from '../../server/src/node/graph-store';
@@ -25,29 +26,17 @@ import type { PanelMessage, PanelRequest } from '../../common/panel-messages';
 import { typeColour } from '../../webview/src/panel-colours';
 
 const root = path.join(__dirname, '../..');
-const ORIGIN = 'https://hopscope.test';
 const fixtures = path.join(root, 'tests/fixtures');
 const typedExpected = JSON.parse(fs.readFileSync(path.join(fixtures, 'typed/expected.json'), 'utf8')) as Record<string, { fields: Array<{ layers: number; node: string; perHop: number[]; perHopByType: Record<string, number[]> }>; nodeTypes: Record<string, number> }>;
 const ceilingExpected = JSON.parse(fs.readFileSync(path.join(fixtures, 'ceiling/expected.json'), 'utf8')) as { karate: { uniform: Array<{ layers: number; ceiling: number }> } };
 let browser: Browser;
 
 async function openPanel(file: string, opts: { node: number; graph?: number; layers?: number }): Promise<{ page: Page; problems: string[] }> {
-  const page = await browser.newPage({ viewport: { width: 1200, height: 900 } });
-  const problems: string[] = [];
-  page.on('pageerror', (e) => problems.push(`page error: ${e.message}`));
-  page.on('console', (m) => { if (m.type() === 'error' || /Refused|Content Security Policy/i.test(m.text())) problems.push(`console: ${m.text()}`); });
   const html = panelHtml({
     cspSource: ORIGIN, nonce: 'testnonce0123456789',
     script: `${ORIGIN}/dist/webview/panel.js`, worker: `${ORIGIN}/dist/webview/panel-layout.js`, style: `${ORIGIN}/media/panel.css`,
   }).replace('<body>', '<body class="vscode-dark">');
-  await page.route(`${ORIGIN}/**`, async (route) => {
-    const url = new URL(route.request().url());
-    if (url.pathname === '/index.html') return route.fulfill({ contentType: 'text/html', body: html });
-    const local = path.join(root, url.pathname);
-    if (!local.startsWith(root) || !fs.existsSync(local)) return route.fulfill({ status: 404, body: '' });
-    return route.fulfill({ contentType: local.endsWith('.css') ? 'text/css' : 'text/javascript', body: fs.readFileSync(local) });
-  });
-  await page.route(/^(?!https:\/\/hopscope\.test\/).*/, (route) => route.abort());
+  const { page, problems } = await servedPage(browser, html);
   const store = new GraphStore();
   const key = graphKey(file, opts.graph);
   await page.exposeFunction('__hopscopeHost', (m: PanelRequest): PanelMessage | null => {

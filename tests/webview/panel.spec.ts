@@ -15,6 +15,7 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import * as fs from 'node:fs';
 import * as os from 'node:os';
 import * as path from 'node:path';
+import { ORIGIN, servedPage } from './page';
 import { chromium, type Browser, type Page } from 'playwright-core';
 import { panelHtml } from '../../extension/src/panel-html';
 import { AnalysisService } from '../../server/src/node/analysis-service';
@@ -23,7 +24,6 @@ import { expected as structureExpected } from '../unit/structure-fixtures';
 import { groupColour, hopColour, oklab, oklchHex, pairEdgeColour } from '../../webview/src/panel-colours';
 
 const root = path.join(__dirname, '../..');
-const ORIGIN = 'https://hopscope.test';
 const KARATE = path.join(root, 'tests/fixtures/graphs/karate.npy');
 const XSS = '<img src=x onerror=alert(1)>';
 const LANES = path.join(root, 'demo/lanes/lanes.csv');
@@ -80,26 +80,13 @@ interface Opened {
 }
 
 async function openPanel(o: HostOptions): Promise<Opened> {
-  const page = await browser.newPage({ viewport: o.viewport ?? { width: 1200, height: 900 } });
-  const problems: string[] = [];
-  page.on('dialog', (d) => { problems.push(`dialog: ${d.message()}`); void d.dismiss(); });
-  page.on('pageerror', (e) => problems.push(`page error: ${e.message}`));
-  page.on('console', (m) => { if (m.type() === 'error' || /Refused|Content Security Policy/i.test(m.text())) problems.push(`console: ${m.text()}`); });
   const svc = new AnalysisService();
   const nonce = 'testnonce0123456789';
   const html = panelHtml({
     cspSource: ORIGIN, nonce,
     script: `${ORIGIN}/dist/webview/panel.js`, worker: `${ORIGIN}/dist/webview/panel-layout.js`, style: `${ORIGIN}/media/panel.css`,
   }).replace('<body>', `<body class="${o.bodyClass ?? 'vscode-light'}">`);
-  await page.route(`${ORIGIN}/**`, async (route) => {
-    const url = new URL(route.request().url());
-    if (url.pathname === '/index.html') return route.fulfill({ contentType: 'text/html', body: html });
-    if (o.noWorker && url.pathname.endsWith('panel-layout.js')) return route.fulfill({ status: 404, body: 'missing' });
-    const local = path.join(root, url.pathname);
-    if (!local.startsWith(root) || !fs.existsSync(local)) return route.fulfill({ status: 404, body: '' });
-    return route.fulfill({ contentType: local.endsWith('.css') ? 'text/css' : 'text/javascript', body: fs.readFileSync(local) });
-  });
-  await page.route(/^(?!https:\/\/hopscope\.test\/).*/, (route) => route.abort());
+  const { page, problems } = await servedPage(browser, html, { ...(o.viewport ? { viewport: o.viewport } : {}), ...(o.noWorker ? { missing: (p: string) => p.endsWith('panel-layout.js') } : {}) });
 
   // The fake host: what extension/src/panel.ts does, with the analysis service in place of the server.
   await page.exposeFunction('__hopscopeHost', (m: PanelRequest): PanelMessage | null => {

@@ -14,6 +14,7 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import * as fs from 'node:fs';
 import * as path from 'node:path';
+import { ORIGIN, servedPage } from './page';
 import { chromium, type Browser, type Page } from 'playwright-core';
 import { webviewPage } from '../../extension/src/webview-page';
 import { packColumn } from '../../common/columns';
@@ -23,7 +24,6 @@ import type { FileReport } from '../../common/report';
 import type { CeilingResult } from '../../common/ceiling';
 
 const root = path.join(__dirname, '../..');
-const ORIGIN = 'https://hopscope.test';
 const XSS = '<img src=x onerror=alert(1)>';
 let browser: Browser;
 
@@ -51,22 +51,10 @@ function report(extra: Partial<FileReport>): FileReport {
 }
 
 async function openViewer(summaryReport: FileReport, table: DatasetTable | null, ceiling: CeilingResult | null = null): Promise<{ page: Page; problems: string[]; posted: ViewerRequest[] }> {
-  const page = await browser.newPage({ viewport: { width: 1200, height: 900 } });
-  const problems: string[] = [];
   const posted: ViewerRequest[] = [];
-  page.on('dialog', (d) => { problems.push(`dialog: ${d.message()}`); void d.dismiss(); });
-  page.on('pageerror', (e) => problems.push(`page error: ${e.message}`));
-  page.on('console', (m) => { if (m.type() === 'error' || /Refused|Content Security Policy/i.test(m.text())) problems.push(`console: ${m.text()}`); });
   const html = webviewPage({ cspSource: ORIGIN, nonce: 'viewernonce0123', script: `${ORIGIN}/dist/webview/viewer.js`, style: `${ORIGIN}/media/viewer.css`, title: 'Tensor viewer' })
     .replace('<body>', '<body class="vscode-dark">');
-  await page.route(`${ORIGIN}/**`, async (route) => {
-    const url = new URL(route.request().url());
-    if (url.pathname === '/index.html') return route.fulfill({ contentType: 'text/html', body: html });
-    const local = path.join(root, url.pathname);
-    if (!local.startsWith(root) || !fs.existsSync(local)) return route.fulfill({ status: 404, body: '' });
-    return route.fulfill({ contentType: local.endsWith('.css') ? 'text/css' : 'text/javascript', body: fs.readFileSync(local) });
-  });
-  await page.route(/^(?!https:\/\/hopscope\.test\/).*/, (route) => route.abort());
+  const { page, problems } = await servedPage(browser, html);
   await page.exposeFunction('__viewerHost', (m: ViewerRequest): ViewerMessage | null => {
     posted.push(m);
     switch (m.type) {

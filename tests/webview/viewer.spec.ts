@@ -11,6 +11,7 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import * as fs from 'node:fs';
 import * as os from 'node:os';
 import * as path from 'node:path';
+import { ORIGIN, servedPage } from './page';
 import { chromium, type Browser, type Page } from 'playwright-core';
 import { webviewPage } from '../../extension/src/webview-page';
 import { GraphStore } from '../../server/src/node/graph-store';
@@ -18,26 +19,13 @@ import type { ViewerMessage, ViewerRequest } from '../../common/viewer-messages'
 import type { FileSummary } from '../../common/protocol';
 
 const root = path.join(__dirname, '../..');
-const ORIGIN = 'https://hopscope.test';
 let browser: Browser;
 let tmp: string;
 
 async function openViewer(file: string): Promise<{ page: Page; problems: string[] }> {
-  const page = await browser.newPage({ viewport: { width: 1200, height: 900 } });
-  const problems: string[] = [];
-  page.on('dialog', (d) => { problems.push(`dialog: ${d.message()}`); void d.dismiss(); });
-  page.on('pageerror', (e) => problems.push(`page error: ${e.message}`));
-  page.on('console', (m) => { if (m.type() === 'error' || /Refused|Content Security Policy/i.test(m.text())) problems.push(`console: ${m.text()}`); });
   const html = webviewPage({ cspSource: ORIGIN, nonce: 'viewernonce0123', script: `${ORIGIN}/dist/webview/viewer.js`, style: `${ORIGIN}/media/viewer.css`, title: 'Tensor viewer' })
     .replace('<body>', '<body class="vscode-dark">');
-  await page.route(`${ORIGIN}/**`, async (route) => {
-    const url = new URL(route.request().url());
-    if (url.pathname === '/index.html') return route.fulfill({ contentType: 'text/html', body: html });
-    const local = path.join(root, url.pathname);
-    if (!local.startsWith(root) || !fs.existsSync(local)) return route.fulfill({ status: 404, body: '' });
-    return route.fulfill({ contentType: local.endsWith('.css') ? 'text/css' : 'text/javascript', body: fs.readFileSync(local) });
-  });
-  await page.route(/^(?!https:\/\/hopscope\.test\/).*/, (route) => route.abort());
+  const { page, problems } = await servedPage(browser, html);
   const svc = new GraphStore();
   svc.check({ paths: [path.dirname(file)] });
   await page.exposeFunction('__viewerHost', (m: ViewerRequest): ViewerMessage | null => {
