@@ -18,6 +18,7 @@ import { offsetsFault } from '../../server/src/core/datasets/read-common';
 import type { Dataset } from '../../server/src/core/datasets/model';
 import type { FileReport, Problem } from '../../common/report';
 import * as os from 'node:os';
+import * as zlib from 'node:zlib';
 import { encodeNpyInt64 } from '../../server/src/core/formats/npy-write';
 
 const dir = path.join(__dirname, '../fixtures/datasets');
@@ -214,6 +215,33 @@ describe('a dataset declared in hopscope.json', () => {
       expect(checkPaths([tmp]).manifestProblems[0]!.problem.message).toMatch(/gone\.npy \(nodeOffsets\) was not found/);
       fs.writeFileSync(path.join(tmp, 'hopscope.json'), JSON.stringify({ graphs: [{ edges: 'links.npy', nodeCounts: 'cuts.npy' }] }));
       expect(checkPaths([tmp]).manifestProblems[0]!.problem.message).toMatch(/nodeCounts needs "edgeCounts"/);
+    } finally {
+      fs.rmSync(tmp, { recursive: true, force: true });
+    }
+  });
+
+  // The CSV fixture's tables (written from NetworkX graphs by make_dataset_fixtures.py, local ids)
+  // saved as .npy under names that say nothing: "nodeCounts" + "edgeCounts" give the same graphs
+  // as the folder, per NetworkX's counts in expected.json; counts that do not add up are refused.
+  it('"nodeCounts" + "edgeCounts" with local edge ids read as the CSV folder reads its count files', () => {
+    const tmp = fs.mkdtempSync(path.join(os.tmpdir(), 'hopscope-ds-counts-'));
+    const table = (name: string): number[][] => zlib.gunzipSync(fs.readFileSync(path.join(dir, 'csv/raw', name))).toString('utf8')
+      .trim().split('\n').map((l) => l.split(',').map(Number));
+    try {
+      const edges = table('edge.csv.gz');
+      const nodes = table('num-node-list.csv.gz').map((r) => r[0]!);
+      const entries = table('num-edge-list.csv.gz').map((r) => r[0]!);
+      fs.writeFileSync(path.join(tmp, 'links.npy'), encodeNpyInt64([edges.length, 2], edges.flat()));
+      fs.writeFileSync(path.join(tmp, 'n.npy'), encodeNpyInt64([nodes.length], nodes));
+      fs.writeFileSync(path.join(tmp, 'e.npy'), encodeNpyInt64([entries.length], entries));
+      fs.writeFileSync(path.join(tmp, 'hopscope.json'), JSON.stringify({ graphs: [{ edges: 'links.npy', nodeCounts: 'n.npy', edgeCounts: 'e.npy' }] }));
+      const r = checkPaths([tmp]);
+      const ds = r.datasets!.find((d) => d.dataset)!.dataset!;
+      expect(ds.layout).toBe('manifest');
+      expectShape(ds, expected['csv/raw/edge.csv.gz']);
+      fs.writeFileSync(path.join(tmp, 'e.npy'), encodeNpyInt64([entries.length], entries.map((c, g) => (g === 0 ? c + 1 : c))));
+      const bad = checkPaths([tmp]).files.find((f) => f.path.endsWith('e.npy'))!;
+      expect(problemOf(bad, 'bad-graph-offsets').message).toMatch(/add up to \d+ but links has \d+ edges/);
     } finally {
       fs.rmSync(tmp, { recursive: true, force: true });
     }

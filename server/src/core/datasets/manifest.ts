@@ -14,8 +14,9 @@
  */
 import type { DenseTensor, Tensor } from '../formats/types';
 import type { Dataset } from './model';
-import { columnOf, denseOf, endpoints, offsetsFault, problem, tableShape, type FiledProblem } from './read-common';
+import { columnOf, denseOf, problem } from './read-common';
 import { readBatch } from './read-batch';
+import { datasetFromCounts } from './read-counts';
 import type { FoundDataset } from './read-slices';
 
 export type Ref = { file: string; tensor?: string };
@@ -112,7 +113,10 @@ export function datasetFromManifest(name: string, d: DatasetManifestGraph, looku
       ...(labels && !graphLabels ? { labels } : {}),
     });
   } else {
-    found = fromCounts(edges, nodeCounts!, edgeCounts!);
+    found = datasetFromCounts(edges, nodeCounts!, edgeCounts!, {
+      layout: 'manifest', files: [edges.file, nodeCounts!.file, edgeCounts!.file],
+      edgeShape: `${edges.tensor.name} has shape [${edges.tensor.shape.join(', ')}]; edges are 2 × E or E × 2.`,
+    });
     if (found.dataset && features) found.dataset.nodeFeatures = columnOf(features.file, features.tensor);
     if (found.dataset && edgeFeatures) found.dataset.edgeFeatures = columnOf(edgeFeatures.file, edgeFeatures.tensor);
   }
@@ -147,40 +151,4 @@ export function datasetFromManifest(name: string, d: DatasetManifestGraph, looku
     if (Object.keys(splits).length) ds.splits = splits;
   }
   return { found, missing };
-}
-
-/** Counts per graph, edge ids local to each graph. */
-function fromCounts(edges: { file: string; tensor: DenseTensor }, nn: { file: string; tensor: DenseTensor }, ne: { file: string; tensor: DenseTensor }): FoundDataset {
-  const problems: FiledProblem[] = [];
-  const found: FoundDataset = { files: [edges.file, nn.file, ne.file], problems };
-  const ends = endpoints(edges.tensor);
-  if (!ends) {
-    problems.push({ file: edges.file, problem: problem('edge-shape', `${edges.tensor.name} has shape [${edges.tensor.shape.join(', ')}]; edges are 2 × E or E × 2.`, { tensor: edges.tensor.name }) });
-    return found;
-  }
-  const cum = (p: { file: string; tensor: DenseTensor }, total: number | undefined, what: string) => {
-    const d = p.tensor.data;
-    const off = new Float64Array(d.length + 1);
-    for (let g = 0; g < d.length; g++) off[g + 1] = off[g]! + d[g]!;
-    const fault = offsetsFault(off, total ?? off[d.length]!);
-    if (fault || tableShape(p.tensor)[1] !== 1) {
-      problems.push({ file: p.file, problem: problem('bad-graph-offsets',
-        `The ${what} counts ${p.tensor.name} do not cut the dataset into graphs: ${fault ?? 'they are not one count per graph'} (a count below 0 makes an offset go down). The graphs cannot be told apart.`,
-        { tensor: p.tensor.name }) });
-      return undefined;
-    }
-    return off;
-  };
-  const nodeOffsets = cum(nn, undefined, 'node');
-  const edgeOffsets = cum(ne, ends.src.length, 'edge');
-  if (!nodeOffsets || !edgeOffsets) return found;
-  if (nodeOffsets.length !== edgeOffsets.length) {
-    problems.push({ file: ne.file, problem: problem('bad-graph-offsets', `${nn.tensor.name} counts ${nodeOffsets.length - 1} graphs but ${ne.tensor.name} counts ${edgeOffsets.length - 1}.`, { tensor: ne.tensor.name }) });
-    return found;
-  }
-  found.dataset = {
-    structureFile: edges.file, files: found.files, layout: 'manifest', graphs: nodeOffsets.length - 1, nodeOffsets, edgeOffsets,
-    src: ends.src, dst: ends.dst, edgeTensor: { file: edges.file, tensor: edges.tensor.name, layout: ends.layout, ...(edges.tensor.locator ? { locator: edges.tensor.locator } : {}) },
-  };
-  return found;
 }

@@ -14,8 +14,9 @@
 import type { DenseTensor } from '../formats/types';
 import { dirOf } from '../paths';
 import type { Dataset } from './model';
-import { columnOf, denseOf, endpoints, problem, tableShape, type DatasetInputFile, type FiledProblem } from './read-common';
+import { columnOf, denseOf, endpoints, problem, tableShape, type DatasetInputFile } from './read-common';
 import { readBatch } from './read-batch';
+import { datasetFromCounts } from './read-counts';
 import type { FoundDataset } from './read-slices';
 import { csvPart, kernelPart, type CsvPart, type KernelPart } from './text-files';
 
@@ -104,53 +105,16 @@ function permute(col: Dataset['nodeFeatures'] & object, order: Int32Array) {
 function readCsv(parts: Map<CsvPart, { path: string; tensor: DenseTensor }>): FoundDataset | undefined {
   const e = parts.get('edge'), nn = parts.get('num-node-list'), ne = parts.get('num-edge-list');
   if (!e || !nn || !ne) return undefined;
-  const files = [...parts.values()].map((p) => p.path);
-  const problems: FiledProblem[] = [];
-  const found: FoundDataset = { files, problems };
-  const ends = endpoints(e.tensor);
-  if (!ends) {
-    problems.push({ file: e.path, problem: problem('edge-shape', `${e.tensor.name} has ${tableShape(e.tensor)[1]} values per line; the edge file of a per-dataset CSV folder holds one edge per line, "source,target".`) });
-    return found;
-  }
-  const counts = (p: { path: string; tensor: DenseTensor }, total: number | undefined, what: string): Float64Array | undefined => {
-    const d = p.tensor.data;
-    if (tableShape(p.tensor)[1] !== 1) {
-      problems.push({ file: p.path, problem: problem('bad-graph-offsets', `${p.tensor.name} has ${tableShape(p.tensor)[1]} values per line; it should hold one ${what} count per graph.`, { tensor: p.tensor.name }) });
-      return undefined;
-    }
-    const off = new Float64Array(d.length + 1);
-    for (let g = 0; g < d.length; g++) {
-      const c = d[g]!;
-      if (!(Number.isInteger(c) && c >= 0)) {
-        problems.push({ file: p.path, problem: problem('bad-graph-offsets', `${p.tensor.name} gives graph ${g} ${c} ${what}s (line ${g + 1}); counts are whole numbers from 0.`,
-          { tensor: p.tensor.name, locations: [{ tensor: p.tensor.name, index: g, graph: g }] }) });
-        return undefined;
-      }
-      off[g + 1] = off[g]! + c;
-    }
-    if (total !== undefined && off[d.length] !== total) {
-      problems.push({ file: p.path, problem: problem('bad-graph-offsets',
-        `The ${what} counts in ${p.tensor.name} add up to ${off[d.length]} but ${e.tensor.name} has ${total} ${what}s; the graphs' ${what}s cannot be told apart.`, { tensor: p.tensor.name }) });
-      return undefined;
-    }
-    return off;
-  };
-  const nodeOffsets = counts(nn, undefined, 'node');
-  const edgeOffsets = counts(ne, ends.src.length, 'edge');
-  if (!nodeOffsets || !edgeOffsets) return found;
-  if (nodeOffsets.length !== edgeOffsets.length) {
-    problems.push({ file: ne.path, problem: problem('bad-graph-offsets',
-      `${nn.tensor.name} counts ${nodeOffsets.length - 1} graphs but ${ne.tensor.name} counts ${edgeOffsets.length - 1}; both hold one line per graph.`, { tensor: ne.tensor.name }) });
-    return found;
-  }
-  const ds: Dataset = {
-    structureFile: e.path, files, layout: 'count-csv', graphs: nodeOffsets.length - 1, nodeOffsets, edgeOffsets,
-    src: ends.src, dst: ends.dst, edgeTensor: { file: e.path, tensor: e.tensor.name, layout: ends.layout, ...(e.tensor.locator ? { locator: e.tensor.locator } : {}) },
-  };
+  const part = (q: { path: string; tensor: DenseTensor }) => ({ file: q.path, tensor: q.tensor });
+  const found = datasetFromCounts(part(e), part(nn), part(ne), {
+    layout: 'count-csv', files: [...parts.values()].map((q) => q.path),
+    edgeShape: `${e.tensor.name} has ${tableShape(e.tensor)[1]} values per line; the edge file of a per-dataset CSV folder holds one edge per line, "source,target".`,
+  });
+  const ds = found.dataset;
+  if (!ds) return found;
   const gl = parts.get('graph-label'), nf = parts.get('node-feat'), ef = parts.get('edge-feat');
   if (gl) ds.graphLabels = columnOf(gl.path, gl.tensor);
   if (nf) ds.nodeFeatures = columnOf(nf.path, nf.tensor);
   if (ef) ds.edgeFeatures = columnOf(ef.path, ef.tensor);
-  found.dataset = ds;
   return found;
 }
