@@ -1,6 +1,6 @@
 // Bundles the entry points into dist/: extension host (cjs), language server (cjs), its check
 // worker and helper threads (cjs),
-// command line (cjs with a shebang) and webview (browser iife). Type checking is `npm run typecheck`.
+// command line (a small launcher with a shebang, and the command line's bundle) and webview (browser iife). Type checking is `npm run typecheck`.
 import * as esbuild from 'esbuild';
 import { existsSync } from 'node:fs';
 
@@ -22,7 +22,10 @@ const entries = [
   { ...common, entryPoints: ['server/src/lsp/server.ts'], outfile: 'dist/server.js', platform: 'node', format: 'cjs' },
   { ...common, entryPoints: ['server/src/node/worker.ts'], outfile: 'dist/worker.js', platform: 'node', format: 'cjs' },
   { ...common, entryPoints: ['server/src/node/helper-worker.ts'], outfile: 'dist/helper.js', platform: 'node', format: 'cjs' },
-  { ...common, entryPoints: ['server/src/cli.ts'], outfile: 'dist/cli.js', platform: 'node', format: 'cjs', banner: { js: '#!/usr/bin/env node' } },
+  // `hopscope` is the small launcher (cli-launch.ts); the command line itself is dist/cli-main.js,
+  // which the launcher requires (or runs in a second process started with huge pages).
+  { ...common, entryPoints: ['server/src/cli-launch.ts'], outfile: 'dist/cli.js', platform: 'node', format: 'cjs', banner: { js: '#!/usr/bin/env node' }, external: ['./cli-main.js'] },
+  { ...common, entryPoints: ['server/src/cli.ts'], outfile: 'dist/cli-main.js', platform: 'node', format: 'cjs' },
   { ...common, entryPoints: ['webview/src/viewer.ts'], outfile: 'dist/webview/viewer.js', platform: 'browser', format: 'iife', target: 'es2022' },
   { ...common, entryPoints: ['webview/src/panel.ts'], outfile: 'dist/webview/panel.js', platform: 'browser', format: 'iife', target: 'es2022' },
   { ...common, entryPoints: ['webview/src/panel-layout-worker.ts'], outfile: 'dist/webview/panel-layout.js', platform: 'browser', format: 'iife', target: 'es2022' },

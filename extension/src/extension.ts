@@ -10,6 +10,7 @@ import { registerInspect } from './debug/inspect';
 import {
   FixedCopyRequest, RecheckRequest, StatusNotification,
 } from '../../common/protocol';
+import { envWithHugePages } from '../../common/huge-pages';
 import { readServerSettings, type ServerSettings } from '../../common/settings';
 
 const GRAPH_GLOB = '**/*.{npy,npz,safetensors,pt,pth,mtx,edges,el,csv,tsv,txt,json,gz}';
@@ -63,7 +64,8 @@ export async function activate(context: vscode.ExtensionContext): Promise<void> 
 
   const serverModule = vscode.Uri.joinPath(context.extensionUri, 'dist', 'server.js').fsPath;
   const serverOptions: ServerOptions = {
-    run: { module: serverModule, transport: TransportKind.ipc },
+    // Huge pages for the server's malloc where it runs on node (common/huge-pages.ts).
+    run: { module: serverModule, transport: TransportKind.ipc, options: { env: envWithHugePages(process.env) } },
     debug: { module: serverModule, transport: TransportKind.ipc, options: { execArgv: ['--nolazy', '--inspect=6029'] } },
   };
   const clientOptions: LanguageClientOptions = {

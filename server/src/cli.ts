@@ -44,7 +44,9 @@ export function main(argv: string[], io: CliIo): number {
   return command.run(rest, io);
 }
 
-if (typeof require !== 'undefined' && typeof module !== 'undefined' && require.main === module) {
+/** Runs the command line on this process's arguments and streams (dist/cli.js calls this, in this
+ * process or in the second one it starts with huge pages). */
+export function runFromProcess(): void {
   useParallelPairBuilder();
   const code = main(process.argv.slice(2), {
     out: (s) => process.stdout.write(s),
@@ -53,3 +55,5 @@ if (typeof require !== 'undefined' && typeof module !== 'undefined' && require.m
   });
   process.exitCode = code;
 }
+
+if (typeof require !== 'undefined' && typeof module !== 'undefined' && require.main === module) runFromProcess();

@@ -1,0 +1,127 @@
+/**
+ * Whether the command line should run its command in a second process started with huge pages
+ * (common/huge-pages.ts says what they are and why): only on Linux with glibc and transparent huge
+ * pages in `madvise` mode, and only when the files named on the command line are large enough that
+ * the first-write faults saved outweigh a second process start. `HOPSCOPE_HUGE_PAGES=1` asks for it
+ * whatever the size. This file imports only node built-ins, common/huge-pages.ts and the list of
+ * skipped folders: the launcher loads it before the command line's bundle.
+ */
+import { readFileSync, readdirSync, statSync } from 'node:fs';
+import { join } from 'node:path';
+import { hugePagesSwitch, tunablesWithHugePages, HUGE_PAGES_SWITCH, type Env } from '../../../common/huge-pages';
+import { walkedDir } from './skipped-dirs';
+
+/** What the decision to start again looks at; every field is measured by `measureMachine`. */
+export interface RelaunchInputs {
+  platform: string;
+  env: Env;
+  /** The bracketed word of /sys/kernel/mm/transparent_hugepage/enabled, or null when unreadable. */
+  thpMode: string | null;
+  /** Whether this process runs on glibc (the tunable means nothing to other C libraries). */
+  glibc: boolean;
+  /** Bytes of the files named on the command line (folders walked, up to a cap). */
+  inputBytes: number;
+  /** Milliseconds the first writes to one fresh MiB took in this process. */
+  faultMsPerMiB: number;
+  /** Milliseconds this process took to start (what a second start costs again). */
+  startMs: number;
+}
+
+export interface RelaunchDecision { relaunch: boolean; why: string }
+
+/**
+ * How much fresh memory a check writes per input byte, roughly: a `.npy` edge index is narrowed
+ * to int32 ids (half its bytes) and then laid out twice more as the CSR pair; a text list keeps its
+ * bytes plus the ids and the CSR. 1.5 is the middle of what the bench graphs show (1.4 for the
+ * 10M `.npy`, 1.9 for the 10M-line text), an estimate and not a measurement of each file.
+ */
+export const FRESH_BYTES_PER_INPUT_BYTE = 1.5;
+/** Share of the fault cost huge pages remove (measured on the bench's 80 MB buffers: 277 → 87 ms). */
+export const FAULT_SHARE_SAVED = 0.7;
+/** Start again only when the saving is this many times the cost of the second start. */
+export const SAFETY_FACTOR = 1.5;
+/** Below this input size the probe itself is not worth running. */
+export const MIN_INPUT_BYTES = 8 * 2 ** 20;
+
+/** Whether to start this command line again with huge pages, and why (for `HOPSCOPE_HUGE_PAGES_DEBUG`). */
+export function decideRelaunch(i: RelaunchInputs): RelaunchDecision {
+  if (i.platform !== 'linux') return { relaunch: false, why: 'not Linux' };
+  const sw = hugePagesSwitch(i.env);
+  if (sw === 'off') return { relaunch: false, why: `${HUGE_PAGES_SWITCH} is off` };
+  if (tunablesWithHugePages(i.env.GLIBC_TUNABLES) === undefined) return { relaunch: false, why: 'GLIBC_TUNABLES already sets hugetlb' };
+  if (!i.glibc) return { relaunch: false, why: 'not glibc' };
+  if (i.thpMode !== 'madvise') return { relaunch: false, why: `transparent huge pages: ${i.thpMode ?? 'unknown'}` };
+  if (sw === 'on') return { relaunch: true, why: `${HUGE_PAGES_SWITCH} is on` };
+  const savedMs = (i.inputBytes / 2 ** 20) * FRESH_BYTES_PER_INPUT_BYTE * i.faultMsPerMiB * FAULT_SHARE_SAVED;
+  const relaunch = savedMs > SAFETY_FACTOR * i.startMs;
+  return { relaunch, why: `expected saving ${savedMs.toFixed(0)} ms against a ${i.startMs.toFixed(0)} ms start` };
+}
+
+/** The mode the kernel gives transparent huge pages (`always`, `madvise`, `never`), or null. */
+export function readThpMode(path = '/sys/kernel/mm/transparent_hugepage/enabled'): string | null {
+  try {
+    const m = /\[(\w+)\]/.exec(readFileSync(path, 'latin1'));
+    return m ? m[1] : null;
+  } catch { return null; }
+}
+
+/** Whether this process's C library is glibc: its mappings name libc.so.6 (musl's is ld-musl-*). */
+export function runsOnGlibc(): boolean {
+  try {
+    const maps = readFileSync('/proc/self/maps', 'latin1');
+    return /\/libc(\.so\.6|-2\.\d+\.so)\b/.test(maps);
+  } catch { return false; }
+}
+
+/** Milliseconds to write one fresh MiB: times the first writes to a fresh 2 MiB allocation
+ * (above malloc's mapping threshold, so its pages are new to the process). */
+export function probeFaultMsPerMiB(): number {
+  const buf = Buffer.allocUnsafeSlow(2 * 2 ** 20);
+  const t0 = process.hrtime.bigint();
+  for (let i = 0; i < buf.length; i += 4096) buf[i] = 1;
+  const ms = Number(process.hrtime.bigint() - t0) / 1e6;
+  return ms / 2;
+}
+
+/** Bytes of the existing files among `words` (folders walked depth-first, at most `maxEntries`
+ * entries, hidden and tool folders skipped; stops once `enough` bytes are found). Words that are
+ * not paths (options, numbers) count nothing. */
+export function inputBytes(words: readonly string[], enough = Infinity, maxEntries = 5000): number {
+  let total = 0;
+  let entries = 0;
+  const visit = (path: string): void => {
+    if (total >= enough || entries >= maxEntries) return;
+    entries++;
+    let st;
+    try { st = statSync(path, { throwIfNoEntry: false }); } catch { return; }
+    if (!st) return;
+    if (st.isFile()) { total += st.size; return; }
+    if (!st.isDirectory()) return;
+    let names: string[];
+    try { names = readdirSync(path); } catch { return; }
+    for (const name of names) {
+      if (!walkedDir(name)) continue;
+      visit(join(path, name));
+      if (total >= enough || entries >= maxEntries) return;
+    }
+  };
+  for (const w of words) if (!w.startsWith('-')) visit(w);
+  return total;
+}
+
+/** Everything `decideRelaunch` needs, measured in this process (the probe runs only when the
+ * inputs are large enough for it to matter). */
+export function measureMachine(words: readonly string[], env: Env = process.env): RelaunchInputs {
+  const platform = process.platform;
+  const startMs = process.uptime() * 1000;
+  const base: RelaunchInputs = { platform, env, thpMode: null, glibc: false, inputBytes: 0, faultMsPerMiB: 0, startMs };
+  if (platform !== 'linux' || hugePagesSwitch(env) === 'off' || tunablesWithHugePages(env.GLIBC_TUNABLES) === undefined) return base;
+  base.thpMode = readThpMode();
+  if (base.thpMode !== 'madvise') return base;
+  base.glibc = runsOnGlibc();
+  if (!base.glibc) return base;
+  if (hugePagesSwitch(env) === 'on') return base;
+  base.inputBytes = inputBytes(words, 4 * 2 ** 30);
+  if (base.inputBytes >= MIN_INPUT_BYTES) base.faultMsPerMiB = probeFaultMsPerMiB();
+  return base;
+}
