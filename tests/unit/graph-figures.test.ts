@@ -14,7 +14,8 @@ import * as path from 'node:path';
 import { readNpy } from '../../server/src/core/formats/npy';
 import { checkGraph } from '../../server/src/core/checks/graph-check';
 import { guessRole } from '../../server/src/core/checks/roles';
-import { analyseStructure, countComponentsCsr } from '../../server/src/core/graph/structure/figures';
+import { analyseStructure, countComponentsPair } from '../../server/src/core/graph/structure/figures';
+import { edgeListComponents } from './random';
 import { buildSortedPair, hasEdge, transpose, buildCsr } from '../../server/src/core/graph/structure/csr';
 import { DEFAULT_LIMITS, type DenseTensor } from '../../server/src/core/formats/types';
 
@@ -98,10 +99,38 @@ describe('CSR building blocks', () => {
   });
 
   it('counts weakly connected components including isolated nodes', () => {
-    expect(countComponentsCsr(buildCsr(5, Int32Array.from([0, 3]), Int32Array.from([1, 3])))).toBe(4);
-    expect(countComponentsCsr(buildCsr(0, new Int32Array(0), new Int32Array(0)))).toBe(0);
+    const count = (n: number, src: number[], dst: number[]): number => {
+      const pair = buildSortedPair(n, Int32Array.from(src), Int32Array.from(dst));
+      return countComponentsPair(pair.fwd, pair.rev);
+    };
+    expect(count(5, [0, 3], [1, 3])).toBe(4);
+    expect(count(0, [], [])).toBe(0);
     // Components join through in-edges too (weak connectivity): 2 → 0 and 2 → 1 make one.
-    expect(countComponentsCsr(buildCsr(3, Int32Array.from([2, 2]), Int32Array.from([0, 1])))).toBe(1);
+    expect(count(3, [2, 2], [0, 1])).toBe(1);
+    // Nodes with in-edges only, reached from a node of the large component only through them.
+    expect(count(6, [0, 1, 2, 3, 4], [1, 2, 0, 0, 5])).toBe(2);
+  });
+
+  it('counts components by sampling the large one exactly as a union-find over every entry does', () => {
+    // Shapes where skipping the large component's rows could go wrong: one giant part with small
+    // islands, in-only and out-only nodes, self-loops, repeats, several similar-sized parts, a
+    // large component that the evenly spaced samples split between two roots at first.
+    const rnd = seededRandom(77);
+    for (let t = 0; t < 60; t++) {
+      const n = 1 + rnd(3000);
+      const e = rnd(4 * n);
+      const parts = 1 + rnd(t % 3 === 0 ? 40 : 3);
+      const src = new Int32Array(e), dst = new Int32Array(e);
+      for (let k = 0; k < e; k++) {
+        const part = rnd(parts);
+        const lo = Math.floor((part * n) / parts), hi = Math.floor(((part + 1) * n) / parts);
+        const w = Math.max(1, hi - lo);
+        src[k] = Math.min(n - 1, lo + rnd(w));
+        dst[k] = k % 11 === 0 ? src[k]! : Math.min(n - 1, lo + rnd(w));
+      }
+      const pair = buildSortedPair(n, src, dst);
+      expect(countComponentsPair(pair.fwd, pair.rev)).toBe(edgeListComponents(n, src, dst));
+    }
   });
 
   it('a self-loop alone leaves a node isolated; the reverse of a self-loop is itself', () => {

@@ -5,7 +5,8 @@
 import * as path from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
 import { pairPlan, runPairStep, sequentialPair, setPairBuilder, sortedCsr, buildSortedPair } from '../../server/src/core/graph/structure/csr';
-import { countComponentsCsr } from '../../server/src/core/graph/structure/figures';
+import { countComponentsPair } from '../../server/src/core/graph/structure/figures';
+import { edgeListComponents } from './random';
 import { PARALLEL_MIN_EDGES, parallelPair, useParallelPairBuilder } from '../../server/src/node/pair-build';
 import { sharedInt32 } from '../../server/src/node/helper-thread';
 import { seededRandom } from './random';
@@ -50,8 +51,9 @@ describe('two-thread CSR build', () => {
       } else {
         expect(par.rev.indices.buffer).not.toBeInstanceOf(SharedArrayBuffer);
       }
-      const comps = countComponentsCsr(seq.fwd);
+      const comps = edgeListComponents(n, src, dst);
       expect(comps).toBeGreaterThan(100);
+      expect(countComponentsPair(seq.fwd, seq.rev)).toBe(comps);
       expect(par.components ? par.components() : comps).toBe(comps);
     }
   });
@@ -64,7 +66,7 @@ describe('two-thread CSR build', () => {
     const f = sortedCsr(n, src, dst), r = sortedCsr(n, dst, src);
     expect(same(par.fwd.indptr, f.indptr) && same(par.fwd.indices, f.indices)).toBe(true);
     expect(same(par.rev.indptr, r.indptr) && same(par.rev.indices, r.indices)).toBe(true);
-    expect(par.components!()).toBe(countComponentsCsr(f));
+    expect(par.components!()).toBe(edgeListComponents(n, src, dst));
   });
 
   it('the one-thread pair (three counting scatters) equals a bucketed sort of each direction', () => {

@@ -12,7 +12,7 @@
 import {
   PAIR_STEPS, pairOf, pairPlan, pairStepParts, runPairStep, sequentialPair, setPairBuilder, type PairBuild, type PairBuilder, type PairPlan,
 } from '../core/graph/structure/csr';
-import { countComponentsCsr } from '../core/graph/structure/figures';
+import { countComponentsPair } from '../core/graph/structure/figures';
 import { dropHelper, getHelper, setHelperScript, sharedInt32 } from './helper-thread';
 
 /** Below this many edge entries the second thread is not worth its start-up (~30 ms). */
@@ -95,12 +95,12 @@ export const parallelPair: PairBuilder = (n, src, dst, opts) => {
   }
   const result: PairBuild = pairOf(job.plan);
   if (job.components) {
-    const fwd = result.fwd;
+    const { fwd, rev } = result;
     result.components = () => {
       // Counted here when the helper has not taken it; else its count, once ready.
-      if (Atomics.add(control, COMP_CLAIM, 1) === 0) return countComponentsCsr(fwd);
+      if (Atomics.add(control, COMP_CLAIM, 1) === 0) return countComponentsPair(fwd, rev);
       if (waitAtLeast(control, COMP_DONE, 1, Date.now() + job.patienceMs)) return Atomics.load(control, COMPONENTS);
-      return countComponentsCsr(fwd);
+      return countComponentsPair(fwd, rev);
     };
   }
   return result;
@@ -121,8 +121,8 @@ export function runPairJob(job: PairJob): void {
   try {
     if (!runSteps(job)) return;
     if (job.components && Atomics.add(control, COMP_CLAIM, 1) === 0) {
-      const { n, fwdIndptr, fwdIndices } = job.plan;
-      Atomics.store(control, COMPONENTS, countComponentsCsr({ n, indptr: fwdIndptr, indices: fwdIndices }));
+      const { fwd, rev } = pairOf(job.plan);
+      Atomics.store(control, COMPONENTS, countComponentsPair(fwd, rev));
       Atomics.store(control, COMP_DONE, 1);
       Atomics.notify(control, COMP_DONE);
     }

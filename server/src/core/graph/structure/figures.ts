@@ -75,36 +75,60 @@ export function analyseStructure(n: number, src: Int32Array, dst: Int32Array): S
       asymmetricPairs: asymmetric,
       distinctNonLoopPairs: distinctNonLoop,
       isolatedNodes: isolated,
-      components: build.components ? build.components() : countComponentsCsr(fwd),
+      components: build.components ? build.components() : countComponentsPair(fwd, rev),
     },
   };
 }
 
 /**
- * Weakly connected components by union-find with path halving, over a CSR with rows in node
- * order: the root of each row's node is found once per row, so half of the finds walk
- * sequentially through memory. Links the larger root under the smaller (deterministic).
+ * Weakly connected components from both CSR directions, skipping most of the edges of a graph
+ * with one large component (the sampling idea of Afforest, Sutton, Gawande and Bhattacharya,
+ * IPDPS 2018). First each node is linked to the first node of its forward row and of its reverse
+ * row; then the most common root among up to 1,024 evenly spaced nodes names the large component;
+ * last, every node not in it links along its whole forward and reverse rows, while the nodes in it
+ * are skipped. Skipping is safe because every edge u → v is in u's forward row and in v's reverse
+ * row: if both ends were skipped they were both in the large component already, and if one was
+ * not, that end's turn linked the edge (a node's set only grows, so one in the large component at
+ * its turn stays in it). About three random reads per node instead of one per edge entry (the
+ * union-find over every entry this replaced took 5 s of the 100M-entry check).
  */
-export function countComponentsCsr(g: Csr): number {
-  const { n, indptr, indices } = g;
+export function countComponentsPair(fwd: Csr, rev: Csr): number {
+  const { n } = fwd;
   const parent = new Int32Array(n);
   for (let i = 0; i < n; i++) parent[i] = i;
-  let components = n;
+  const find = (x: number): number => {
+    while (parent[x] !== x) { const g = parent[parent[x]!]!; parent[x] = g; x = g; }
+    return x;
+  };
+  const link = (a: number, b: number): void => {
+    const ra = find(a), rb = find(b);
+    if (ra < rb) parent[rb] = ra;
+    else if (rb < ra) parent[ra] = rb;
+  };
+  const fp = fwd.indptr, fi = fwd.indices, rp = rev.indptr, ri = rev.indices;
   for (let u = 0; u < n; u++) {
-    const end = indptr[u + 1]!;
-    let p = indptr[u]!;
-    if (p === end) continue;
-    let ru = u;
-    while (parent[ru] !== ru) { const g2 = parent[parent[ru]!]!; parent[ru] = g2; ru = g2; }
-    for (; p < end; p++) {
-      let rv = indices[p]!;
-      while (parent[rv] !== rv) { const g2 = parent[parent[rv]!]!; parent[rv] = g2; rv = g2; }
-      if (rv === ru) continue;
-      if (ru < rv) parent[rv] = ru;
-      else { parent[ru] = rv; ru = rv; }
-      components--;
-    }
+    if (fp[u + 1]! > fp[u]!) link(u, fi[fp[u]!]!);
+    if (rp[u + 1]! > rp[u]!) link(u, ri[rp[u]!]!);
   }
+  // The large component: the most common root among evenly spaced samples.
+  const samples = Math.min(n, 1024);
+  const roots = new Int32Array(samples);
+  for (let k = 0; k < samples; k++) roots[k] = find(Math.floor((k * n) / samples));
+  roots.sort();
+  let big = -1, best = 0;
+  for (let k = 0; k < samples;) {
+    let j = k;
+    while (j < samples && roots[j] === roots[k]) j++;
+    if (j - k > best) { best = j - k; big = roots[k]!; }
+    k = j;
+  }
+  for (let u = 0; u < n; u++) {
+    if (big >= 0 && find(u) === find(big)) continue;
+    for (let p = fp[u]!, end = fp[u + 1]!; p < end; p++) link(u, fi[p]!);
+    for (let p = rp[u]!, end = rp[u + 1]!; p < end; p++) link(u, ri[p]!);
+  }
+  let components = 0;
+  for (let i = 0; i < n; i++) if (parent[i] === i) components++;
   return components;
 }
 
