@@ -8,9 +8,12 @@
 //      workspace, and node-id hovers on a small open edge list are sent one at a time (20 ms apart)
 //      until the large file's diagnostics are published; p50/p95/max of their latency.
 //
+// The server is started as the extension starts it: with huge pages asked of glibc
+// (common/huge-pages.ts; `--no-huge-pages` starts it without, for a before/after).
+//
 // Figures, never a test: exit status 1 only when the server failed or never answered.
 //
-//   node bench/editor.mjs [--saves 5] [--small-edges 1m] [--large-edges 10m] [--server dist/server.js] [--keep]
+//   node bench/editor.mjs [--saves 5] [--small-edges 1m] [--large-edges 10m] [--server dist/server.js] [--no-huge-pages] [--keep]
 import { spawn } from 'node:child_process';
 import * as fs from 'node:fs';
 import { createRequire } from 'node:module';
@@ -53,7 +56,15 @@ const LARGE = 'ride_log_10m.edges';
 fs.copyFileSync(smallTxt, abs(SAVED));
 const savedText = fs.readFileSync(abs(SAVED));
 
-const child = spawn(process.execPath, [SERVER, '--stdio'], { stdio: ['pipe', 'pipe', 'inherit'] });
+// extension/src/extension.ts starts the server with envWithHugePages(process.env): on Linux,
+// GLIBC_TUNABLES gains glibc.malloc.hugetlb=1 unless HOPSCOPE_HUGE_PAGES is off or the caller set it.
+const HUGE = !process.argv.includes('--no-huge-pages');
+const serverEnv = { ...process.env };
+if (HUGE && process.platform === 'linux' && !/(^|:)glibc\.malloc\.hugetlb=/.test(serverEnv.GLIBC_TUNABLES ?? '')) {
+  serverEnv.GLIBC_TUNABLES = serverEnv.GLIBC_TUNABLES ? `${serverEnv.GLIBC_TUNABLES}:glibc.malloc.hugetlb=1` : 'glibc.malloc.hugetlb=1';
+}
+log(`server environment: GLIBC_TUNABLES=${serverEnv.GLIBC_TUNABLES ?? '(unset)'}`);
+const child = spawn(process.execPath, [SERVER, '--stdio'], { stdio: ['pipe', 'pipe', 'inherit'], env: serverEnv });
 let exited = null;
 child.on('exit', (code, sig) => { exited = `exit ${code ?? sig}`; });
 child.stdin.on('error', () => {});
