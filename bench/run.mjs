@@ -71,6 +71,8 @@ const USAGE = `usage: node bench/run.mjs [options]
   --regen            regenerate the graphs even when bench/out has them
   --seed N           generator seed (default ${DEFAULT_SEED})
   --cli PATH         the CLI script to time (default dist/cli.js)
+  --no-huge-pages    run the CLI with HOPSCOPE_HUGE_PAGES=0 (one process, no huge pages;
+                     by default dist/cli.js decides, see server/src/node/relaunch.ts)
   --rss METHOD       how to take a child's peak RSS: time (/usr/bin/time, default when it
                      works) or proc (poll /proc/PID/status VmHWM)
   --help             this text`;
@@ -85,7 +87,7 @@ function parseSize(s) {
 }
 
 function parseArgs(argv) {
-  const o = { sizes: [1_000_000, 10_000_000], runs: 3, runsFixed: false, numpy: true, regen: false, seed: DEFAULT_SEED };
+  const o = { sizes: [1_000_000, 10_000_000], runs: 3, runsFixed: false, numpy: true, regen: false, seed: DEFAULT_SEED, hugePages: true };
   for (let i = 0; i < argv.length; i++) {
     const a = argv[i];
     const val = () => {
@@ -101,6 +103,7 @@ function parseArgs(argv) {
       if (!Number.isInteger(o.runs) || o.runs < 1) throw new Error('--runs needs a positive integer');
     } else if (a === '--no-numpy' || a === '--skip-numpy') o.numpy = false;
     else if (a === '--regen') o.regen = true;
+    else if (a === '--no-huge-pages') o.hugePages = false;
     else if (a === '--seed') o.seed = Number(val());
     else if (a === '--cli') CLI = resolve(val());
     else if (a === '--rss') {
@@ -143,6 +146,20 @@ function readVmHwmKiB(pid) {
   }
 }
 
+/** The largest VmHWM of a process and its descendants: dist/cli.js may run the check in a second
+ * process (huge pages, server/src/cli-launch.ts), whose peak is the one that matters (GNU time
+ * reports the same: ru_maxrss of the largest waited-for descendant). */
+function treeVmHwmKiB(pid) {
+  let best = readVmHwmKiB(pid);
+  let children = [];
+  try { children = readFileSync(`/proc/${pid}/task/${pid}/children`, 'utf8').trim().split(/\s+/).filter(Boolean); } catch { /* gone */ }
+  for (const c of children) {
+    const k = treeVmHwmKiB(Number(c));
+    if (k !== undefined) best = Math.max(best ?? 0, k);
+  }
+  return best;
+}
+
 let timeOutDir;
 
 /**
@@ -169,7 +186,7 @@ function measure(cmd, args, { env = process.env, rssMethod }) {
     let timer;
     if (rssMethod === 'proc-vmhwm') {
       timer = setInterval(() => {
-        const k = readVmHwmKiB(child.pid);
+        const k = treeVmHwmKiB(child.pid);
         if (k !== undefined) hwm = Math.max(hwm ?? 0, k);
       }, 5);
     }
@@ -422,7 +439,7 @@ async function main() {
       if (!haveCli) break;
       warmCache(f.path);
       const args = [CLI, 'check', f.path, '--json', '--directed', '--num-nodes', String(N), '--index-base', '0'];
-      const env = { ...process.env, HOPSCOPE_TIMINGS: '1' };
+      const env = { ...process.env, HOPSCOPE_TIMINGS: '1', ...(opts.hugePages ? {} : { HOPSCOPE_HUGE_PAGES: '0' }) };
       const runs = await runSeries(`hopscope ${basename(f.path)}`, opts.runs, async () =>
         parseHopscope(await measure(process.execPath, args, { env, rssMethod })),
       );
