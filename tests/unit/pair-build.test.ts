@@ -5,7 +5,7 @@
 import * as path from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
 import { pairPlan, runPairStep, sequentialPair, setPairBuilder, sortedCsr, buildSortedPair } from '../../server/src/core/graph/structure/csr';
-import { countComponentsPair } from '../../server/src/core/graph/structure/figures';
+import { countComponentsPair, rowFigures } from '../../server/src/core/graph/structure/figures';
 import { edgeListComponents } from './random';
 import { PARALLEL_MIN_EDGES, parallelPair, useParallelPairBuilder } from '../../server/src/node/pair-build';
 import { sharedInt32 } from '../../server/src/node/helper-thread';
@@ -39,8 +39,14 @@ describe('two-thread CSR build', () => {
     for (const share of [true, false]) {
       const n = 300_000, e = PARALLEL_MIN_EDGES + 12_345;
       const { src, dst } = randomGraph(n, e, share ? 11 : 12, share);
-      const par = buildSortedPair(n, src, dst, { components: true });
+      const par = buildSortedPair(n, src, dst, { components: true, rowFigures: true });
       const seq = sequentialPair(n, src, dst);
+      // The row figures, shared between the threads by node ranges, add up to one pass over all rows.
+      const rows = rowFigures(seq.fwd, seq.rev, 0, n);
+      expect(rows.duplicates).toBeGreaterThan(0);
+      expect(rows.asymmetric).toBeGreaterThan(0);
+      expect(par.rowFigures ? par.rowFigures() : rows).toEqual(rows);
+      if (share) expect(par.rowFigures).toBeTypeOf('function');
       expect(same(par.fwd.indptr, seq.fwd.indptr) && same(par.fwd.indices, seq.fwd.indices)).toBe(true);
       expect(same(par.rev.indptr, seq.rev.indptr) && same(par.rev.indices, seq.rev.indices)).toBe(true);
       // Inputs in shared memory are built with the helper, in shared memory; others on this thread

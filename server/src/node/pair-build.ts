@@ -1,8 +1,9 @@
 /**
  * Builds the forward and reverse CSR of large graphs on two threads over shared memory: each step
  * of the core's PairPlan is cut into two node ranges, this thread and the helper each take one
- * (whichever is free takes the next), and the helper then counts weakly connected components
- * while this thread computes the other figures. Same results as the core's `sequentialPair`; the core
+ * (whichever is free takes the next); then the helper takes the last 45 % of the rows' figures
+ * (figures.ts `rowFigures`) and counts weakly connected components while this thread does the
+ * rest of the rows and the other figures. Same results as the core's `sequentialPair`; the core
  * stays single-threaded and pure, this module only plugs a faster builder into it.
  *
  * The calling thread blocks in `Atomics.wait` (allowed in Node's main thread and in workers), so
@@ -12,7 +13,8 @@
 import {
   PAIR_STEPS, pairOf, pairPlan, pairStepParts, runPairStep, sequentialPair, setPairBuilder, type PairBuild, type PairBuilder, type PairPlan,
 } from '../core/graph/structure/csr';
-import { countComponentsPair } from '../core/graph/structure/figures';
+import { countComponentsPair, rowFigures } from '../core/graph/structure/figures';
+import type { RowFigures } from '../core/graph/structure/csr';
 import { dropHelper, getHelper, setHelperScript, sharedInt32 } from './helper-thread';
 
 /** Below this many edge entries the second thread is not worth its start-up (~30 ms). */
@@ -22,12 +24,16 @@ export const PARALLEL_MIN_EDGES = 1 << 20;
 const PARTS = 2;
 /**
  * Control words shared with the helper: per step a claim counter and a done counter, then the
- * components' claim, done flag and count, then a failure flag. A thread takes a part by
- * incrementing the step's claim counter, so whichever thread is free takes the next part: when the
- * helper is late (starting, or busy with an earlier job) this thread does every part itself.
+ * components' claim, done flag and count, then a failure flag, then the row figures' claim, done
+ * flag and four counts. A thread takes a part by incrementing its claim counter, so whichever
+ * thread is free takes the next part: when the helper is late (starting, or busy with an earlier
+ * job) this thread does every part itself.
  */
 const CLAIM = 0, DONE = PAIR_STEPS, COMP_CLAIM = 2 * PAIR_STEPS, COMP_DONE = COMP_CLAIM + 1, COMPONENTS = COMP_CLAIM + 2,
-  FAILED = COMP_CLAIM + 3, CONTROL_WORDS = COMP_CLAIM + 4;
+  FAILED = COMP_CLAIM + 3, ROWS_CLAIM = COMP_CLAIM + 4, ROWS_DONE = ROWS_CLAIM + 1, ROWS = ROWS_CLAIM + 2,
+  CONTROL_WORDS = ROWS + 4;
+/** Share of the entries whose rows' figures the helper takes (it also counts the components). */
+const HELPER_ROW_SHARE = 0.45;
 /** Added to a done counter when the helper fails, so a waiter wakes at once. */
 const FAIL_BUMP = 1 << 20;
 
@@ -36,7 +42,38 @@ export interface PairJob {
   plan: PairPlan;
   control: Int32Array;
   components: boolean;
+  rowFigures: boolean;
   patienceMs: number;
+}
+
+/** The first node of the helper's rows: the forward rows from it on hold about HELPER_ROW_SHARE of the entries. */
+function rowSplit(plan: PairPlan): number {
+  const { n, fwdIndptr } = plan;
+  const want = Math.floor(fwdIndptr[n]! * (1 - HELPER_ROW_SHARE));
+  let lo = 0, hi = n;
+  while (lo < hi) { const mid = (lo + hi) >>> 1; if (fwdIndptr[mid]! < want) lo = mid + 1; else hi = mid; }
+  return lo;
+}
+
+function storeRows(control: Int32Array, r: RowFigures): void {
+  Atomics.store(control, ROWS, r.duplicates);
+  Atomics.store(control, ROWS + 1, r.distinctNonLoop);
+  Atomics.store(control, ROWS + 2, r.asymmetric);
+  Atomics.store(control, ROWS + 3, r.isolated);
+}
+
+function loadRows(control: Int32Array): RowFigures {
+  return {
+    duplicates: Atomics.load(control, ROWS), distinctNonLoop: Atomics.load(control, ROWS + 1),
+    asymmetric: Atomics.load(control, ROWS + 2), isolated: Atomics.load(control, ROWS + 3),
+  };
+}
+
+function addRows(a: RowFigures, b: RowFigures): RowFigures {
+  return {
+    duplicates: a.duplicates + b.duplicates, distinctNonLoop: a.distinctNonLoop + b.distinctNonLoop,
+    asymmetric: a.asymmetric + b.asymmetric, isolated: a.isolated + b.isolated,
+  };
 }
 
 function isShared(a: Int32Array): boolean {
@@ -85,7 +122,7 @@ export const parallelPair: PairBuilder = (n, src, dst, opts) => {
   const control = sharedInt32(CONTROL_WORDS);
   const job: PairJob = {
     kind: 'pair', plan: pairPlan(n, src, dst, PARTS, sharedInt32), control,
-    components: opts?.components === true, patienceMs: patienceMs(e),
+    components: opts?.components === true, rowFigures: opts?.rowFigures === true, patienceMs: patienceMs(e),
   };
   w.postMessage(job);
   if (!runSteps(job)) {
@@ -94,6 +131,17 @@ export const parallelPair: PairBuilder = (n, src, dst, opts) => {
     return sequentialPair(n, src, dst, opts);
   }
   const result: PairBuild = pairOf(job.plan);
+  if (job.rowFigures) {
+    const { fwd, rev } = result;
+    result.rowFigures = () => {
+      const split = rowSplit(job.plan);
+      const mine = rowFigures(fwd, rev, 0, split);
+      // The helper's rows, counted here when it has not taken them; else its counts, once ready.
+      if (Atomics.add(control, ROWS_CLAIM, 1) === 0) return addRows(mine, rowFigures(fwd, rev, split, fwd.n));
+      if (waitAtLeast(control, ROWS_DONE, 1, Date.now() + job.patienceMs)) return addRows(mine, loadRows(control));
+      return addRows(mine, rowFigures(fwd, rev, split, fwd.n));
+    };
+  }
   if (job.components) {
     const { fwd, rev } = result;
     result.components = () => {
@@ -115,13 +163,18 @@ export function useParallelPairBuilder(script?: string): void {
   setPairBuilder(parallelPair);
 }
 
-/** The helper thread's side: the parts of each step it can take, then the components when not taken yet. */
+/** The helper thread's side: the parts of each step it can take, then its share of the row figures and the components, each when not taken yet. */
 export function runPairJob(job: PairJob): void {
   const { control } = job;
   try {
     if (!runSteps(job)) return;
+    const { fwd, rev } = pairOf(job.plan);
+    if (job.rowFigures && Atomics.add(control, ROWS_CLAIM, 1) === 0) {
+      storeRows(control, rowFigures(fwd, rev, rowSplit(job.plan), fwd.n));
+      Atomics.store(control, ROWS_DONE, 1);
+      Atomics.notify(control, ROWS_DONE);
+    }
     if (job.components && Atomics.add(control, COMP_CLAIM, 1) === 0) {
-      const { fwd, rev } = pairOf(job.plan);
       Atomics.store(control, COMPONENTS, countComponentsPair(fwd, rev));
       Atomics.store(control, COMP_DONE, 1);
       Atomics.notify(control, COMP_DONE);
@@ -131,5 +184,7 @@ export function runPairJob(job: PairJob): void {
     for (let s = 0; s < PAIR_STEPS; s++) { Atomics.add(control, DONE + s, FAIL_BUMP); Atomics.notify(control, DONE + s); }
     Atomics.add(control, COMP_DONE, FAIL_BUMP);
     Atomics.notify(control, COMP_DONE);
+    Atomics.add(control, ROWS_DONE, FAIL_BUMP);
+    Atomics.notify(control, ROWS_DONE);
   }
 }

@@ -116,13 +116,29 @@ export interface PairBuild {
   rev: Csr;
   /** Weakly connected components, when asked for and computed alongside the build. */
   components?: () => number;
+  /** The row figures of every node (figures.ts `rowFigures`), when asked for and shared with another thread. */
+  rowFigures?: () => RowFigures;
+}
+
+/** Counts read from both sorted directions row by row (figures.ts `rowFigures`). */
+export interface RowFigures {
+  duplicates: number;
+  distinctNonLoop: number;
+  asymmetric: number;
+  isolated: number;
+}
+
+/** What the caller of a PairBuilder will want besides the two directions (a builder may compute them alongside). */
+export interface PairExtras {
+  components?: boolean;
+  rowFigures?: boolean;
 }
 
 /**
- * Builds the forward and reverse CSR of src[k] → dst[k]. `components` says the caller will want
- * the weakly connected component count (a builder may compute it alongside).
+ * Builds the forward and reverse CSR of src[k] → dst[k]. `opts` says what else the caller will
+ * want (the component count, the row figures), which a builder may compute alongside.
  */
-export type PairBuilder = (n: number, src: Int32Array, dst: Int32Array, opts?: { components?: boolean }) => PairBuild;
+export type PairBuilder = (n: number, src: Int32Array, dst: Int32Array, opts?: PairExtras) => PairBuild;
 
 /**
  * The work of one sorted pair, in four steps that may each be cut into parts over node ranges (so
@@ -343,7 +359,7 @@ export function setPairBuilder(builder: PairBuilder | null): void {
 }
 
 /** Forward and reverse CSR, both with sorted rows, from an edge list (ids in [0, n)). */
-export function buildSortedPair(n: number, src: Int32Array, dst: Int32Array, opts?: { components?: boolean }): PairBuild {
+export function buildSortedPair(n: number, src: Int32Array, dst: Int32Array, opts?: PairExtras): PairBuild {
   return pairBuilder(n, src, dst, opts);
 }
 

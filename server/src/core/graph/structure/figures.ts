@@ -2,7 +2,7 @@
  * Whole-graph figures of a directed edge list: self-loops, duplicates, asymmetric pairs, isolated
  * nodes, weakly connected components. O(N + E) time, typed arrays only.
  */
-import { buildSortedPair, lowerBound, type Csr } from './csr';
+import { buildSortedPair, lowerBound, type Csr, type RowFigures } from './csr';
 import { timed } from '../../timing';
 import type { GraphFigures } from '../../../../../common/report';
 
@@ -26,18 +26,45 @@ export interface Structure {
 /** Ids in src/dst must already be in [0, n). */
 export function analyseStructure(n: number, src: Int32Array, dst: Int32Array): Structure {
   const e = src.length;
-  const build = timed('build', () => buildSortedPair(n, src, dst, { components: true }));
+  const build = timed('build', () => buildSortedPair(n, src, dst, { components: true, rowFigures: true }));
   const { fwd, rev } = build;
 
   let selfLoops = 0;
   for (let k = 0; k < e; k++) if (src[k] === dst[k]) selfLoops++;
 
+  const rows = build.rowFigures ? build.rowFigures() : rowFigures(fwd, rev, 0, n);
+  const { duplicates, distinctNonLoop, asymmetric, isolated } = rows;
+
+  return {
+    fwd,
+    rev,
+    figures: {
+      nodes: n,
+      edges: e,
+      directed: asymmetric > 0,
+      selfLoops,
+      duplicateEdges: duplicates,
+      asymmetricPairs: asymmetric,
+      distinctNonLoopPairs: distinctNonLoop,
+      isolatedNodes: isolated,
+      components: build.components ? build.components() : countComponentsPair(fwd, rev),
+    },
+  };
+}
+
+/**
+ * The figures read row by row from both sorted directions, over the nodes [lo, hi): repeated
+ * entries, distinct (u, v) with u ≠ v, those without their reverse, and isolated nodes (no edge to
+ * or from another node). Ranges add up: a builder may share the rows between threads
+ * (node/pair-build.ts) and sum the parts.
+ */
+export function rowFigures(fwd: Csr, rev: Csr, lo: number, hi: number): RowFigures {
   let duplicates = 0;
   let distinctNonLoop = 0;
   let asymmetric = 0;
   let isolated = 0;
   const fp = fwd.indptr, fi = fwd.indices, rp = rev.indptr, ri = rev.indices;
-  for (let u = 0; u < n; u++) {
+  for (let u = lo; u < hi; u++) {
     const fEnd = fp[u + 1]!;
     const rEnd = rp[u + 1]!;
     let r = rp[u]!;
@@ -62,22 +89,7 @@ export function analyseStructure(n: number, src: Int32Array, dst: Int32Array): S
       if (!incident) isolated++;
     }
   }
-
-  return {
-    fwd,
-    rev,
-    figures: {
-      nodes: n,
-      edges: e,
-      directed: asymmetric > 0,
-      selfLoops,
-      duplicateEdges: duplicates,
-      asymmetricPairs: asymmetric,
-      distinctNonLoopPairs: distinctNonLoop,
-      isolatedNodes: isolated,
-      components: build.components ? build.components() : countComponentsPair(fwd, rev),
-    },
-  };
+  return { duplicates, distinctNonLoop, asymmetric, isolated };
 }
 
 /**
