@@ -12,7 +12,7 @@ import * as os from 'node:os';
 import * as path from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
 import { envWithHugePages, tunablesWithHugePages, HUGE_PAGES_TUNABLE } from '../../common/huge-pages';
-import { decideRelaunch, inputBytes, readThpMode, runsOnGlibc, type RelaunchInputs } from '../../server/src/node/relaunch';
+import { decideRelaunch, expectedSavingMs, inputBytes, measureMachine, readThpMode, runsOnGlibc, type RelaunchInputs } from '../../server/src/node/relaunch';
 
 const root = path.join(__dirname, '../..');
 const tmp = fs.mkdtempSync(path.join(os.tmpdir(), 'hopscope-huge-'));
@@ -61,6 +61,21 @@ describe('whether the command line starts a second process', () => {
   it('always when asked with HOPSCOPE_HUGE_PAGES=1, where the machine can', () => {
     expect(decideRelaunch({ ...base, inputBytes: 0, env: { HOPSCOPE_HUGE_PAGES: '1' } }).relaunch).toBe(true);
     expect(decideRelaunch({ ...base, thpMode: 'never', env: { HOPSCOPE_HUGE_PAGES: '1' } }).relaunch).toBe(false);
+  });
+});
+
+describe('the estimate and the probe', () => {
+  it('expects a saving in proportion to the input and the fault cost', () => {
+    // 160 MB at 3.4 ms/MiB: 152.6 MiB × 1.5 fresh bytes per input byte × 3.4 × 0.7 saved.
+    expect(expectedSavingMs(160e6, 3.4)).toBeCloseTo((160e6 / 2 ** 20) * 1.5 * 3.4 * 0.7, 6);
+    expect(expectedSavingMs(0, 3.4)).toBe(0);
+  });
+  it('does not probe the fault cost for inputs too small to pay for a second start at any likely cost', () => {
+    const small = path.join(tmp, 'small.npy');
+    fs.writeFileSync(small, Buffer.alloc(4096));
+    const m = measureMachine([small], {});
+    expect(m.faultMsPerMiB).toBe(0);
+    expect(decideRelaunch(m).relaunch).toBe(false);
   });
 });
 

@@ -40,8 +40,14 @@ export const FRESH_BYTES_PER_INPUT_BYTE = 1.5;
 export const FAULT_SHARE_SAVED = 0.7;
 /** Start again only when the saving is this many times the cost of the second start. */
 export const SAFETY_FACTOR = 1.5;
-/** Below this input size the probe itself is not worth running. */
-export const MIN_INPUT_BYTES = 8 * 2 ** 20;
+/** A pessimistic cost of first writes, ms per MiB (the bench's virtual machine: 3.4): when even
+ * this would not pay for a second start, the probe is not run and nothing is started. */
+export const MAX_FAULT_MS_PER_MIB = 8;
+
+/** Milliseconds the huge pages would save on these inputs at this fault cost (an estimate). */
+export function expectedSavingMs(inputBytes: number, faultMsPerMiB: number): number {
+  return (inputBytes / 2 ** 20) * FRESH_BYTES_PER_INPUT_BYTE * faultMsPerMiB * FAULT_SHARE_SAVED;
+}
 
 /** Whether to start this command line again with huge pages, and why (for `HOPSCOPE_HUGE_PAGES_DEBUG`). */
 export function decideRelaunch(i: RelaunchInputs): RelaunchDecision {
@@ -52,7 +58,7 @@ export function decideRelaunch(i: RelaunchInputs): RelaunchDecision {
   if (!i.glibc) return { relaunch: false, why: 'not glibc' };
   if (i.thpMode !== 'madvise') return { relaunch: false, why: `transparent huge pages: ${i.thpMode ?? 'unknown'}` };
   if (sw === 'on') return { relaunch: true, why: `${HUGE_PAGES_SWITCH} is on` };
-  const savedMs = (i.inputBytes / 2 ** 20) * FRESH_BYTES_PER_INPUT_BYTE * i.faultMsPerMiB * FAULT_SHARE_SAVED;
+  const savedMs = expectedSavingMs(i.inputBytes, i.faultMsPerMiB);
   const relaunch = savedMs > SAFETY_FACTOR * i.startMs;
   return { relaunch, why: `expected saving ${savedMs.toFixed(0)} ms against a ${i.startMs.toFixed(0)} ms start` };
 }
@@ -122,6 +128,6 @@ export function measureMachine(words: readonly string[], env: Env = process.env)
   if (!base.glibc) return base;
   if (hugePagesSwitch(env) === 'on') return base;
   base.inputBytes = inputBytes(words, 4 * 2 ** 30);
-  if (base.inputBytes >= MIN_INPUT_BYTES) base.faultMsPerMiB = probeFaultMsPerMiB();
+  if (expectedSavingMs(base.inputBytes, MAX_FAULT_MS_PER_MIB) > SAFETY_FACTOR * startMs) base.faultMsPerMiB = probeFaultMsPerMiB();
   return base;
 }
