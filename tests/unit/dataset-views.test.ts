@@ -12,7 +12,8 @@ import * as os from 'node:os';
 import * as path from 'node:path';
 import { GraphStore } from '../../server/src/node/graph-store';
 import { graphKey, parseGraphKey } from '../../server/src/node/graph-key';
-import { problemsPerGraph } from '../../server/src/node/dataset-views';
+import { datasetsFor, problemsPerGraph } from '../../server/src/node/dataset-views';
+import { ceilingAnswer } from '../../server/src/node/ceiling-input';
 import { unpackColumn } from '../../common/columns';
 import type { DatasetTable, FieldViewPayload } from '../../common/protocol';
 
@@ -33,6 +34,28 @@ describe('dataset views', () => {
     for (let c = 0; c < 10; c++) expect(codes.filter((x) => x === c).length).toBe(15);
     expect(t.split).toBeNull();
     expect(Array.from(unpackColumn(t.problems)).every((x) => x === 0)).toBe(true);
+  });
+
+  it('the datasets of a file are read once while its files are unchanged, and the ceiling takes them as found', () => {
+    const dir = fs.mkdtempSync(path.join(os.tmpdir(), 'hopscope-dsmemo-'));
+    const copy = path.join(dir, 'csl.npz');
+    fs.copyFileSync(CSL, copy);
+    const first = datasetsFor(copy, {}, {});
+    expect(first).toHaveLength(1);
+    expect(datasetsFor(copy, {}, {})).toBe(first); // the memo: not checked again
+    const later = new Date(Date.now() + 5000);
+    fs.utimesSync(copy, later, later);
+    const again = datasetsFor(copy, {}, {});
+    expect(again).not.toBe(first); // the file changed on disk: read again
+    expect(again[0]!.dataset.graphs).toBe(150);
+    // The ceiling answers from the datasets it is given: the 150 CSL graphs are all 4-regular, so
+    // 1-WL tells none apart; with ten classes the ceiling is 0.1, with one label for all it is 1.
+    const asFound = ceilingAnswer(copy, {}, {}, {}, again);
+    expect(asFound).toMatchObject({ task: 'graph', ceiling: 0.1 });
+    const labels = again[0]!.dataset.graphLabels!;
+    const alike = { ...again[0]!, dataset: { ...again[0]!.dataset, graphLabels: { ...labels, data: new Int32Array(labels.data.length) } } };
+    expect(ceilingAnswer(copy, {}, {}, {}, [alike])).toMatchObject({ task: 'graph', ceiling: 1 });
+    fs.rmSync(dir, { recursive: true, force: true });
   });
 
   it('the panel walks one graph of the dataset alone, by its local ids', () => {

@@ -15,7 +15,7 @@ import { undirectedView } from '../core/graph/structure/undirected';
 import { timed } from '../core/timing';
 import type { LoadedFile } from '../core/checks/check-set';
 import type { FileCache, LoadOptions } from './load';
-import { readDatasets } from './dataset-load';
+import { datasetNamedBy, datasetsOf, type LoadedDataset } from './dataset-load';
 import { GraphLoadError, loadGraph } from './graph-input';
 
 export interface CeilingRequest extends Omit<CeilingOptions, 'with'> {
@@ -50,15 +50,16 @@ function stringCodes(t: DenseTensor): { data: Int32Array; strings: string[] } {
  * Throws CeilingInputError when the file has nothing to bound (no labels, numeric node labels, …)
  * and GraphLoadError when it cannot be read as a graph.
  */
-export function computeCeiling(file: string, request: CeilingRequest, check: CheckSetOptions = {}, load: LoadOptions = {}): CeilingOutcome {
+export function computeCeiling(
+  file: string, request: CeilingRequest, check: CheckSetOptions = {}, load: LoadOptions = {},
+  datasets?: readonly LoadedDataset[],
+): CeilingOutcome {
   const opts = { ...load, cache: load.cache ?? callCache() };
-  const abs = path.resolve(file);
-  // Datasets the file takes part in (a file read with its siblings can bring in others' datasets).
-  const found = readDatasets([file], { ...opts, check })
-    .filter((d) => path.resolve(d.dataset.structureFile) === abs || d.files.some((f) => path.resolve(f) === abs));
+  // The datasets the file takes part in: given by the caller (the worker's memo), or read here.
+  const found = datasets ?? datasetsOf(file, { ...opts, check });
   const notes: string[] = [];
   if (found.length) {
-    const pick = found.length === 1 ? found[0]! : found.find((d) => path.resolve(d.dataset.structureFile) === abs);
+    const pick = datasetNamedBy(found, file);
     if (!pick) {
       throw new CeilingInputError(`${found.length} datasets use this file (${found.map((d) => path.basename(d.dataset.structureFile)).join(', ')}); name the file holding the edges of one`);
     }
@@ -106,9 +107,11 @@ export function computeCeiling(file: string, request: CeilingRequest, check: Che
 /**
  * The worker's `ceiling` request (worker-methods.ts): `with` as strings, and a sentence instead of
  * an exception for a file that cannot be bounded or read (the LSP turns it into a request error).
+ * `datasets`: the file's datasets when the caller has them already (the worker's memo).
  */
 export function ceilingAnswer(
   file: string, params: Omit<CeilingParams, 'path'>, check: CheckSetOptions, load: LoadOptions,
+  datasets?: readonly LoadedDataset[],
 ): CeilingResult | { error: string } {
   try {
     const augs = (params.with ?? []).map(parseAugmentation);
@@ -118,7 +121,7 @@ export function ceilingAnswer(
       ...(params.features ? { features: true } : {}),
       ...(params.budgetMs !== undefined ? { budgetMs: params.budgetMs } : {}),
       ...(load.cancel ? { cancel: load.cancel } : {}),
-    }, check, load).result;
+    }, check, load, datasets).result;
   } catch (e) {
     if (e instanceof CeilingInputError || e instanceof GraphLoadError) return { error: `${path.basename(file)}: ${e.message}` };
     throw e;

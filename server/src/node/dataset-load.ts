@@ -7,6 +7,7 @@
 import type { Problem } from '../core/formats/types';
 import type { Dataset } from '../core/datasets/model';
 import type { CheckSetOptions } from '../core/checks/check-set';
+import * as path from 'node:path';
 import { checkPaths, type LoadOptions } from './load';
 
 export { inRange } from '../core/datasets/check';
@@ -42,4 +43,24 @@ export function readDatasets(paths: string[], opts: DatasetLoadOptions = {}): Lo
     out.push({ dataset: d.dataset, problems: d.problems.map((p) => p.problem), files: d.files });
   }
   return out;
+}
+
+/**
+ * The datasets `file` takes part in: as the file holding their edges, or as one of the files they
+ * were read from (a file read with its siblings can bring in other datasets, which are left out).
+ */
+export function datasetsOf(file: string, opts: DatasetLoadOptions = {}): LoadedDataset[] {
+  const abs = path.resolve(file);
+  return readDatasets([abs], opts)
+    .filter((d) => path.resolve(d.dataset.structureFile) === abs || d.files.some((f) => path.resolve(f) === abs));
+}
+
+/**
+ * Of the datasets a file takes part in (`datasetsOf`), the one it names: the only one, or the one
+ * whose edges it holds. Null when there is none, or several and none holds its edges in this file.
+ */
+export function datasetNamedBy(found: readonly LoadedDataset[], file: string): LoadedDataset | null {
+  if (found.length === 1) return found[0]!;
+  const abs = path.resolve(file);
+  return found.find((d) => path.resolve(d.dataset.structureFile) === abs) ?? null;
 }

@@ -20,7 +20,8 @@ import { inRange, labelClasses } from '../core/datasets/check';
 import { analyseStructure } from '../core/graph/structure/figures';
 import { packColumn } from '../../../common/columns';
 import type { DatasetTable } from '../../../common/protocol';
-import { checkPaths, type LoadOptions } from './load';
+import type { LoadOptions } from './load';
+import { datasetNamedBy, datasetsOf, type LoadedDataset } from './dataset-load';
 import { GraphLoadError, loadGraph, type LoadedGraph } from './graph-input';
 import { parseGraphKey } from './graph-key';
 
@@ -41,7 +42,10 @@ export function datasetGraphOf(g: LoadedGraph): DatasetGraphInfo | undefined {
 
 // ---- finding the dataset of a file, with a one-entry memo -----------------------------------------
 
-let memo: { file: string; options: string; stamp: string; found: FoundDataset; clean?: Dataset; table?: DatasetTable } | undefined;
+let memo: {
+  file: string; options: string; stamp: string; files: string[]; all: LoadedDataset[]; found: FoundDataset;
+  clean?: Dataset; table?: DatasetTable;
+} | undefined;
 
 function stampOf(files: string[]): string {
   return files.map((f) => {
@@ -49,29 +53,45 @@ function stampOf(files: string[]): string {
   }).join('|');
 }
 
-/** The dataset `file` belongs to (its structure file or one of its files), or null when it is none. */
-export function findDatasetFor(file: string, options: CheckSetOptions, load: LoadOptions): FoundDataset | null {
+/**
+ * Every dataset `file` takes part in (dataset-load.ts `datasetsOf`, as `hopscope check` reads them),
+ * kept in the memo while their files are unchanged: the viewer's table, the panel's graphs and the
+ * ceiling all ask for the same file in turn.
+ */
+export function datasetsFor(file: string, options: CheckSetOptions, load: LoadOptions): LoadedDataset[] {
   const abs = path.resolve(file);
   const opts = JSON.stringify(options);
-  if (memo && memo.file === abs && memo.options === opts && memo.stamp === stampOf(memo.found.files)) return memo.found;
-  const r = checkPaths([abs], options, load);
-  let found: FoundDataset | null = null;
-  for (const d of r.datasets ?? []) {
-    if (!d.dataset || !d.checked) continue;
-    const files = d.files.map((f) => path.resolve(f));
-    if (path.resolve(d.dataset.structureFile) !== abs && !files.includes(abs)) continue;
-    found = { dataset: d.dataset, problems: d.problems.map((p) => p.problem), files: files.includes(abs) ? files : [abs, ...files] };
-    break;
+  if (memo && memo.file === abs && memo.options === opts && memo.stamp === stampOf(memo.files)) return memo.all;
+  const all = datasetsOf(abs, { ...load, check: options });
+  const named = datasetNamedBy(all, abs) ?? all[0];
+  const found: FoundDataset | null = named
+    ? { dataset: named.dataset, problems: named.problems, files: withFile(named.files.map((f) => path.resolve(f)), abs) }
+    : null;
+  // Only datasets are kept: "no dataset here" can change without this file changing (a sibling added).
+  if (found) {
+    const files = withFile([...new Set(all.flatMap((d) => d.files.map((f) => path.resolve(f))))], abs);
+    memo = { file: abs, options: opts, stamp: stampOf(files), files, all, found };
+  } else {
+    memo = undefined;
   }
-  // Only a dataset is kept: "no dataset here" can change without this file changing (a sibling added).
-  memo = found ? { file: abs, options: opts, stamp: stampOf(found.files), found } : undefined;
-  return found;
+  return all;
+}
+
+function withFile(files: string[], abs: string): string[] {
+  return files.includes(abs) ? files : [abs, ...files];
+}
+
+/** The dataset `file` belongs to (the one it names, else the first it takes part in), or null when it is none. */
+export function findDatasetFor(file: string, options: CheckSetOptions, load: LoadOptions): FoundDataset | null {
+  const abs = path.resolve(file);
+  datasetsFor(abs, options, load);
+  return memo && memo.file === abs ? memo.found : null;
 }
 
 /** Drops the memo when one of its files changed or went away. */
 export function forgetDataset(file: string): void {
   const abs = path.resolve(file);
-  if (memo && (memo.file === abs || memo.found.files.includes(abs))) memo = undefined;
+  if (memo && (memo.file === abs || memo.files.includes(abs))) memo = undefined;
 }
 
 function cleanDataset(found: FoundDataset): Dataset {

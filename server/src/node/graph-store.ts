@@ -23,7 +23,7 @@ import { guessRole } from '../core/checks/roles';
 import { columnStats } from '../core/checks/stats';
 import type { Cancel } from '../core/cancel';
 import { checkPaths, collect, type FileCache, type LoadOptions } from './load';
-import { addGraphLines, datasetTable, findDatasetFor, forgetDataset, loadAnalysisGraph } from './dataset-views';
+import { addGraphLines, datasetTable, datasetsFor, findDatasetFor, forgetDataset, loadAnalysisGraph } from './dataset-views';
 import { ceilingAnswer } from './ceiling-input';
 import { AnalysisService } from './analysis-service';
 import { describeFixedCopy, writeFixedCopy } from './fixed-copy';
@@ -291,7 +291,9 @@ export class GraphStore implements MethodHandlers {
     if (this.excluded(abs)) return { error: `${path.basename(abs)} is left out by the files.exclude or hopscope.exclude setting.` };
     const from = this.clock + 1;
     try {
-      return ceilingAnswer(abs, rest, this.options, this.loadOptions(cancel));
+      // The file's datasets as the viewer's table found them (kept while unchanged), not checked again.
+      const load = this.loadOptions(cancel);
+      return ceilingAnswer(abs, rest, this.options, load, datasetsFor(abs, this.options, load));
     } finally {
       this.evict(from);
     }
