@@ -41,7 +41,7 @@ describe('GLIBC_TUNABLES with huge pages', () => {
 describe('whether the command line starts a second process', () => {
   const base: RelaunchInputs = {
     platform: 'linux', env: {}, thpMode: 'madvise', glibc: true,
-    inputBytes: 160e6, faultMsPerMiB: 3.4, startMs: 90,
+    inputBytes: 160e6, faultMsPerMiB: 3.4, startMs: 90, execArgv: [],
   };
   it('does for a large input where faults are slow, and not for a small one', () => {
     expect(decideRelaunch(base).relaunch).toBe(true);
@@ -57,6 +57,11 @@ describe('whether the command line starts a second process', () => {
     expect(decideRelaunch({ ...base, thpMode: null }).relaunch).toBe(false);
     expect(decideRelaunch({ ...base, env: { GLIBC_TUNABLES: 'glibc.malloc.hugetlb=1' } }).relaunch).toBe(false);
     expect(decideRelaunch({ ...base, env: { HOPSCOPE_HUGE_PAGES: 'off' } }).relaunch).toBe(false);
+  });
+  it('never under a debugger or profiler, which should see the command run in the process it watches', () => {
+    expect(decideRelaunch({ ...base, execArgv: ['--inspect=9229'] })).toEqual({ relaunch: false, why: 'started with --inspect=9229' });
+    expect(decideRelaunch({ ...base, execArgv: ['--cpu-prof'] }).relaunch).toBe(false);
+    expect(decideRelaunch({ ...base, execArgv: ['--max-old-space-size=8192'] }).relaunch).toBe(true);
   });
   it('always when asked with HOPSCOPE_HUGE_PAGES=1, where the machine can', () => {
     expect(decideRelaunch({ ...base, inputBytes: 0, env: { HOPSCOPE_HUGE_PAGES: '1' } }).relaunch).toBe(true);

@@ -25,15 +25,18 @@ export interface RelaunchInputs {
   faultMsPerMiB: number;
   /** Milliseconds this process took to start (what a second start costs again). */
   startMs: number;
+  /** Node options this process was started with (passed on to a second process). */
+  execArgv: readonly string[];
 }
 
 export interface RelaunchDecision { relaunch: boolean; why: string }
 
 /**
- * How much fresh memory a check writes per input byte, roughly: a `.npy` edge index is narrowed
- * to int32 ids (half its bytes) and then laid out twice more as the CSR pair; a text list keeps its
- * bytes plus the ids and the CSR. 1.5 is the middle of what the bench graphs show (1.4 for the
- * 10M `.npy`, 1.9 for the 10M-line text), an estimate and not a measurement of each file.
+ * How much fresh memory a check writes per input byte, roughly: an int64 `.npy` edge index becomes
+ * int32 ids (half its bytes) plus the CSR pair (as much again), about 1; a text list keeps its bytes
+ * plus the ids and the CSR pair, about 2. 1.5 is between the two: an estimate, not a measurement
+ * of each file (what huge pages saved on the bench graphs: 2.8 ms per input MiB on the 10M `.npy`,
+ * 4.6 on the 10M-line list, 6.6 on the 1M-line one, at 3.4 ms per fresh MiB).
  */
 export const FRESH_BYTES_PER_INPUT_BYTE = 1.5;
 /** Share of the fault cost huge pages remove (measured on the bench's 80 MB buffers: 277 → 87 ms). */
@@ -57,6 +60,9 @@ export function decideRelaunch(i: RelaunchInputs): RelaunchDecision {
   if (tunablesWithHugePages(i.env.GLIBC_TUNABLES) === undefined) return { relaunch: false, why: 'GLIBC_TUNABLES already sets hugetlb' };
   if (!i.glibc) return { relaunch: false, why: 'not glibc' };
   if (i.thpMode !== 'madvise') return { relaunch: false, why: `transparent huge pages: ${i.thpMode ?? 'unknown'}` };
+  // A debugger or profiler attached to this process should see the command run in it.
+  const watched = i.execArgv.find((a) => /^--(inspect|debug|cpu-prof|heap-prof|prof)\b/.test(a));
+  if (watched) return { relaunch: false, why: `started with ${watched}` };
   if (sw === 'on') return { relaunch: true, why: `${HUGE_PAGES_SWITCH} is on` };
   const savedMs = expectedSavingMs(i.inputBytes, i.faultMsPerMiB);
   const relaunch = savedMs > SAFETY_FACTOR * i.startMs;
@@ -120,7 +126,7 @@ export function inputBytes(words: readonly string[], enough = Infinity, maxEntri
 export function measureMachine(words: readonly string[], env: Env = process.env): RelaunchInputs {
   const platform = process.platform;
   const startMs = process.uptime() * 1000;
-  const base: RelaunchInputs = { platform, env, thpMode: null, glibc: false, inputBytes: 0, faultMsPerMiB: 0, startMs };
+  const base: RelaunchInputs = { platform, env, thpMode: null, glibc: false, inputBytes: 0, faultMsPerMiB: 0, startMs, execArgv: process.execArgv };
   if (platform !== 'linux' || hugePagesSwitch(env) === 'off' || tunablesWithHugePages(env.GLIBC_TUNABLES) === undefined) return base;
   base.thpMode = readThpMode();
   if (base.thpMode !== 'madvise') return base;
