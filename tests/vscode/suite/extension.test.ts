@@ -1,7 +1,7 @@
 // Extension-host tests: the extension as the VS Code API sees it, in a workspace that is a fresh copy
 // of demo/. Expected problems come from demo/README.md (what is broken where) and the demo files.
 import * as assert from 'node:assert/strict';
-import { readFileSync } from 'node:fs';
+import { readFileSync, readdirSync } from 'node:fs';
 import { join } from 'node:path';
 import { before, describe, it } from 'mocha';
 import * as vscode from 'vscode';
@@ -43,6 +43,25 @@ describe('Hopscope in the extension host', () => {
     assert.ok(contributed.length > 0, 'package.json contributes no commands');
     const registered = new Set(await vscode.commands.getCommands(true));
     assert.deepEqual(contributed.filter((c) => !registered.has(c)), []);
+  });
+
+  it('starts its language server with huge pages asked of glibc (Linux; common/huge-pages.ts)', async function () {
+    if (process.platform !== 'linux' || process.env.HOPSCOPE_HUGE_PAGES === '0' || /glibc\.malloc\.hugetlb=/.test(process.env.GLIBC_TUNABLES ?? '')) this.skip();
+    const ext = vscode.extensions.getExtension(EXTENSION_ID)!;
+    const server = join(ext.extensionPath, 'dist', 'server.js');
+    // The server is a child process whose command line names dist/server.js; its environment is
+    // what the extension gave it.
+    const environ = await waitFor('the language server process', () => {
+      for (const pid of readdirSync('/proc').filter((d) => /^\d+$/.test(d))) {
+        try {
+          if (!readFileSync(`/proc/${pid}/cmdline`, 'utf8').split('\0').includes(server)) continue;
+          return readFileSync(`/proc/${pid}/environ`, 'utf8').split('\0');
+        } catch { /* gone, or not ours to read */ }
+      }
+      return undefined;
+    });
+    const tunables = environ.find((v) => v.startsWith('GLIBC_TUNABLES='));
+    assert.ok(tunables && /(=|:)glibc\.malloc\.hugetlb=1(:|$)/.test(tunables), `server environment: ${tunables ?? 'no GLIBC_TUNABLES'}`);
   });
 
   it('reports the edge-list problems of lanes/lanes.csv with codes, links and exact ranges', async () => {
