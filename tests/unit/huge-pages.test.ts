@@ -12,7 +12,7 @@ import * as os from 'node:os';
 import * as path from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
 import { envWithHugePages, tunablesWithHugePages, HUGE_PAGES_TUNABLE } from '../../common/huge-pages';
-import { decideRelaunch, expectedSavingMs, inputBytes, measureMachine, readThpMode, runsOnGlibc, type RelaunchInputs } from '../../server/src/node/relaunch';
+import { decideRelaunch, expectedSavingMs, inputBytes, measureMachine, probeFaultMsPerMiB, readThpMode, runsOnGlibc, type RelaunchInputs } from '../../server/src/node/relaunch';
 
 const root = path.join(__dirname, '../..');
 const tmp = fs.mkdtempSync(path.join(os.tmpdir(), 'hopscope-huge-'));
@@ -74,6 +74,12 @@ describe('the estimate and the probe', () => {
     // 160 MB at 3.4 ms/MiB: 152.6 MiB × 1.5 fresh bytes per input byte × 3.4 × 0.7 saved.
     expect(expectedSavingMs(160e6, 3.4)).toBeCloseTo((160e6 / 2 ** 20) * 1.5 * 3.4 * 0.7, 6);
     expect(expectedSavingMs(0, 3.4)).toBe(0);
+  });
+  it('measures the cost of first writes as a positive time per MiB', () => {
+    const ms = probeFaultMsPerMiB();
+    expect(Number.isFinite(ms)).toBe(true);
+    expect(ms).toBeGreaterThan(0);
+    expect(ms).toBeLessThan(1000); // 1 s per MiB would be a broken clock, not a slow machine
   });
   it('does not probe the fault cost for inputs too small to pay for a second start at any likely cost', () => {
     const small = path.join(tmp, 'small.npy');
