@@ -18,6 +18,7 @@ import { analyseStructure, countComponentsPair } from '../../server/src/core/gra
 import { edgeListComponents } from './random';
 import { buildSortedPair, hasEdge, transpose, buildCsr } from '../../server/src/core/graph/structure/csr';
 import { DEFAULT_LIMITS, type DenseTensor } from '../../server/src/core/formats/types';
+import { int32Figures, tensorStats } from '../../server/src/core/checks/stats';
 
 const dir = path.join(__dirname, '../fixtures/graphs');
 const expected = JSON.parse(fs.readFileSync(path.join(dir, 'expected.json'), 'utf8'));
@@ -95,6 +96,30 @@ describe('CSR building blocks', () => {
       expect(Array.from(fwd.indptr)).toEqual(Array.from(f2.indptr));
       expect(Array.from(rev.indices)).toEqual(Array.from(r2.indices));
       expect(Array.from(rev.indptr)).toEqual(Array.from(r2.indptr));
+    }
+  });
+
+  it('an int32 edge index has its min, max and sum computed once, for the bounds and the tensor table alike', () => {
+    const t = load('karate.npy');
+    expect(t.data).toBeInstanceOf(Int32Array);
+    const d = t.data as Int32Array;
+    let min = Infinity, max = -Infinity, sum = 0;
+    for (const v of d) { min = Math.min(min, v); max = Math.max(max, v); sum += v; }
+    expect(tensorStats(t)).toEqual({ min, max, sum, nonFinite: 0 });
+    expect(int32Figures(d)).toBe(int32Figures(d)); // kept per array
+    // Published: the karate club's ids run 0..33 (34 nodes, docs/references.md §2.1).
+    expect([min, max]).toEqual([0, 33]);
+  });
+
+  it('self-loops are counted in the row pass, repeats included, as the count over the edge list is', () => {
+    const rnd = seededRandom(5);
+    for (let t = 0; t < 20; t++) {
+      const n = 1 + rnd(50), e = rnd(300);
+      const src = Int32Array.from({ length: e }, () => rnd(n));
+      const dst = Int32Array.from(src, (u) => (rnd(4) === 0 ? u : rnd(n)));
+      let loops = 0;
+      for (let k = 0; k < e; k++) if (src[k] === dst[k]) loops++;
+      expect(analyseStructure(n, src, dst).figures.selfLoops).toBe(loops);
     }
   });
 

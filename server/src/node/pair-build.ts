@@ -25,13 +25,13 @@ const PARTS = 2;
 /**
  * Control words shared with the helper: per step a claim counter and a done counter, then the
  * components' claim, done flag and count, then a failure flag, then the row figures' claim, done
- * flag and four counts. A thread takes a part by incrementing its claim counter, so whichever
+ * flag and five counts. A thread takes a part by incrementing its claim counter, so whichever
  * thread is free takes the next part: when the helper is late (starting, or busy with an earlier
  * job) this thread does every part itself.
  */
 const CLAIM = 0, DONE = PAIR_STEPS, COMP_CLAIM = 2 * PAIR_STEPS, COMP_DONE = COMP_CLAIM + 1, COMPONENTS = COMP_CLAIM + 2,
   FAILED = COMP_CLAIM + 3, ROWS_CLAIM = COMP_CLAIM + 4, ROWS_DONE = ROWS_CLAIM + 1, ROWS = ROWS_CLAIM + 2,
-  CONTROL_WORDS = ROWS + 4;
+  CONTROL_WORDS = ROWS + 5;
 /** Share of the entries whose rows' figures the helper takes (it also counts the components). */
 const HELPER_ROW_SHARE = 0.45;
 /** Added to a done counter when the helper fails, so a waiter wakes at once. */
@@ -55,25 +55,23 @@ function rowSplit(plan: PairPlan): number {
   return lo;
 }
 
+/** The row figures in the order of their control words. */
+const ROW_KEYS = ['selfLoops', 'duplicates', 'distinctNonLoop', 'asymmetric', 'isolated'] as const;
+
 function storeRows(control: Int32Array, r: RowFigures): void {
-  Atomics.store(control, ROWS, r.duplicates);
-  Atomics.store(control, ROWS + 1, r.distinctNonLoop);
-  Atomics.store(control, ROWS + 2, r.asymmetric);
-  Atomics.store(control, ROWS + 3, r.isolated);
+  ROW_KEYS.forEach((k, i) => Atomics.store(control, ROWS + i, r[k]));
 }
 
 function loadRows(control: Int32Array): RowFigures {
-  return {
-    duplicates: Atomics.load(control, ROWS), distinctNonLoop: Atomics.load(control, ROWS + 1),
-    asymmetric: Atomics.load(control, ROWS + 2), isolated: Atomics.load(control, ROWS + 3),
-  };
+  const r = {} as RowFigures;
+  ROW_KEYS.forEach((k, i) => { r[k] = Atomics.load(control, ROWS + i); });
+  return r;
 }
 
 function addRows(a: RowFigures, b: RowFigures): RowFigures {
-  return {
-    duplicates: a.duplicates + b.duplicates, distinctNonLoop: a.distinctNonLoop + b.distinctNonLoop,
-    asymmetric: a.asymmetric + b.asymmetric, isolated: a.isolated + b.isolated,
-  };
+  const r = {} as RowFigures;
+  for (const k of ROW_KEYS) r[k] = a[k] + b[k];
+  return r;
 }
 
 function isShared(a: Int32Array): boolean {

@@ -25,7 +25,7 @@ export function tensorStats(t: Tensor): TensorStats {
     const n = t.kind === 'sparse' ? t.row.length : 0;
     return n === 0 ? { min: null, max: null, sum: 0, nonFinite: 0 } : { min: 1, max: 1, sum: n, nonFinite: 0 };
   }
-  if (d instanceof Int32Array) return int32Stats(d);
+  if (d instanceof Int32Array) return int32Figures(d);
   let min = Infinity, max = -Infinity, sum = 0, nonFinite = 0;
   if (d instanceof Float32Array || d instanceof Float64Array) {
     for (let i = 0; i < d.length; i++) {
@@ -45,6 +45,19 @@ export function tensorStats(t: Tensor): TensorStats {
   }
   if (min === Infinity) return { min: null, max: null, sum: 0, nonFinite };
   return { min, max, sum, nonFinite };
+}
+
+const int32Memo = new WeakMap<Int32Array, TensorStats>();
+
+/**
+ * Min, max and sum of an Int32Array, computed once per array: the bounds of an edge index
+ * (rules/node-count.ts) and its row in the tensor table both want them, and a tensor's values are
+ * never written after it is read. Callers must not change the object returned.
+ */
+export function int32Figures(d: Int32Array): TensorStats {
+  let r = int32Memo.get(d);
+  if (!r) { r = int32Stats(d); int32Memo.set(d, r); }
+  return r;
 }
 
 /** The common case of large tensors (edge indices), in a loop that only ever sees Int32Array. */

@@ -9,6 +9,7 @@ import type { GraphPart } from '../graph-check-types';
 import { denseNodeLimit } from '../../graph/structure/compact';
 import type { CheckContext } from './context';
 import type { EdgeSource } from './edge-source';
+import { int32Figures } from '../stats';
 
 export interface NodeCount {
   n: number;
@@ -44,8 +45,15 @@ export function countNodes(ctx: CheckContext, edges: EdgeSource | undefined): No
 
   let maxId = -1, minId = Infinity;
   if (edges && !edges.flags) {
-    const a = int32Range(edges.src), b = int32Range(edges.dst);
-    minId = Math.min(a[0], b[0]); maxId = Math.max(maxId, a[1], b[1]);
+    const whole = wholeInt32(edges);
+    if (whole) {
+      // Both rows of one int32 tensor: its figures, which the tensor table reuses.
+      const f = int32Figures(whole);
+      if (f.min !== null && f.max !== null) { minId = f.min; maxId = Math.max(maxId, f.max); }
+    } else {
+      const a = int32Range(edges.src), b = int32Range(edges.dst);
+      minId = Math.min(a[0], b[0]); maxId = Math.max(maxId, a[1], b[1]);
+    }
   } else if (edges) {
     const { src, dst, flags } = edges;
     for (let k = 0; k < src.length; k++) {
@@ -94,6 +102,15 @@ export function countNodes(ctx: CheckContext, edges: EdgeSource | undefined): No
     n, nSource, blameFeatures, declaredN, declaredSource, featureRows, minId, maxId, nodeCountFromIds,
     denseLimit, idsLookSparse, nKnown,
   };
+}
+
+/** The int32 tensor whose two rows are exactly `src` then `dst` (a 2 x E edge index read as int32), if so. */
+function wholeInt32(edges: EdgeSource): Int32Array | null {
+  const t = edges.part.tensor;
+  if (t.kind !== 'dense' || !(t.data instanceof Int32Array)) return null;
+  const d = t.data, { src, dst } = edges;
+  return src.buffer === d.buffer && dst.buffer === d.buffer && src.byteOffset === d.byteOffset
+    && dst.byteOffset === src.byteOffset + src.byteLength && src.length + dst.length === d.length ? d : null;
 }
 
 /** [min, max] of a non-empty array ([Infinity, -1] when empty), in a loop that only sees Int32Array. */

@@ -122,6 +122,8 @@ export interface PairBuild {
 
 /** Counts read from both sorted directions row by row (figures.ts `rowFigures`). */
 export interface RowFigures {
+  /** Entries u → u (repeats included). */
+  selfLoops: number;
   duplicates: number;
   distinctNonLoop: number;
   asymmetric: number;

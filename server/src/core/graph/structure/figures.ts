@@ -29,11 +29,8 @@ export function analyseStructure(n: number, src: Int32Array, dst: Int32Array): S
   const build = timed('build', () => buildSortedPair(n, src, dst, { components: true, rowFigures: true }));
   const { fwd, rev } = build;
 
-  let selfLoops = 0;
-  for (let k = 0; k < e; k++) if (src[k] === dst[k]) selfLoops++;
-
   const rows = build.rowFigures ? build.rowFigures() : rowFigures(fwd, rev, 0, n);
-  const { duplicates, distinctNonLoop, asymmetric, isolated } = rows;
+  const { selfLoops, duplicates, distinctNonLoop, asymmetric, isolated } = rows;
 
   return {
     fwd,
@@ -53,12 +50,13 @@ export function analyseStructure(n: number, src: Int32Array, dst: Int32Array): S
 }
 
 /**
- * The figures read row by row from both sorted directions, over the nodes [lo, hi): repeated
- * entries, distinct (u, v) with u ≠ v, those without their reverse, and isolated nodes (no edge to
- * or from another node). Ranges add up: a builder may share the rows between threads
+ * The figures read row by row from both sorted directions, over the nodes [lo, hi): self-loop
+ * entries, repeated entries, distinct (u, v) with u ≠ v, those without their reverse, and isolated
+ * nodes (no edge to or from another node). Ranges add up: a builder may share the rows between threads
  * (node/pair-build.ts) and sum the parts.
  */
 export function rowFigures(fwd: Csr, rev: Csr, lo: number, hi: number): RowFigures {
+  let selfLoops = 0;
   let duplicates = 0;
   let distinctNonLoop = 0;
   let asymmetric = 0;
@@ -72,6 +70,7 @@ export function rowFigures(fwd: Csr, rev: Csr, lo: number, hi: number): RowFigur
     let incident = false;
     for (let p = fp[u]!; p < fEnd; p++) {
       const v = fi[p]!;
+      if (v === u) selfLoops++;
       if (v === prev) { duplicates++; continue; }
       prev = v;
       if (v === u) continue;
@@ -89,7 +88,7 @@ export function rowFigures(fwd: Csr, rev: Csr, lo: number, hi: number): RowFigur
       if (!incident) isolated++;
     }
   }
-  return { duplicates, distinctNonLoop, asymmetric, isolated };
+  return { selfLoops, duplicates, distinctNonLoop, asymmetric, isolated };
 }
 
 /**
