@@ -174,10 +174,13 @@ describe('file events over stdio', () => {
     write('late/new.edges', DUPLICATE);
     const hover = () => conn.sendRequest(HoverRequest.type, { textDocument: { uri: uri('train.py') }, position: { line: 2, character: 30 } })
       .then((h) => (h?.contents as { value: string } | undefined)?.value ?? '');
-    const [first, second] = await Promise.all([hover(), hover()]);
-    expect(first).toContain('checking…');
-    // The second may come after that one check ended (tests/unit/lsp-workspace.test.ts counts the checks).
-    expect(second).toMatch(/checking…|duplicate-edges/);
+    const answers = await Promise.all([hover(), hover()]);
+    // The server may reach the second request's file lookup before the first's, and a 12-byte file's
+    // check can end before the other one gets there: so whichever came first says "checking…" (the
+    // check is queued with no await before that answer), and the other says that or has the report.
+    // That only one check runs is counted below and in tests/unit/lsp-workspace.test.ts.
+    expect(answers.some((a) => a.includes('checking…'))).toBe(true);
+    for (const a of answers) expect(a).toMatch(/checking…|duplicate-edges/);
     await waitFor(() => current.has(uri('late/new.edges')));
     await waitFor(() => statuses.length > 0 && !statuses[statuses.length - 1]!.busy);
     expect(await hover()).toContain('duplicate-edges');
