@@ -112,3 +112,30 @@ describe('bridges: structure and scale', () => {
     }), { numRuns: 200 });
   });
 });
+
+describe('the undirected view the bridge search reads', () => {
+  it('property: rows are the distinct other ends either way, and each multiplicity is max(#(u → x), #(x → u))', () => {
+    // Reference: a plain count of every ordered pair (the view's definition in undirected.ts).
+    const graph = fc.integer({ min: 1, max: 40 }).chain((n) => fc.tuple(
+      fc.constant(n),
+      fc.array(fc.tuple(fc.nat({ max: n - 1 }), fc.nat({ max: n - 1 })), { maxLength: 200 }),
+    ));
+    fc.assert(fc.property(graph, ([n, pairs]) => {
+      const g = undirectedFromEdges(n, Int32Array.from(pairs, (p) => p[0]), Int32Array.from(pairs, (p) => p[1]));
+      const count = new Map<number, number>();
+      for (const [a, b] of pairs) count.set(a * n + b, (count.get(a * n + b) ?? 0) + 1);
+      for (let u = 0; u < n; u++) {
+        const want: number[] = [], wantMult: number[] = [];
+        for (let x = 0; x < n; x++) {
+          const m = Math.max(count.get(u * n + x) ?? 0, count.get(x * n + u) ?? 0);
+          if (x !== u && m > 0) { want.push(x); wantMult.push(m); }
+        }
+        const lo = g.indptr[u]!, hi = g.indptr[u + 1]!;
+        expect(Array.from(g.indices.subarray(lo, hi))).toEqual(want);
+        expect(Array.from(g.mult.subarray(lo, hi))).toEqual(wantMult);
+      }
+      // Computed once, on the first read.
+      expect(g.mult).toBe(g.mult);
+    }), { numRuns: 300 });
+  });
+});

@@ -17,6 +17,6 @@ export { AnalysisCancelled, throwIfCancelled, type Cancel } from '../../cancel';
 export function simpleUndirected(fwd: Csr, rev: Csr, cancel?: Cancel): Csr {
   throwIfCancelled(cancel);
   // The same merge as the structure analyses' view, without the edge multiplicities.
-  const { n, indptr, indices } = mergeRows(fwd, rev, cancel, false);
+  const { n, indptr, indices } = mergeRows(fwd, rev, cancel);
   return { n, indptr, indices };
 }

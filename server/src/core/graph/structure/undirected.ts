@@ -27,17 +27,49 @@ export interface UndirectedGraph extends Csr {
 /**
  * The undirected view from the sorted forward and reverse CSR of a graph (as returned by
  * `buildSortedPair` or `loadGraph`). `cancel` is looked at every 8,192 rows of each pass.
+ *
+ * `mult` is computed when first read (one more merge of the two directions, `multiplicities`):
+ * only the bridge search and the views cut or joined from this one read it, and writing it for
+ * every view cost 1-WL, the spectrum and curvature 4 fresh bytes per entry (bench/README.md).
  */
 export function undirectedView(fwd: Csr, rev: Csr, cancel?: Cancel): UndirectedGraph {
-  return mergeRows(fwd, rev, cancel, true) as UndirectedGraph;
+  const { n, indptr, indices } = mergeRows(fwd, rev, cancel);
+  let mult: Int32Array | undefined;
+  return {
+    n, indptr, indices,
+    get mult(): Int32Array { return (mult ??= multiplicities(fwd, rev, indptr)); },
+  };
 }
 
 /**
- * Row u of the result: the sorted union of fwd row u and rev row u, repeats merged, u left out;
- * with `withMult` also each entry's multiplicity max(#(u → x), #(x → u)). Two passes: the row
- * lengths, then the rows (nothing beyond the result is allocated).
+ * The multiplicity of each entry of the merged rows whose offsets are `indptr` (as `mergeRows`
+ * builds them): max(#(u → x), #(x → u)), in the same order as the merged row's entries.
  */
-export function mergeRows(fwd: Csr, rev: Csr, cancel: Cancel | undefined, withMult: boolean): Csr & { mult?: Int32Array } {
+function multiplicities(fwd: Csr, rev: Csr, indptr: Int32Array): Int32Array {
+  const n = fwd.n;
+  const fp = fwd.indptr, fi = fwd.indices, rp = rev.indptr, ri = rev.indices;
+  const mult = new Int32Array(indptr[n]!);
+  for (let u = 0; u < n; u++) {
+    let a = fp[u]!, b = rp[u]!;
+    const ae = fp[u + 1]!, be = rp[u + 1]!;
+    let w = indptr[u]!;
+    while (a < ae || b < be) {
+      const x = a < ae && (b >= be || fi[a]! <= ri[b]!) ? fi[a]! : ri[b]!;
+      let cf = 0, cr = 0;
+      while (a < ae && fi[a] === x) { a++; cf++; }
+      while (b < be && ri[b] === x) { b++; cr++; }
+      if (x === u) continue;
+      mult[w++] = cf > cr ? cf : cr;
+    }
+  }
+  return mult;
+}
+
+/**
+ * Row u of the result: the sorted union of fwd row u and rev row u, repeats merged, u left out.
+ * Two passes: the row lengths, then the rows (nothing beyond the result is allocated).
+ */
+export function mergeRows(fwd: Csr, rev: Csr, cancel?: Cancel): Csr {
   const n = fwd.n;
   const fp = fwd.indptr, fi = fwd.indices, rp = rev.indptr, ri = rev.indices;
   // Pass 1: row lengths of the merged, de-duplicated rows.
@@ -54,27 +86,20 @@ export function mergeRows(fwd: Csr, rev: Csr, cancel: Cancel | undefined, withMu
     }
     indptr[u + 1] = indptr[u]! + count;
   }
-  // Pass 2: fill neighbours and multiplicities.
-  const m2 = indptr[n]!;
-  const indices = new Int32Array(m2);
-  const mult = withMult ? new Int32Array(m2) : undefined;
+  // Pass 2: the neighbours.
+  const indices = new Int32Array(indptr[n]!);
   for (let u = 0; u < n; u++) {
     if ((u & 0x1fff) === 0) throwIfCancelled(cancel);
     let a = fp[u]!, b = rp[u]!;
     const ae = fp[u + 1]!, be = rp[u + 1]!;
-    let w = indptr[u]!;
+    let w = indptr[u]!, last = -1;
     while (a < ae || b < be) {
-      const x = a < ae && (b >= be || fi[a]! <= ri[b]!) ? fi[a]! : ri[b]!;
-      let cf = 0, cr = 0;
-      while (a < ae && fi[a] === x) { a++; cf++; }
-      while (b < be && ri[b] === x) { b++; cr++; }
-      if (x === u) continue;
-      indices[w] = x;
-      if (mult) mult[w] = cf > cr ? cf : cr;
-      w++;
+      const x = b >= be || (a < ae && fi[a]! <= ri[b]!) ? fi[a++]! : ri[b++]!;
+      if (x !== last && x !== u) indices[w++] = x;
+      last = x;
     }
   }
-  return mult ? { n, indptr, indices, mult } : { n, indptr, indices };
+  return { n, indptr, indices };
 }
 
 /** The undirected view straight from an edge list (ids in [0, n)). */
