@@ -10,7 +10,7 @@ import { describe, expect, it } from 'vitest';
 import fc from 'fast-check';
 import { expected, fixture, fromPairs } from './structure-fixtures';
 import { findBridges } from '../../server/src/core/graph/structure/bridges';
-import { AnalysisCancelled, undirectedFromEdges } from '../../server/src/core/graph/structure/undirected';
+import { AnalysisCancelled, disjointUnion, undirectedFromEdges } from '../../server/src/core/graph/structure/undirected';
 
 const pairsOf = (b: { u: Int32Array; v: Int32Array }) => Array.from(b.u, (u, k) => [u, b.v[k]!]);
 
@@ -136,6 +136,12 @@ describe('the undirected view the bridge search reads', () => {
       }
       // Computed once, on the first read.
       expect(g.mult).toBe(g.mult);
+      // The disjoint union (1-WL compare) keeps both views' rows and multiplicities, b's after a's.
+      const u = disjointUnion(g, g), m = g.indptr[n]!;
+      expect(u.n).toBe(2 * n);
+      expect(Array.from(u.indices)).toEqual([...g.indices, ...Array.from(g.indices, (x) => x + n)]);
+      expect(Array.from(u.mult)).toEqual([...g.mult, ...g.mult]);
+      expect(u.indptr[2 * n]).toBe(2 * m);
     }), { numRuns: 300 });
   });
 });

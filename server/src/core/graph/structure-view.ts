@@ -15,7 +15,7 @@
  * neighbourhood of the drawing.
  */
 import { lowerBound } from './structure/csr';
-import { undirectedView, type Cancel, type UndirectedGraph } from './structure/undirected';
+import { undirectedView, type Cancel, type UndirectedGraph, type UndirectedRows } from './structure/undirected';
 import { colourGroups, refineWl, type WlResult } from './refinement/wl';
 import { findBridges, type Bridges } from './structure/bridges';
 import { edgeCurvature } from './curvature/curvature';
@@ -159,16 +159,16 @@ export class StructureAnalyzer {
       indptr[a + 1] = indptr[a]! + d;
     }
     const indices = new Int32Array(indptr[pn]!);
-    const mult = new Int32Array(indptr[pn]!);
     for (let a = 0; a < pn; a++) {
       const u = globalOf[a]!;
       let w = indptr[a]!;
       for (let p = g.indptr[u]!; p < g.indptr[u + 1]!; p++) {
         const b = local[g.indices[p]!]!;
-        if (b >= 0) { indices[w] = b; mult[w] = g.mult[p]!; w++; }
+        if (b >= 0) indices[w++] = b;
       }
     }
-    const piece: UndirectedGraph = { n: pn, indptr, indices, mult };
+    // The curvature reads the rows only (no multiplicities).
+    const piece: UndirectedRows = { n: pn, indptr, indices };
     const balanced = indices.length <= BALANCED_LIMIT;
     const curv = edgeCurvature(piece, { balanced, ...(cancel ? { cancel } : {}) });
     // Edge id of (a, b), a < b: edges are numbered row by row, over the entries greater than the row.

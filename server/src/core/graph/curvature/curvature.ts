@@ -19,7 +19,7 @@
  * end, either scan k's row against the marks or binary-search the other end's candidates in it.
  * One edge costs O(d_i + d_j + Σ_k min(d_k, d · log d_k)); heavy around hubs, hence cancellable.
  */
-import type { Cancel, UndirectedGraph } from '../structure/undirected';
+import type { Cancel, UndirectedRows } from '../structure/undirected';
 import { throwIfCancelled } from '../structure/undirected';
 import { lowerBound } from '../structure/csr';
 
@@ -51,7 +51,7 @@ export interface CurvatureOptions {
   cancel?: Cancel;
 }
 
-export function edgeCurvature(g: UndirectedGraph, options: CurvatureOptions = {}): EdgeCurvature {
+export function edgeCurvature(g: UndirectedRows, options: CurvatureOptions = {}): EdgeCurvature {
   const { n, indptr, indices } = g;
   const balanced = options.balanced ?? true;
   let m = 0;
@@ -111,7 +111,7 @@ export function edgeCurvature(g: UndirectedGraph, options: CurvatureOptions = {}
  * Balanced Forman curvature of the edges of `c` whose mask entry is 1 (all when `mask` is null),
  * written into c.balancedForman. The triangle counts must already be in `c`.
  */
-export function fillBalancedForman(g: UndirectedGraph, c: EdgeCurvature, mask: Uint8Array | null, cancel?: Cancel): number {
+export function fillBalancedForman(g: UndirectedRows, c: EdgeCurvature, mask: Uint8Array | null, cancel?: Cancel): number {
   const { n, indptr, indices } = g;
   const markI = new Int32Array(n), markJ = new Int32Array(n);
   /** Per w: 4-cycles seen through w for the current edge (reset after each edge). */
@@ -205,7 +205,7 @@ export function fillBalancedForman(g: UndirectedGraph, c: EdgeCurvature, mask: U
  * is never negative, so dropping it bounds the curvature from below (0 exactly when an end has
  * degree 1).
  */
-export function balancedFormanLowerBound(g: UndirectedGraph, c: EdgeCurvature): Float64Array {
+export function balancedFormanLowerBound(g: UndirectedRows, c: EdgeCurvature): Float64Array {
   const { indptr } = g;
   const lb = new Float64Array(c.m);
   for (let e = 0; e < c.m; e++) {
@@ -232,7 +232,7 @@ export interface LowestBalanced {
  * the bound of every edge not yet computed (such an edge cannot rank among the first `top`).
  * On graphs with up to `fullBelow` edges every edge is computed.
  */
-export function lowestBalancedForman(g: UndirectedGraph, top: number, options: { cancel?: Cancel; fullBelow?: number } = {}): LowestBalanced {
+export function lowestBalancedForman(g: UndirectedRows, top: number, options: { cancel?: Cancel; fullBelow?: number } = {}): LowestBalanced {
   const curv = edgeCurvature(g, { balanced: false, ...(options.cancel ? { cancel: options.cancel } : {}) });
   const m = curv.m;
   const want = Math.min(Math.max(0, top), m);

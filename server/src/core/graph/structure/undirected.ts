@@ -24,6 +24,9 @@ export interface UndirectedGraph extends Csr {
   readonly mult: Int32Array;
 }
 
+/** The rows of an undirected view without its multiplicities (all the curvature reads). */
+export type UndirectedRows = Pick<UndirectedGraph, 'n' | 'indptr' | 'indices'>;
+
 /**
  * The undirected view from the sorted forward and reverse CSR of a graph (as returned by
  * `buildSortedPair` or `loadGraph`). `cancel` is looked at every 8,192 rows of each pass.
@@ -126,8 +129,13 @@ export function disjointUnion(a: UndirectedGraph, b: UndirectedGraph): Undirecte
   const indices = new Int32Array(ea + eb);
   indices.set(a.indices, 0);
   for (let k = 0; k < eb; k++) indices[ea + k] = b.indices[k]! + a.n;
-  const mult = new Int32Array(ea + eb);
-  mult.set(a.mult, 0);
-  mult.set(b.mult, ea);
-  return { n, indptr, indices, mult };
+  // Multiplicities only when read (1-WL over a union never reads them).
+  let mult: Int32Array | undefined;
+  const joinMult = (): Int32Array => {
+    const m = new Int32Array(ea + eb);
+    m.set(a.mult, 0);
+    m.set(b.mult, ea);
+    return m;
+  };
+  return { n, indptr, indices, get mult(): Int32Array { return (mult ??= joinMult()); } };
 }
