@@ -35,7 +35,7 @@ import type {
 import type { Dataset, DatasetColumn } from '../../datasets/model';
 import { throwIfCancelled, type Cancel } from '../../cancel';
 import { sortRange } from '../structure/csr';
-import type { UndirectedGraph } from '../structure/undirected';
+import type { UndirectedRows } from '../structure/undirected';
 import { Refiner, rowColours } from './wl';
 import {
   CountBudgetExceeded, MAX_CYCLE_LENGTH, cycleCounts, triangleCounts,
@@ -107,7 +107,7 @@ function combinedColours(n: number, cols: Array<{ data: ArrayLike<number>; width
 
 /** Start colours plus the substructure counts of `aug` (null: a count ran past its budget). */
 function augmentedStart(
-  g: UndirectedGraph, base: Int32Array, aug: Augmentation, options: CeilingOptions,
+  g: UndirectedRows, base: Int32Array, aug: Augmentation, options: CeilingOptions,
 ): { colours: Int32Array; classes: number } {
   const n = g.n;
   if (aug.kind === 'triangles') {
@@ -181,9 +181,9 @@ export function readLabels(
  * The dataset's graphs as one undirected simple graph over global node ids (graph g's node v is
  * nodeOffsets[g] + v), from its in-range edges: every entry put in both endpoints' rows, each short
  * row sorted, self-loops and repeats dropped. Built straight from the per-graph ranges (no global
- * sort: rows are filled graph by graph). `mult` is all ones: the ceiling never looks at it.
+ * sort: rows are filled graph by graph). Rows only: the ceiling never reads multiplicities.
  */
-export function datasetUnion(ds: Dataset, cancel?: Cancel): UndirectedGraph {
+export function datasetUnion(ds: Dataset, cancel?: Cancel): UndirectedRows {
   const G = ds.graphs;
   const N = ds.nodeOffsets[G]!;
   const { src, dst, nodeOffsets, edgeOffsets } = ds;
@@ -219,7 +219,7 @@ export function datasetUnion(ds: Dataset, cancel?: Cancel): UndirectedGraph {
     indptr[v + 1] = w;
   }
   const indices = raw.slice(0, w);
-  return { n: N, indptr, indices, mult: new Int32Array(w).fill(1) };
+  return { n: N, indptr, indices };
 }
 
 function mix(h: number, x: number): number {
@@ -432,7 +432,7 @@ function graphOfNode(offsets: Float64Array, graphs: number, v: number): number {
  * The active graphs' part of the union: their nodes renumbered contiguously (graph order kept),
  * rows copied with the shift. Edges never leave a graph, so this is the induced subgraph.
  */
-function subUnion(g: UndirectedGraph, offsets: Float64Array, keep: Int32Array): { g: UndirectedGraph; offsets: Float64Array; nodes: Int32Array } {
+function subUnion(g: UndirectedRows, offsets: Float64Array, keep: Int32Array): { g: UndirectedRows; offsets: Float64Array; nodes: Int32Array } {
   let n = 0, m = 0;
   for (let i = 0; i < keep.length; i++) {
     const lo = offsets[keep[i]!]!, hi = offsets[keep[i]! + 1]!;
@@ -452,7 +452,7 @@ function subUnion(g: UndirectedGraph, offsets: Float64Array, keep: Int32Array): 
     }
     off2[i + 1] = v2;
   }
-  return { g: { n, indptr, indices, mult: new Int32Array(m).fill(1) }, offsets: off2, nodes };
+  return { g: { n, indptr, indices }, offsets: off2, nodes };
 }
 
 /** Dense ids for `colours` (order kept): returns the class count. */
@@ -475,7 +475,7 @@ function compact(colours: Int32Array): number {
  * of the remaining nodes no longer changes; `rounds` counts the rounds run until then.
  */
 export function refineGraphs(
-  union: UndirectedGraph, offsets: Float64Array, graphs: number,
+  union: UndirectedRows, offsets: Float64Array, graphs: number,
   start: { colours: Int32Array; classes: number }, cancel?: Cancel,
 ): { groupOf: Int32Array; count: number; rounds: number } {
   const groupOf = new Int32Array(graphs).fill(-1);
@@ -642,7 +642,7 @@ function nodeLayerFigures(colours: Int32Array, classes: number, cls: Int32Array,
 
 /** ceiling(L) for L = 0..layers from the given start colours; stableAfter when reached. */
 function perLayer(
-  g: UndirectedGraph, start: { colours: Int32Array; classes: number }, cls: Int32Array, C: number,
+  g: UndirectedRows, start: { colours: Int32Array; classes: number }, cls: Int32Array, C: number,
   labelled: number, layers: number, cancel?: Cancel,
 ): { perLayer: NodeCeilingLayer[]; stableAfter: number | null } {
   const ref = new Refiner(g, cancel);
@@ -672,7 +672,7 @@ export interface NodeCeilingInput {
 }
 
 /** The node-level ceiling of one graph (see the file comment). */
-export function nodeCeiling(g: UndirectedGraph, input: NodeCeilingInput, options: CeilingOptions = {}): NodeCeilingResult {
+export function nodeCeiling(g: UndirectedRows, input: NodeCeilingInput, options: CeilingOptions = {}): NodeCeilingResult {
   const n = g.n;
   const { cls } = input;
   if (cls.length !== n) throw new CeilingInputError(`${cls.length} node labels for ${n} nodes`);

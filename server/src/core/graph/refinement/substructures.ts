@@ -14,7 +14,7 @@
  * dataset) the count stopped.
  */
 import { throwIfCancelled, type Cancel } from '../../cancel';
-import type { UndirectedGraph } from '../structure/undirected';
+import type { UndirectedRows } from '../structure/undirected';
 
 /** The longest cycles counted (the issue's bound: the walk grows about as d^K). */
 export const MAX_CYCLE_LENGTH = 8;
@@ -36,7 +36,7 @@ export interface CountOptions {
 }
 
 /** Triangles through each node. */
-export function triangleCounts(g: UndirectedGraph, cancel?: Cancel): Int32Array {
+export function triangleCounts(g: UndirectedRows, cancel?: Cancel): Int32Array {
   const { n, indptr, indices } = g;
   const out = new Int32Array(n);
   for (let u = 0; u < n; u++) {
@@ -64,7 +64,7 @@ export function triangleCounts(g: UndirectedGraph, cancel?: Cancel): Int32Array 
  * Simple cycles of length 3..maxLength through each node: an n × (maxLength − 2) row-major matrix,
  * column j holding cycles of length j + 3. Throws CountBudgetExceeded past the budget.
  */
-export function cycleCounts(g: UndirectedGraph, maxLength: number, options: CountOptions = {}): Float64Array {
+export function cycleCounts(g: UndirectedRows, maxLength: number, options: CountOptions = {}): Float64Array {
   if (!Number.isInteger(maxLength) || maxLength < 3 || maxLength > MAX_CYCLE_LENGTH) {
     throw new Error(`cycle length must be 3..${MAX_CYCLE_LENGTH}, got ${maxLength}`);
   }

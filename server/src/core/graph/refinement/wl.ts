@@ -21,7 +21,7 @@
  */
 import {
   disjointUnion, throwIfCancelled, undirectedEdgeCount,
-  type Cancel, type UndirectedGraph,
+  type Cancel, type UndirectedRows,
 } from '../structure/undirected';
 import { lowerBound, sortRange } from '../structure/csr';
 
@@ -214,7 +214,7 @@ export class Refiner {
    * instead of by signature: the same partitions, for callers that never compare colour ids across
    * graphs or refinements (see WlOptions.canonical).
    */
-  constructor(readonly g: UndirectedGraph, private readonly cancel?: Cancel, private readonly canonical = true) {
+  constructor(readonly g: UndirectedRows, private readonly cancel?: Cancel, private readonly canonical = true) {
     const n = g.n;
     this.nb = new Int32Array(g.indptr[n]!);
     this.hash = new Int32Array(n);
@@ -371,7 +371,7 @@ function startColours(n: number, initial: Int32Array | undefined): { colours: In
  * 1-WL colour refinement of the undirected view `g`. Stops at the first round that splits no
  * class (that round is not listed: the stable count comes last) or after `maxRounds` rounds.
  */
-export function refineWl(g: UndirectedGraph, options: WlOptions = {}): WlResult {
+export function refineWl(g: UndirectedRows, options: WlOptions = {}): WlResult {
   const n = g.n;
   const maxRounds = options.maxRounds ?? Number.MAX_SAFE_INTEGER;
   let { colours: cur, classes: k } = startColours(n, options.initial);
@@ -470,7 +470,7 @@ export interface WlComparison {
  * Refines the disjoint union of `a` and `b` jointly from a uniform start (or from `initial`
  * colours for the union: a's nodes first) and compares the two colour histograms round by round.
  */
-export function compareWl(a: UndirectedGraph, b: UndirectedGraph, options: WlOptions = {}): WlComparison {
+export function compareWl(a: UndirectedRows, b: UndirectedRows, options: WlOptions = {}): WlComparison {
   const u = disjointUnion(a, b);
   const n = u.n;
   const maxRounds = options.maxRounds ?? Number.MAX_SAFE_INTEGER;
@@ -513,7 +513,7 @@ export interface IsomorphismOptions {
  * Returns true or false, or null when the graphs have more than `maxNodes` nodes or the search
  * used up its budget. Different node or edge counts give false at any size.
  */
-export function isomorphic(a: UndirectedGraph, b: UndirectedGraph, options: IsomorphismOptions = {}): boolean | null {
+export function isomorphic(a: UndirectedRows, b: UndirectedRows, options: IsomorphismOptions = {}): boolean | null {
   if (a.n !== b.n || undirectedEdgeCount(a) !== undirectedEdgeCount(b)) return false;
   if (a.n > (options.maxNodes ?? 2000)) return null;
   let budget = options.budget ?? 20000;
@@ -609,7 +609,7 @@ export interface GraphComparison extends WlComparison {
  * isomorphic, so the search only runs when it cannot.
  */
 export function compareGraphs(
-  a: UndirectedGraph, b: UndirectedGraph,
+  a: UndirectedRows, b: UndirectedRows,
   options: { maxRounds?: number } & IsomorphismOptions = {},
 ): GraphComparison {
   const wl = compareWl(a, b, { ...(options.maxRounds !== undefined ? { maxRounds: options.maxRounds } : {}), ...(options.cancel ? { cancel: options.cancel } : {}) });

@@ -24,7 +24,7 @@ export interface UndirectedGraph extends Csr {
   readonly mult: Int32Array;
 }
 
-/** The rows of an undirected view without its multiplicities (all the curvature reads). */
+/** The rows of an undirected view without its multiplicities (all that 1-WL, the ceiling and the curvature read). */
 export type UndirectedRows = Pick<UndirectedGraph, 'n' | 'indptr' | 'indices'>;
 
 /**
@@ -112,7 +112,7 @@ export function undirectedFromEdges(n: number, src: Int32Array, dst: Int32Array)
 }
 
 /** Number of undirected edges (each counted once, multiplicities ignored). */
-export function undirectedEdgeCount(g: UndirectedGraph): number {
+export function undirectedEdgeCount(g: UndirectedRows): number {
   return g.indptr[g.n]! / 2;
 }
 
@@ -120,7 +120,7 @@ export function undirectedEdgeCount(g: UndirectedGraph): number {
  * The disjoint union of two undirected views: the nodes of `b` follow those of `a`
  * (node v of b becomes a.n + v).
  */
-export function disjointUnion(a: UndirectedGraph, b: UndirectedGraph): UndirectedGraph {
+export function disjointUnion(a: UndirectedRows, b: UndirectedRows): UndirectedRows {
   const n = a.n + b.n;
   const ea = a.indptr[a.n]!, eb = b.indptr[b.n]!;
   const indptr = new Int32Array(n + 1);
@@ -129,13 +129,5 @@ export function disjointUnion(a: UndirectedGraph, b: UndirectedGraph): Undirecte
   const indices = new Int32Array(ea + eb);
   indices.set(a.indices, 0);
   for (let k = 0; k < eb; k++) indices[ea + k] = b.indices[k]! + a.n;
-  // Multiplicities only when read (1-WL over a union never reads them).
-  let mult: Int32Array | undefined;
-  const joinMult = (): Int32Array => {
-    const m = new Int32Array(ea + eb);
-    m.set(a.mult, 0);
-    m.set(b.mult, ea);
-    return m;
-  };
-  return { n, indptr, indices, get mult(): Int32Array { return (mult ??= joinMult()); } };
+  return { n, indptr, indices };
 }
